@@ -1,0 +1,442 @@
+"""The month run: settings + canonical log + gas analyses → a MonthResult with every intermediate.
+
+One pipeline validates inputs once and runs the steps in order:
+
+1. absolute line pressure (gauge + atmospheric: barometer column, fixed value or elevation);
+2. the analysis in force for each interval;
+3. Z at line and base conditions with the chosen method, range flags;
+4. factors Fp, Ft, Zb/Zf; base volume (real gas) and the same with Z = 1; mass; energy;
+5. totals by gas day, month and analysis period; ideal-gas error findings; what correcting from
+   month-average pressure and temperature would have given.
+
+Uncertainty (meterfix.engine.uncertainty) and reconciliation (meterfix.engine.reconcile) attach
+their results to the same object.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+#: molar mass of dry air [kg/mol] (ISO 6976:2016, 28.96546 g/mol; from memory)
+MOLAR_MASS_AIR = 0.02896546
+from ..errors import SettingsError
+from ..gas.composition import Composition
+from ..gas.gross import GrossCharacterization
+from ..z import evaluate_z
+from ..z.base import OUTSIDE, RANGE_NAMES
+from ..z.registry import get_method
+from . import correct as K
+from .settings import Settings
+
+#: interval columns written by the pipeline, with their SI unit (for writers)
+INTERVAL_UNITS = {
+    "duration": "s", "pressure_line": "Pa", "pressure_atm": "Pa", "temperature_line": "K",
+    "volume_line": "m3", "analysis": "-", "z_line": "-", "z_base": "-", "factor_pressure": "-",
+    "factor_temperature": "-", "factor_z": "-", "volume_base": "m3", "volume_base_ideal": "m3",
+    "ideal_gas_error_pct": "%", "mass": "kg", "heating_value": "J/m3", "energy": "J",
+    "z_range": "-", "z_reason": "-", "estimated": "-", "gas_day": "-",
+}
+
+
+@dataclass
+class AnalysisInForce:
+    """One gas analysis and what the run derived from it."""
+
+    effective_from: pd.Timestamp | None
+    gas: Composition | GrossCharacterization
+    z_base: float = np.nan
+    molar_mass: float = np.nan  # [kg/mol]
+    heating_value: float = np.nan  # [J/m3] gross, real gas, at base conditions
+    heating_value_source: str = ""
+    density_base: float = np.nan  # [kg/m3]
+
+
+@dataclass
+class MonthResult:
+    """Everything a month run produced (SI throughout).
+
+    Attributes
+    ----------
+    settings : Settings
+    intervals : DataFrame      one row per interval (UTC index = interval end), INTERVAL_UNITS columns
+                               plus the reader's flag_* columns
+    gas_days : DataFrame       totals by gas day (index: gas-day date)
+    months : DataFrame         totals by month of gas day
+    analysis_periods : DataFrame totals by analysis in force
+    totals : dict              month totals (SI, keys as in the JSON summary)
+    findings : DataFrame       ideal-gas error days and contiguous periods above the threshold
+    average_correction : dict  the month corrected from average p and T, and its error
+    edits : DataFrame          substitutions made (from quality)
+    flags : dict               count of intervals by flag kind
+    analyses : list of AnalysisInForce
+    method : dict              name, edition, range text
+    inputs : list of dict      file names and sha256
+    warnings : list of str
+    uncertainty, reconciliation, corrector_check : filled by the later steps (or None)
+    """
+
+    settings: Settings
+    intervals: pd.DataFrame
+    gas_days: pd.DataFrame
+    months: pd.DataFrame
+    analysis_periods: pd.DataFrame
+    totals: dict
+    findings: pd.DataFrame
+    average_correction: dict
+    edits: pd.DataFrame
+    flags: dict
+    analyses: list
+    method: dict
+    inputs: list = field(default_factory=list)
+    log_metadata: object = None
+    warnings: list = field(default_factory=list)
+    uncertainty: object = None
+    reconciliation: object = None
+    corrector_check: object = None
+
+
+# ---------------------------------------------------------------------------------------------
+def absolute_pressure(frame: pd.DataFrame, settings: Settings):
+    """Absolute line pressure [Pa] and the atmospheric pressure used [Pa] for each interval."""
+    n = len(frame)
+    atm = None
+    atm_source = None
+    if "pressure_line" in frame.columns and frame["pressure_line"].notna().any() and "pressure_gauge" not in frame.columns:
+        return frame["pressure_line"].to_numpy(float), np.full(n, np.nan), "absolute in the log"
+    fixed = settings.pressure_atm
+    if fixed is None and settings.elevation is not None:
+        from ..atmosphere import pressure_from_elevation
+
+        fixed = float(pressure_from_elevation(settings.elevation))
+        atm_source = f"U.S. Standard Atmosphere 1976 at {settings.elevation:g} m"
+    elif fixed is not None:
+        atm_source = "fixed setting"
+    if settings.use_barometer and "pressure_atm" in frame.columns and frame["pressure_atm"].notna().any():
+        atm = frame["pressure_atm"].to_numpy(float).copy()
+        if fixed is not None:
+            atm = np.where(np.isfinite(atm), atm, fixed)
+        atm_source = "barometer column" + (f", gaps filled with the {atm_source}" if fixed is not None else "")
+    elif fixed is not None:
+        atm = np.full(n, fixed)
+    if atm is None:
+        raise SettingsError(
+            "the log's pressure is gauge but no atmospheric pressure is known",
+            hint="give --atmospheric-pressure (e.g. '14.4 psia'), --elevation (e.g. '180 m'), "
+                 "or a barometer column in the log",
+        )
+    return frame["pressure_gauge"].to_numpy(float) + atm, atm, atm_source
+
+
+def _heating_value(gas, settings: Settings):
+    """Gross real-gas volumetric heating value at base conditions [J/m3] and its source text."""
+    from .. import energy as E
+
+    if settings.heating_value is not None:
+        hv = settings.heating_value
+        tref = settings.heating_value_reference_temperature
+        pref = settings.heating_value_reference_pressure
+        if tref is None and pref is None:
+            return hv, "supplied, taken as stated at the contract base conditions"
+        tref = settings.temperature_base if tref is None else tref
+        pref = settings.pressure_base if pref is None else pref
+        comp = gas if isinstance(gas, Composition) else None
+        hv2 = E.convert_volumetric_heating_value(
+            hv, composition=comp, temperature_metering_from=tref, pressure_metering_from=pref,
+            temperature_metering_to=settings.temperature_base, pressure_metering_to=settings.pressure_base)
+        return float(hv2), "supplied, converted to the contract base conditions"
+    if isinstance(gas, Composition):
+        res = E.heating_value(gas, temperature_combustion=settings.temperature_combustion,
+                              temperature_metering=settings.temperature_base,
+                              pressure_metering=settings.pressure_base)
+        return float(res.gross_volumetric_real), f"ISO 6976:{res.edition} from the analysis"
+    if isinstance(gas, GrossCharacterization) and gas.heating_value is not None:
+        hv2 = E.convert_volumetric_heating_value(
+            gas.heating_value, composition=None, temperature_metering_from=gas.temperature_reference_density,
+            pressure_metering_from=gas.pressure_reference, temperature_metering_to=settings.temperature_base,
+            pressure_metering_to=settings.pressure_base)
+        return float(hv2), "gross characterisation, converted to the contract base conditions"
+    return np.nan, "unknown (no composition or supplied heating value)"
+
+
+def _molar_mass(gas) -> float:
+    if isinstance(gas, Composition):
+        return gas.molar_mass
+    if isinstance(gas, GrossCharacterization):
+        return gas.relative_density * MOLAR_MASS_AIR
+    return np.nan
+
+
+def _gas_day(index_utc: pd.DatetimeIndex, duration_s: np.ndarray, settings: Settings) -> pd.Index:
+    """Gas day of each interval: the local date on which the gas day containing its start began."""
+    start = index_utc - pd.to_timedelta(np.nan_to_num(duration_s, nan=0.0), unit="s")
+    local = start.tz_convert(settings.timezone)
+    shifted = local - pd.Timedelta(hours=settings.gas_day_start_hour)
+    # subtracting a fixed timedelta from a tz-aware local time keeps wall-clock arithmetic exact
+    # for DST days: the gas day is the local calendar date of (start − gas_day_start hours)
+    return pd.Index(shifted.tz_localize(None).normalize().date, name="gas_day")
+
+
+def _totals(df: pd.DataFrame) -> dict:
+    vb = df["volume_base"].to_numpy(float)
+    vi = df["volume_base_ideal"].to_numpy(float)
+    ok = np.isfinite(vb)
+    vl = df["volume_line"].to_numpy(float)
+    t = {
+        "uncorrected_volume_m3": float(np.nansum(vl)),
+        "base_volume_m3": float(np.nansum(vb)),
+        "ideal_gas_base_volume_m3": float(np.nansum(vi[ok])),
+        "mass_kg": float(np.nansum(df["mass"])),
+        "energy_MJ": float(np.nansum(df["energy"])) / 1e6 if np.isfinite(df["energy"]).any() else None,
+        "intervals": int(len(df)),
+        "intervals_without_result": int(np.count_nonzero(~ok & np.isfinite(vl) & (vl != 0))),
+        "uncorrected_volume_without_result_m3": float(np.nansum(vl[~ok])),
+    }
+    vbs = t["base_volume_m3"]
+    t["ideal_gas_error_pct"] = 100.0 * (t["ideal_gas_base_volume_m3"] / vbs - 1.0) if vbs else None
+    est = df["estimated"].to_numpy(bool) if "estimated" in df else np.zeros(len(df), bool)
+    t["estimated_volume_share_pct"] = 100.0 * float(np.nansum(vb[est])) / vbs if vbs else 0.0
+    return t
+
+
+def _group_totals(df: pd.DataFrame, key) -> pd.DataFrame:
+    g = df.groupby(key, sort=True)
+    out = pd.DataFrame({
+        "intervals": g.size(),
+        "hours": g["duration"].sum() / 3600.0,
+        "volume_line": g["volume_line"].sum(min_count=1),
+        "volume_base": g["volume_base"].sum(min_count=1),
+        "volume_base_ideal": g["volume_base_ideal"].sum(min_count=1),
+        "mass": g["mass"].sum(min_count=1),
+        "energy": g["energy"].sum(min_count=1),
+        "pressure_line_mean": g["pressure_line"].mean(),
+        "temperature_line_mean": g["temperature_line"].mean(),
+        "estimated_intervals": g["estimated"].sum(),
+        "flagged_intervals": g["flagged"].sum(),
+    })
+    out["ideal_gas_error_pct"] = 100.0 * (out["volume_base_ideal"] / out["volume_base"] - 1.0)
+    est_vol = df["volume_base"].where(df["estimated"]).groupby(key).sum(min_count=1)
+    out["estimated_volume_share_pct"] = (100.0 * est_vol / out["volume_base"]).fillna(0.0)
+    return out
+
+
+def _findings(df: pd.DataFrame, days: pd.DataFrame, threshold: float) -> pd.DataFrame:
+    """Gas days and contiguous interval periods where |ideal − real| exceeds the threshold."""
+    rows = []
+    hv_mean = df["energy"].sum() / df["volume_base"].sum() if df["volume_base"].sum() else np.nan
+    for day, r in days.iterrows():
+        if np.isfinite(r["ideal_gas_error_pct"]) and abs(r["ideal_gas_error_pct"]) > threshold:
+            dv = r["volume_base_ideal"] - r["volume_base"]
+            rows.append({"kind": "gas day", "start": str(day), "end": str(day), "intervals": int(r["intervals"]),
+                         "ideal_gas_error_pct": float(r["ideal_gas_error_pct"]), "volume_impact_m3": float(dv),
+                         "energy_impact_MJ": float(dv * (r["energy"] / r["volume_base"] if r["volume_base"] else hv_mean)) / 1e6})
+    err = df["ideal_gas_error_pct"].to_numpy(float)
+    over = np.isfinite(err) & (np.abs(err) > threshold)
+    if over.any():
+        edges = np.diff(np.concatenate([[0], over.astype(np.int8), [0]]))
+        starts = np.flatnonzero(edges == 1)
+        ends = np.flatnonzero(edges == -1)
+        vb = df["volume_base"].to_numpy(float)
+        vi = df["volume_base_ideal"].to_numpy(float)
+        en = df["energy"].to_numpy(float)
+        idx = df.index
+        dur = df["duration"].to_numpy(float)
+        for a, b in zip(starts, ends):
+            dv = float(np.nansum(vi[a:b]) - np.nansum(vb[a:b]))
+            vsum = float(np.nansum(vb[a:b]))
+            hv = float(np.nansum(en[a:b])) / vsum if vsum else np.nan
+            rows.append({"kind": "period", "start": (idx[a] - pd.Timedelta(seconds=float(np.nan_to_num(dur[a])))).isoformat(),
+                         "end": idx[b - 1].isoformat(), "intervals": int(b - a),
+                         "ideal_gas_error_pct": 100.0 * (float(np.nansum(vi[a:b])) / vsum - 1.0) if vsum else np.nan,
+                         "volume_impact_m3": dv, "energy_impact_MJ": dv * hv / 1e6 if np.isfinite(hv) else np.nan})
+    out = pd.DataFrame(rows, columns=["kind", "start", "end", "intervals", "ideal_gas_error_pct",
+                                      "volume_impact_m3", "energy_impact_MJ"])
+    if len(out):
+        out = out.reindex(out["volume_impact_m3"].abs().sort_values(ascending=False, kind="stable").index)
+        out.insert(0, "rank", np.arange(1, len(out) + 1))
+        out = out.reset_index(drop=True)
+    return out
+
+
+def _average_correction(df: pd.DataFrame, analyses, settings: Settings, method: str) -> dict:
+    """The month corrected from average p and T (time-weighted and volume-weighted)."""
+    ok = np.isfinite(df["volume_base"].to_numpy(float))
+    d = df[ok]
+    vl = float(d["volume_line"].sum())
+    real = float(d["volume_base"].sum())
+    out = {"interval_by_interval_m3": real}
+    if vl <= 0 or not len(d):
+        return out
+    w_time = d["duration"].to_numpy(float)
+    w_vol = d["volume_line"].to_numpy(float)
+    # the analysis in force for most of the volume
+    main = int(d.groupby("analysis")["volume_line"].sum().idxmax())
+    gas = analyses[main].gas
+    zb = analyses[main].z_base
+    for label, w in (("time_weighted", w_time), ("volume_weighted", w_vol)):
+        if not np.nansum(w) > 0:
+            continue
+        p = float(np.average(d["pressure_line"], weights=w))
+        t = float(np.average(d["temperature_line"], weights=w))
+        zl = float(evaluate_z(p, t, gas, method).z) if method != "ideal" else 1.0
+        vb = float(K.volume_at_base(vl, p, t, settings.pressure_base, settings.temperature_base, zl, zb))
+        out[label] = {"pressure_Pa": p, "temperature_K": t, "z_line": zl, "base_volume_m3": vb,
+                      "error_pct": 100.0 * (vb / real - 1.0) if real else None}
+    return out
+
+
+# ---------------------------------------------------------------------------------------------
+def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=None, edits=None) -> MonthResult:
+    """Correct every interval of a canonical log and total it.
+
+    Parameters
+    ----------
+    frame : DataFrame
+        Canonical log (meterfix.readers.read_log): UTC DatetimeIndex at interval end; columns
+        ``pressure_line`` [Pa abs] or ``pressure_gauge`` [Pa] (+ optional ``pressure_atm``),
+        ``temperature_line`` [K], ``volume_line`` [m3], ``duration`` [s], optional ``flag_*``
+        booleans and ``flag_estimated``.
+    analyses : list of (effective_from or None, Composition or GrossCharacterization)
+        In time order; the first applies from the start of the log.
+    settings : Settings
+    metadata : LogMetadata, optional
+    edits : DataFrame, optional   the substitution record from quality
+
+    Returns
+    -------
+    MonthResult
+    """
+    if settings.pressure_base is None or settings.temperature_base is None:
+        raise SettingsError("no contract base conditions are set",
+                            hint="give --base-pressure and --base-temperature, or --base PRESET")
+    method = get_method(settings.method)
+    if not len(frame):
+        raise SettingsError("the log has no intervals", hint="check the file and the column map")
+    for col in ("temperature_line", "volume_line"):
+        if col not in frame.columns:
+            raise SettingsError(f"the canonical log has no '{col}' column",
+                                hint="map the source column with --column or the site file's [columns] table")
+    analyses = list(analyses or [])
+    if not analyses:
+        if method.name != "ideal":
+            raise SettingsError("no gas analysis is given",
+                                hint="give --composition FILE (an analysis) or --gas 'methane=0.95,...'")
+        analyses = [(None, None)]
+    analyses = sorted(analyses, key=lambda a: pd.Timestamp.min.tz_localize("UTC") if a[0] is None else a[0])
+
+    df = pd.DataFrame(index=frame.index.copy())
+    duration = frame["duration"].to_numpy(float) if "duration" in frame.columns else np.full(len(frame), np.nan)
+    df["duration"] = duration
+    p, atm, atm_source = absolute_pressure(frame, settings)
+    df["pressure_line"] = p
+    df["pressure_atm"] = atm
+    df["temperature_line"] = frame["temperature_line"].to_numpy(float)
+    df["volume_line"] = frame["volume_line"].to_numpy(float)
+
+    # analysis in force for each interval: the latest one whose effective time is at or before the
+    # interval's start
+    eff = np.array([(pd.Timestamp.min.tz_localize("UTC") if a[0] is None else pd.Timestamp(a[0])).value
+                    for a in analyses], dtype=np.int64)
+    starts = (df.index - pd.to_timedelta(np.nan_to_num(duration), unit="s")).asi8
+    which = np.searchsorted(eff, starts, side="right") - 1
+    which = np.clip(which, 0, len(analyses) - 1)
+    df["analysis"] = which
+
+    n = len(df)
+    z_line = np.full(n, np.nan)
+    z_range = np.zeros(n, dtype=np.int8)
+    z_reason = np.full(n, "", dtype=object)
+    hv = np.full(n, np.nan)
+    rho_b = np.full(n, np.nan)
+    z_b = np.full(n, np.nan)
+    in_force = []
+    for k, (when, gas) in enumerate(analyses):
+        a = AnalysisInForce(when, gas)
+        if gas is None:
+            a.z_base = 1.0
+        else:
+            rb = evaluate_z(settings.pressure_base, settings.temperature_base, gas, method.name)
+            a.z_base = float(np.asarray(rb.z).reshape(-1)[0])
+            a.molar_mass = _molar_mass(gas)
+            a.heating_value, a.heating_value_source = _heating_value(gas, settings)
+            a.density_base = float(K.density_at_base(settings.pressure_base, settings.temperature_base,
+                                                     a.z_base, a.molar_mass))
+        in_force.append(a)
+        sel = which == k
+        if not sel.any():
+            continue
+        if gas is None:
+            z_line[sel] = 1.0
+        else:
+            res = evaluate_z(p[sel], df["temperature_line"].to_numpy(float)[sel], gas, method.name)
+            z_line[sel] = np.broadcast_to(res.z, (int(sel.sum()),))
+            z_range[sel] = np.broadcast_to(res.range_class, (int(sel.sum()),))
+            z_reason[sel] = np.broadcast_to(res.reason, (int(sel.sum()),))
+        z_b[sel] = a.z_base
+        hv[sel] = a.heating_value
+        rho_b[sel] = a.density_base
+
+    pb, tb = settings.pressure_base, settings.temperature_base
+    vl = df["volume_line"].to_numpy(float)
+    tl = df["temperature_line"].to_numpy(float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        fp = K.factor_pressure(p, pb)
+        ft = K.factor_temperature(tl, tb)
+        fz = z_b / z_line
+        vb = vl * fp * ft * fz
+        vi = vl * fp * ft
+    bad = ~np.isfinite(vb)
+    vi = np.where(bad, np.nan, vi)
+    df["z_line"] = z_line
+    df["z_base"] = z_b
+    df["factor_pressure"] = fp
+    df["factor_temperature"] = ft
+    df["factor_z"] = fz
+    df["volume_base"] = vb
+    df["volume_base_ideal"] = vi
+    df["ideal_gas_error_pct"] = K.ideal_gas_error_pct(vi, vb)
+    df["mass"] = vb * rho_b
+    df["heating_value"] = hv
+    df["energy"] = vb * hv
+    df["z_range"] = pd.Categorical.from_codes(z_range, categories=[RANGE_NAMES[i] for i in range(3)])
+    df["z_reason"] = z_reason
+    flag_cols = [c for c in frame.columns if c.startswith("flag_")]
+    for c in flag_cols:
+        df[c] = frame[c].to_numpy(bool)
+    df["flag_z_outside_range"] = z_range == OUTSIDE
+    df["flag_no_result"] = bad & np.isfinite(vl)
+    df["estimated"] = frame["flag_estimated"].to_numpy(bool) if "flag_estimated" in frame.columns else False
+    all_flags = [c for c in df.columns if c.startswith("flag_")]
+    df["flagged"] = df[all_flags].any(axis=1) if all_flags else False
+    df["gas_day"] = _gas_day(df.index, duration, settings)
+    days = _group_totals(df, "gas_day")
+    months_key = pd.Index([f"{d.year:04d}-{d.month:02d}" for d in df["gas_day"]], name="month")
+    months = _group_totals(df, months_key)
+    periods = _group_totals(df, "analysis")
+    periods.insert(0, "effective_from", [None if in_force[i].effective_from is None
+                                         else pd.Timestamp(in_force[i].effective_from).isoformat() for i in periods.index])
+    periods["z_base"] = [in_force[i].z_base for i in periods.index]
+    periods["heating_value"] = [in_force[i].heating_value for i in periods.index]
+    totals = _totals(df)
+    flags = {c[5:]: int(df[c].sum()) for c in all_flags}
+    findings = _findings(df, days, settings.ideal_gas_threshold_pct)
+    avg = _average_correction(df, in_force, settings, method.name) if in_force[0].gas is not None or method.name == "ideal" else {}
+    warn = []
+    if flags.get("z_outside_range"):
+        warn.append(f"{flags['z_outside_range']} interval(s) outside the range of {method.name}: see the z_range column")
+    if totals["intervals_without_result"]:
+        warn.append(f"{totals['intervals_without_result']} interval(s) with volume but no corrected result "
+                    f"({totals['uncorrected_volume_without_result_m3']:.6g} m3 uncorrected)")
+    inputs = list(getattr(metadata, "sources", []) or []) if metadata is not None else []
+    return MonthResult(
+        settings=settings, intervals=df, gas_days=days, months=months, analysis_periods=periods, totals=totals,
+        findings=findings, average_correction=avg,
+        edits=edits if edits is not None else pd.DataFrame(columns=["time", "what", "original", "new", "method", "reason"]),
+        flags=flags, analyses=in_force,
+        method={"name": method.name, "edition": method.edition, "range": method.range_text,
+                "atmospheric_pressure_source": atm_source},
+        inputs=inputs, log_metadata=metadata, warnings=warn,
+    )
+

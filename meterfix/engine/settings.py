@@ -1,0 +1,330 @@
+"""Site settings for a month run: from a TOML file and/or CLI options (the option wins).
+
+Every setting has one name, used the same way in the site file (``[site]`` table keys, or
+top-level keys) and as a CLI option (``base_pressure`` ⇔ ``--base-pressure``). Quantities are
+strings with units (``"14.73 psia"``, ``"15 degC"``, ``"180 m"``) and are converted to SI here.
+"""
+
+from __future__ import annotations
+
+import tomllib
+from dataclasses import asdict, dataclass, field, fields
+from pathlib import Path
+
+from ..errors import SettingsError, UnitError
+from ..units import parse_quantity, parse_unit
+
+#: Named base conditions of common contracts (common practice, see REFERENCES.md §5).
+BASE_PRESETS = {
+    "us-14.73-60f": ("14.73 psia", "60 degF", "US interstate contracts: 14.73 psia, 60 degF"),
+    "us-14.65-60f": ("14.65 psia", "60 degF", "some US contracts: 14.65 psia, 60 degF"),
+    "us-14.696-60f": ("14.696 psia", "60 degF", "14.696 psia (1 atm), 60 degF"),
+    "iso-15c": ("101.325 kPa", "15 degC", "ISO 13443 standard reference: 101.325 kPa, 15 degC"),
+    "normal-0c": ("101.325 kPa", "0 degC", "normal conditions: 101.325 kPa, 0 degC"),
+    "metric-20c": ("101.325 kPa", "20 degC", "101.325 kPa, 20 degC"),
+}
+
+#: Substitution policies for missing or bad intervals (see meterfix.engine.quality).
+SUBSTITUTION_POLICIES = ("none", "interpolate", "hold", "profile")
+
+
+@dataclass
+class Settings:
+    """Validated settings of one meter-month, in SI.
+
+    Attributes
+    ----------
+    meter : str                       meter name (display only; sanitised before any file name)
+    site : str                        site name (display only)
+    pressure_base : float [Pa]        contract base pressure (absolute)
+    temperature_base : float [K]      contract base temperature
+    base_preset : str or None         the preset name if one was used
+    pressure_atm : float or None [Pa] fixed atmospheric pressure for gauge → absolute
+    elevation : float or None [m]     site elevation, used for pressure_atm when it is not given
+    use_barometer : bool              use a logged barometer column where present
+    timezone : str                    IANA time zone of the logs' local clock times
+    gas_day_start_hour : int          local hour the gas day starts (e.g. 6 or 9)
+    interval_label : str              'end' (default) or 'start'
+    method : str                      Z method name
+    heating_value : float or None [J/m3]  supplied gross heating value (None: from composition)
+    heating_value_reference_temperature : float or None [K]  metering reference of the supplied value
+    heating_value_reference_pressure : float or None [Pa]
+    temperature_combustion : float [K]  combustion reference temperature for heating value (25 degC)
+    ideal_gas_threshold_pct : float   |ideal − real| above this is a finding (default 0.5 %)
+    substitution : str                none, interpolate, hold or profile
+    max_gap_intervals : int           longest gap filled by interpolate/hold (intervals)
+    price_per_energy : float or None [currency/J]
+    currency : str
+    invoice_tolerance_pct : float or None  contract tolerance for invoice differences
+    uncertainty : dict                uncertainty inputs by name (see meterfix.engine.uncertainty)
+    column_map : dict                 explicit source header → canonical name
+    display_units : dict              output display units by kind (volume, energy, pressure ...)
+    fail_on : float or None           exit 1 when a finding exceeds this (percent)
+    """
+
+    meter: str = "meter"
+    site: str = ""
+    pressure_base: float | None = None
+    temperature_base: float | None = None
+    base_preset: str | None = None
+    pressure_atm: float | None = None
+    elevation: float | None = None
+    use_barometer: bool = True
+    timezone: str = "UTC"
+    gas_day_start_hour: int = 6
+    interval_label: str = "end"
+    method: str = "aga8-detail"
+    heating_value: float | None = None
+    heating_value_reference_temperature: float | None = None
+    heating_value_reference_pressure: float | None = None
+    temperature_combustion: float = 298.15
+    ideal_gas_threshold_pct: float = 0.5
+    substitution: str = "none"
+    max_gap_intervals: int = 3
+    price_per_energy: float | None = None
+    currency: str = ""
+    invoice_tolerance_pct: float | None = None
+    uncertainty: dict = field(default_factory=dict)
+    column_map: dict = field(default_factory=dict)
+    display_units: dict = field(default_factory=dict)
+    fail_on: float | None = None
+    register_digits: int | None = None
+    sources: dict = field(default_factory=dict)  # setting name -> 'default' | 'site file' | 'option'
+
+    def to_record(self) -> dict:
+        """Plain dict for the manifest and JSON summary (SI values)."""
+        d = asdict(self)
+        return d
+
+
+# setting name -> (kind of quantity or type, description) ; used by the TOML loader and CLI
+SETTING_KINDS = {
+    "meter": (str, "meter name"),
+    "site": (str, "site name"),
+    "base": (str, "named base conditions: " + ", ".join(BASE_PRESETS)),
+    "base_pressure": ("pressure", "contract base pressure, absolute, e.g. '14.73 psia'"),
+    "base_temperature": ("temperature", "contract base temperature, e.g. '60 degF'"),
+    "atmospheric_pressure": ("pressure", "fixed atmospheric pressure, e.g. '14.4 psia'"),
+    "elevation": ("length", "site elevation for the standard atmosphere, e.g. '180 m'"),
+    "use_barometer": (bool, "use a logged barometer column where present"),
+    "timezone": (str, "IANA time zone of the logs' clock, e.g. 'America/Chicago'"),
+    "gas_day_start": (str, "local start of the gas day, 'HH:MM' or hour, e.g. '09:00'"),
+    "interval_label": (str, "'end' (default) or 'start': which end of its interval a timestamp marks"),
+    "method": (str, "Z method"),
+    "heating_value": ("heating_value", "supplied gross heating value, e.g. '38.6 MJ/m3' or '1030 Btu/scf'"),
+    "heating_value_reference_temperature": ("temperature", "metering reference temperature of the supplied heating value"),
+    "heating_value_reference_pressure": ("pressure", "metering reference pressure of the supplied heating value"),
+    "combustion_temperature": ("temperature", "combustion reference temperature, default 25 degC"),
+    "ideal_gas_threshold": (float, "percent; |ideal − real| above this is a finding"),
+    "substitution": (str, "none, interpolate, hold or profile"),
+    "max_gap_intervals": (int, "longest gap substituted, in intervals"),
+    "price": ("price", "price of energy, e.g. '3.20 USD/MMBtu' or '0.031 EUR/kWh'"),
+    "invoice_tolerance": (float, "percent; contract tolerance for invoice differences"),
+    "fail_on": (float, "percent; exit code 1 when a finding exceeds it"),
+    "register_digits": (int, "digits of the meter index register (rollover at 10^n)"),
+}
+
+
+def _parse_price(text: str):
+    import re
+
+    m = re.match(r"^\s*([-+]?[\d.,]+(?:[eE][-+]?\d+)?)\s*([A-Za-z$€£]*)\s*/\s*(\S+)\s*$", str(text))
+    if not m:
+        raise SettingsError(f"price '{text}' is not a price per energy unit", hint="write e.g. '3.20 USD/MMBtu'")
+    value = float(m.group(1).replace(",", "."))
+    unit = parse_unit(m.group(3), "energy")
+    return value / unit.scale, m.group(2)
+
+
+def _hour(text) -> int:
+    s = str(text).strip()
+    try:
+        if ":" in s:
+            h, mnt = s.split(":", 1)
+            if int(mnt) != 0:
+                raise SettingsError(f"gas_day_start '{text}': only whole hours are supported", hint="e.g. '06:00'")
+            h = int(h)
+        else:
+            h = int(float(s))
+    except ValueError:
+        raise SettingsError(f"gas_day_start '{text}' is not a time of day", hint="write e.g. '06:00' or '09:00'") from None
+    if not 0 <= h <= 23:
+        raise SettingsError(f"gas_day_start '{text}' is not between 00:00 and 23:00")
+    return h
+
+
+def load_site_file(path) -> dict:
+    """Read a site TOML file into a flat dict of raw setting values."""
+    p = Path(path)
+    if not p.exists():
+        raise SettingsError("site file not found", file=p, hint="check the path given to --site")
+    if p.is_dir():
+        raise SettingsError("site file is a folder, not a TOML file", file=p)
+    try:
+        data = tomllib.loads(p.read_text(encoding="utf-8-sig"))
+    except (tomllib.TOMLDecodeError, UnicodeDecodeError) as exc:
+        raise SettingsError(f"site file is not valid TOML: {exc}", file=p,
+                            hint="see templates/site.toml for the layout") from None
+    flat = {}
+    for key, value in data.items():
+        if isinstance(value, dict) and key in ("site", "settings", "meter_settings", "uncertainty", "columns", "display_units"):
+            if key == "uncertainty":
+                flat["uncertainty"] = dict(value)
+            elif key == "columns":
+                flat["column_map"] = dict(value)
+            elif key == "display_units":
+                flat["display_units"] = dict(value)
+            else:
+                flat.update(value)
+        else:
+            flat[key] = value
+    unknown = [k for k in flat if k not in SETTING_KINDS and k not in ("uncertainty", "column_map", "display_units")]
+    if unknown:
+        raise SettingsError(f"unknown setting(s) {', '.join(unknown)}", file=p,
+                            hint="known settings: " + ", ".join(SETTING_KINDS))
+    return flat
+
+
+def build_settings(site_file=None, options: dict | None = None, *, require_base: bool = True) -> Settings:
+    """Merge defaults, the site file and CLI options (the option wins) into validated SI Settings.
+
+    Parameters
+    ----------
+    site_file : path or None
+    options : dict
+        Raw option values by setting name (strings with units for quantities); None values are
+        ignored.
+    require_base : bool
+        Raise when no base pressure/temperature is given (the contract must say).
+    """
+    raw: dict = {}
+    src: dict = {}
+    file_label = None
+    if site_file is not None:
+        file_label = str(site_file)
+        for k, v in load_site_file(site_file).items():
+            raw[k] = v
+            src[k] = "site file"
+    for k, v in (options or {}).items():
+        if v is None:
+            continue
+        if k in ("uncertainty", "column_map", "display_units") and isinstance(v, dict):
+            merged = dict(raw.get(k, {}))
+            merged.update({kk: vv for kk, vv in v.items() if vv is not None})
+            raw[k] = merged
+        else:
+            raw[k] = v
+        src[k] = "option"
+
+    s = Settings()
+
+    def fail(name, msg, hint=None):
+        raise SettingsError(f"setting '{name}': {msg}", file=file_label if src.get(name) == "site file" else None,
+                            hint=hint or f"set it in the site file as {name} = ... or with --{name.replace('_', '-')}")
+
+    def qty(name, kind):
+        v = raw[name]
+        try:
+            return parse_quantity(str(v), kind)
+        except UnitError as exc:
+            fail(name, exc.message, exc.hint)
+
+    for name in ("meter", "site", "timezone", "method", "substitution", "interval_label"):
+        if name in raw:
+            setattr(s, name, str(raw[name]))
+    if "base" in raw:
+        key = str(raw["base"]).strip().lower()
+        if key not in BASE_PRESETS:
+            fail("base", f"unknown base preset '{raw['base']}'", "known presets: " + ", ".join(BASE_PRESETS))
+        pb, tb, _ = BASE_PRESETS[key]
+        s.pressure_base = parse_quantity(pb, "pressure").value
+        s.temperature_base = parse_quantity(tb, "temperature").value
+        s.base_preset = key
+    if "base_pressure" in raw:
+        q = qty("base_pressure", "pressure")
+        if q.is_gauge:
+            fail("base_pressure", "a base pressure is absolute; got a gauge unit", "write e.g. '14.73 psia' or '101.325 kPa'")
+        s.pressure_base = q.value
+        s.base_preset = None
+    if "base_temperature" in raw:
+        s.temperature_base = qty("base_temperature", "temperature").value
+        s.base_preset = None if "base_pressure" in raw else s.base_preset
+    if "atmospheric_pressure" in raw:
+        q = qty("atmospheric_pressure", "pressure")
+        if q.is_gauge:
+            fail("atmospheric_pressure", "atmospheric pressure is absolute; got a gauge unit")
+        s.pressure_atm = q.value
+    if "elevation" in raw:
+        s.elevation = qty("elevation", "length").value
+    if "heating_value" in raw:
+        s.heating_value = qty("heating_value", "heating_value").value
+    if "heating_value_reference_temperature" in raw:
+        s.heating_value_reference_temperature = qty("heating_value_reference_temperature", "temperature").value
+    if "heating_value_reference_pressure" in raw:
+        s.heating_value_reference_pressure = qty("heating_value_reference_pressure", "pressure").value
+    if "combustion_temperature" in raw:
+        s.temperature_combustion = qty("combustion_temperature", "temperature").value
+    if "gas_day_start" in raw:
+        s.gas_day_start_hour = _hour(raw["gas_day_start"])
+    for name, attr, typ in (("ideal_gas_threshold", "ideal_gas_threshold_pct", float),
+                            ("invoice_tolerance", "invoice_tolerance_pct", float),
+                            ("fail_on", "fail_on", float), ("max_gap_intervals", "max_gap_intervals", int),
+                            ("register_digits", "register_digits", int)):
+        if name in raw:
+            try:
+                val = typ(raw[name])
+            except (TypeError, ValueError):
+                fail(name, f"'{raw[name]}' is not a number")
+            if val < 0:
+                fail(name, f"{val} is negative")
+            setattr(s, attr, val)
+    for name in ("use_barometer",):
+        if name in raw:
+            v = raw[name]
+            if isinstance(v, str):
+                if v.lower() not in ("true", "false", "yes", "no", "1", "0"):
+                    fail(name, f"'{v}' is not true or false")
+                v = v.lower() in ("true", "yes", "1")
+            setattr(s, name, bool(v))
+    if "price" in raw:
+        s.price_per_energy, s.currency = _parse_price(raw["price"])
+    for name in ("uncertainty", "column_map", "display_units"):
+        if name in raw:
+            setattr(s, name, dict(raw[name]))
+
+    # validation
+    if s.interval_label not in ("end", "start"):
+        fail("interval_label", f"'{s.interval_label}' is not 'end' or 'start'")
+    if s.substitution not in SUBSTITUTION_POLICIES:
+        fail("substitution", f"'{s.substitution}' is not one of {', '.join(SUBSTITUTION_POLICIES)}")
+    try:
+        from zoneinfo import ZoneInfo
+
+        ZoneInfo(s.timezone)
+    except Exception:  # noqa: BLE001 - zoneinfo raises several types for a bad key
+        fail("timezone", f"unknown time zone '{s.timezone}'", "use an IANA name such as 'Europe/Berlin' or 'America/Chicago'")
+    from ..z import method_names
+    from ..z.registry import get_method
+
+    try:
+        s.method = get_method(s.method).name
+    except SettingsError as exc:
+        fail("method", exc.message, exc.hint)
+    if require_base and (s.pressure_base is None or s.temperature_base is None):
+        missing = "base_pressure" if s.pressure_base is None else "base_temperature"
+        raise SettingsError(
+            f"no contract {missing.replace('_', ' ')} is set",
+            hint=f"give --{missing.replace('_', '-')} (e.g. '14.73 psia' / '60 degF'), --base PRESET "
+                 f"({', '.join(BASE_PRESETS)}), or set it in the site file",
+        )
+    if s.pressure_base is not None and not (50e3 <= s.pressure_base <= 200e3):
+        fail("base_pressure", f"{s.pressure_base:.0f} Pa is not a plausible base pressure (50-200 kPa)")
+    if s.temperature_base is not None and not (250.0 <= s.temperature_base <= 310.0):
+        fail("base_temperature", f"{s.temperature_base:.2f} K is not a plausible base temperature")
+    if s.pressure_atm is not None and not (40e3 <= s.pressure_atm <= 110e3):
+        fail("atmospheric_pressure", f"{s.pressure_atm:.0f} Pa is not a plausible atmospheric pressure (40-110 kPa)")
+    s.sources = {f.name: "default" for f in fields(Settings)}
+    for k, v in src.items():
+        s.sources[k] = v
+    _ = method_names
+    return s

@@ -1,0 +1,82 @@
+"""The JSON summary of a month run: SI values under fixed keys, display units kept separate."""
+
+from __future__ import annotations
+
+import json
+import math
+
+import numpy as np
+
+from .. import __version__
+
+CAUTION = (
+    "Results support engineering review, reconciliation and invoice queries. meterfix is not a "
+    "legally approved volume conversion device and no substitute for the contract's measurement "
+    "provisions, the applicable legal-metrology rules, or certified equipment and licensed practice. "
+    "Methods are only as good as their range: rows outside it are flagged."
+)
+
+
+def _clean(obj):
+    """JSON-safe, deterministic: NaN/inf → None, numpy scalars → Python, sorted dict keys later."""
+    if isinstance(obj, dict):
+        return {str(k): _clean(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple)):
+        return [_clean(v) for v in obj]
+    if isinstance(obj, (np.floating, float)):
+        v = float(obj)
+        return None if not math.isfinite(v) else v
+    if isinstance(obj, (np.integer,)):
+        return int(obj)
+    if isinstance(obj, (np.bool_,)):
+        return bool(obj)
+    if hasattr(obj, "isoformat"):
+        return obj.isoformat()
+    return obj
+
+
+def build_summary(result) -> dict:
+    """The summary dict of a MonthResult (contract of DESIGN.md)."""
+    s = result.settings
+    t = dict(result.totals)
+    unc = result.uncertainty
+    t["expanded_uncertainty_pct"] = None if unc is None else getattr(unc, "expanded_pct", None)
+    summary = {
+        "tool": {"name": "meterfix", "version": __version__},
+        "caution": CAUTION,
+        "meter": s.meter,
+        "site": s.site,
+        "method": dict(result.method),
+        "base_conditions": {"pressure_Pa": s.pressure_base, "temperature_K": s.temperature_base,
+                            "preset": s.base_preset},
+        "combustion_reference_temperature_K": s.temperature_combustion,
+        "totals": t,
+        "average_correction": result.average_correction,
+        "analyses": [{"effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,
+                      "heating_value_J_per_m3": a.heating_value, "heating_value_source": a.heating_value_source,
+                      "gas": (a.gas.as_dict() if hasattr(a.gas, "as_dict") else
+                              (a.gas.__dict__ if a.gas is not None else None))}
+                     for a in result.analyses],
+        "flags": dict(sorted(result.flags.items())),
+        "findings": result.findings.to_dict(orient="records"),
+        "gas_days": [{"gas_day": str(k), **{c: v for c, v in r.items()}} for k, r in
+                     result.gas_days[["volume_line", "volume_base", "volume_base_ideal", "energy",
+                                      "ideal_gas_error_pct"]].iterrows()],
+        "edits": int(len(result.edits)),
+        "warnings": list(result.warnings),
+        "inputs": list(result.inputs),
+        "settings_sources": {k: v for k, v in sorted(s.sources.items()) if v != "default"},
+    }
+    if unc is not None and hasattr(unc, "to_summary"):
+        summary["uncertainty"] = unc.to_summary()
+    if result.reconciliation is not None and hasattr(result.reconciliation, "to_summary"):
+        summary["invoice"] = result.reconciliation.to_summary()
+    if result.corrector_check is not None and hasattr(result.corrector_check, "to_summary"):
+        summary["corrector_check"] = result.corrector_check.to_summary()
+    return _clean(summary)
+
+
+def summary_json(result_or_summary) -> str:
+    """Deterministic JSON text (sorted keys, fixed float repr)."""
+    d = result_or_summary if isinstance(result_or_summary, dict) else build_summary(result_or_summary)
+    return json.dumps(_clean(d), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
