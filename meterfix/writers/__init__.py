@@ -1,0 +1,58 @@
+"""Writers: JSON summary, interval tables, workbook, run manifest."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+from .atomic import safe_name, write_text
+from .summary import build_summary, summary_json
+from .tables import write_gas_day_csv, write_interval_csv
+
+
+def output_stem(result) -> str:
+    """'<meter>_<YYYY-MM>' (or a range of months), safe as a file name."""
+    months = list(result.months.index)
+    span = months[0] if len(months) == 1 else f"{months[0]}_to_{months[-1]}" if months else "empty"
+    return f"{safe_name(result.settings.meter)}_{span}"
+
+
+def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None) -> dict:
+    """Write every output of a month run into ``out_dir``; returns {kind: path}.
+
+    Everything is computed before the first file is written, and every file is written to a
+    temporary name and renamed, so a failed or killed run leaves no partial output.
+    """
+    out = Path(out_dir)
+    if out.exists() and not out.is_dir():
+        from ..errors import InputError
+        raise InputError("--out is a file, not a folder", file=out)
+    stem = output_stem(result)
+    summary = summary_json(result)
+    written = {}
+    try:
+        from .workbook import write_workbook
+    except ModuleNotFoundError as exc:
+        if exc.name != "meterfix.writers.workbook":
+            raise
+        write_workbook = None
+    targets = {"summary": out / f"{stem}_summary.json", "intervals": out / f"{stem}_intervals.csv",
+               "gas_days": out / f"{stem}_gas_days.csv"}
+    if write_workbook is not None:
+        targets["workbook"] = out / f"{stem}.xlsx"
+    from .atomic import check_target
+
+    for p in targets.values():
+        check_target(p, overwrite=overwrite)
+    out.mkdir(parents=True, exist_ok=True)
+    written["intervals"] = write_interval_csv(result, targets["intervals"], overwrite=overwrite)
+    written["gas_days"] = write_gas_day_csv(result, targets["gas_days"], overwrite=overwrite)
+    if write_workbook is not None:
+        written["workbook"] = write_workbook(result, targets["workbook"], overwrite=overwrite,
+                                             interval_csv=targets["intervals"].name)
+    written["summary"] = write_text(targets["summary"], summary, overwrite=overwrite)
+    if json_file is not None:
+        written["json"] = write_text(json_file, summary, overwrite=True)
+    return written
+
+
+__all__ = ["build_summary", "summary_json", "write_outputs", "output_stem"]

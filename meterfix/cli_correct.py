@@ -1,0 +1,113 @@
+"""`meterfix correct`: the month run from the command line."""
+
+from __future__ import annotations
+
+from pathlib import Path
+from typing import List, Optional
+
+import typer
+
+from .cli import _fail, app
+from .errors import MeterfixError
+
+#: CLI option → setting name (every setting is also a site-file key of the same name)
+_OPTION_SETTINGS = ("meter", "site", "base", "base_pressure", "base_temperature", "atmospheric_pressure",
+                    "elevation", "timezone", "gas_day_start", "interval_label", "method", "heating_value",
+                    "heating_value_reference_temperature", "heating_value_reference_pressure",
+                    "combustion_temperature", "ideal_gas_threshold", "substitution", "max_gap_intervals",
+                    "price", "invoice_tolerance", "fail_on", "register_digits")
+
+
+def _column_map(items):
+    out = {}
+    for it in items or []:
+        if "=" not in it:
+            from .errors import SettingsError
+            raise SettingsError(f"--column '{it}' is not SOURCE=NAME",
+                                hint="e.g. --column 'P1 (barg)=pressure_gauge'")
+        k, v = it.rsplit("=", 1)
+        out[k.strip()] = v.strip()
+    return out
+
+
+@app.command("correct")
+def correct_command(
+    logs: List[Path] = typer.Argument(..., help="Log file(s) of one meter (CSV, TXT, XLSX, XLSM, XLS, ODS); several files are joined in time order."),
+    out: Path = typer.Option(..., "--out", help="Folder for the outputs (created if missing)."),
+    site_file: Optional[Path] = typer.Option(None, "--site", help="Site settings TOML; options given here override it."),
+    composition: Optional[Path] = typer.Option(None, "--composition", help="Gas-analysis file (one analysis, or a table with effective-from times)."),
+    gas: Optional[str] = typer.Option(None, "--gas", help="Gas as 'methane=0.95,ethane=0.03,...' instead of --composition."),
+    method: Optional[str] = typer.Option(None, "--method", help="Z method (default aga8-detail); 'meterfix methods' lists them."),
+    base: Optional[str] = typer.Option(None, "--base", help="Named base conditions: us-14.73-60f, us-14.65-60f, us-14.696-60f, iso-15c, normal-0c, metric-20c."),
+    base_pressure: Optional[str] = typer.Option(None, "--base-pressure", help="Contract base pressure, absolute: '14.73 psia', '101.325 kPa'."),
+    base_temperature: Optional[str] = typer.Option(None, "--base-temperature", help="Contract base temperature: '60 degF', '15 degC'."),
+    atmospheric_pressure: Optional[str] = typer.Option(None, "--atmospheric-pressure", help="Fixed atmospheric pressure for gauge logs: '14.4 psia', '99.2 kPa'."),
+    elevation: Optional[str] = typer.Option(None, "--elevation", help="Site elevation for the standard atmosphere: '180 m', '5000 ft'."),
+    timezone: Optional[str] = typer.Option(None, "--timezone", help="IANA time zone of the log's clock (default UTC), e.g. 'America/Chicago'."),
+    gas_day_start: Optional[str] = typer.Option(None, "--gas-day-start", help="Local start of the gas day, e.g. '09:00' (default 06:00)."),
+    interval_label: Optional[str] = typer.Option(None, "--interval-label", help="'end' (default) or 'start': which end of the interval a timestamp marks."),
+    heating_value: Optional[str] = typer.Option(None, "--heating-value", help="Supplied gross heating value instead of the analysis, e.g. '38.6 MJ/m3'."),
+    heating_value_reference_temperature: Optional[str] = typer.Option(None, "--heating-value-reference-temperature", help="Metering reference temperature of --heating-value."),
+    heating_value_reference_pressure: Optional[str] = typer.Option(None, "--heating-value-reference-pressure", help="Metering reference pressure of --heating-value."),
+    combustion_temperature: Optional[str] = typer.Option(None, "--combustion-temperature", help="Combustion reference temperature (default 25 degC)."),
+    ideal_gas_threshold: Optional[float] = typer.Option(None, "--ideal-gas-threshold", help="Percent; |ideal − real| above it is a finding (default 0.5)."),
+    substitution: Optional[str] = typer.Option(None, "--substitution", help="Fill gaps: none (default), interpolate, hold, profile."),
+    max_gap_intervals: Optional[int] = typer.Option(None, "--max-gap-intervals", help="Longest gap filled, in intervals (default 3)."),
+    register_digits: Optional[int] = typer.Option(None, "--register-digits", help="Digits of the meter index register (rollover at 10^n)."),
+    column: Optional[List[str]] = typer.Option(None, "--column", help="Map a source header to a canonical name: 'SOURCE=NAME' (repeatable)."),
+    meter: Optional[str] = typer.Option(None, "--meter", help="Meter name used in outputs."),
+    site: Optional[str] = typer.Option(None, "--site-name", help="Site name used in outputs."),
+    invoice: Optional[Path] = typer.Option(None, "--invoice", help="Supplier invoice to reconcile (CSV/XLSX)."),
+    price: Optional[str] = typer.Option(None, "--price", help="Energy price for money impact, e.g. '3.20 USD/MMBtu'."),
+    invoice_tolerance: Optional[float] = typer.Option(None, "--invoice-tolerance", help="Contract tolerance for invoice differences, percent."),
+    meter_uncertainty: Optional[str] = typer.Option(None, "--meter-uncertainty", help="Meter uncertainty: '1 %' (k=2) or 'mpe 1 %'."),
+    pressure_uncertainty: Optional[str] = typer.Option(None, "--pressure-uncertainty", help="Line pressure: '0.25 %' of absolute pressure or '2 kPa' (k=2), or 'mpe ...'."),
+    temperature_uncertainty: Optional[str] = typer.Option(None, "--temperature-uncertainty", help="Line temperature: '0.5 K' (k=2) or 'mpe ...'."),
+    atmospheric_uncertainty: Optional[str] = typer.Option(None, "--atmospheric-uncertainty", help="Atmospheric pressure: '0.5 kPa' (k=2)."),
+    z_uncertainty: Optional[str] = typer.Option(None, "--z-uncertainty", help="Z method: '0.1 %' (k=2); default from the method's range."),
+    json_file: Optional[Path] = typer.Option(None, "--json", help="Also write the JSON summary to this file."),
+    fail_on: Optional[float] = typer.Option(None, "--fail-on", help="Exit 1 when a finding (ideal-gas, invoice or corrector error) exceeds this percent."),
+    overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
+    manifest: Optional[Path] = typer.Option(None, "--manifest", help="Re-run a month exactly from a run manifest written earlier."),
+    quiet: bool = typer.Option(False, "--quiet", help="No console summary."),
+):
+    """Correct a month of one meter's log to contract base conditions and write the outputs."""
+    try:
+        code = _correct(locals())
+    except MeterfixError as exc:
+        _fail(exc)
+    raise typer.Exit(code)
+
+
+def _correct(a: dict) -> int:
+    from .engine.run import run_files
+    from .engine.settings import build_settings
+
+    options = {k: a.get(k) for k in _OPTION_SETTINGS}
+    options["column_map"] = _column_map(a.get("column")) or None
+    unc = {k: a.get(f"{k}_uncertainty") for k in ("meter", "pressure", "temperature", "atmospheric", "z")}
+    options["uncertainty"] = {k: v for k, v in unc.items() if v is not None} or None
+    settings = build_settings(a.get("site_file"), options)
+    from .writers.atomic import protect_inputs
+
+    inputs = list(a["logs"]) + [p for p in (a.get("composition"), a.get("invoice"), a.get("site_file")) if p]
+    protect_inputs(inputs)
+    result = run_files(a["logs"], settings, composition=a.get("composition"), gas=a.get("gas"),
+                       invoice=a.get("invoice"))
+    from .writers import write_outputs
+
+    written = write_outputs(result, a["out"], overwrite=a.get("overwrite", False), json_file=a.get("json_file"))
+    if not a.get("quiet"):
+        from .console import print_summary
+
+        print_summary(result, written)
+    return _exit_code(result, settings.fail_on)
+
+
+def _exit_code(result, fail_on) -> int:
+    if fail_on is None:
+        return 0
+    worst = abs(result.totals.get("ideal_gas_error_pct") or 0.0)
+    if len(result.findings):
+        worst = max(worst, float(result.findings["ideal_gas_error_pct"].abs().max()))
+    return 1 if worst > fail_on else 0
