@@ -188,7 +188,7 @@ def _totals(df: pd.DataFrame) -> dict:
         "uncorrected_volume_m3": float(np.nansum(vl)),
         "base_volume_m3": float(np.nansum(vb)),
         "ideal_gas_base_volume_m3": float(np.nansum(vi[ok])),
-        "mass_kg": float(np.nansum(df["mass"])),
+        "mass_kg": float(np.nansum(df["mass"])) if np.isfinite(df["mass"]).any() else None,
         "energy_MJ": float(np.nansum(df["energy"])) / 1e6 if np.isfinite(df["energy"]).any() else None,
         "intervals": int(len(df)),
         "intervals_without_result": int(np.count_nonzero(~ok & np.isfinite(vl) & (vl != 0))),
@@ -202,6 +202,10 @@ def _totals(df: pd.DataFrame) -> dict:
 
 
 def _group_totals(df: pd.DataFrame, key) -> pd.DataFrame:
+    if isinstance(key, str):
+        key = df[key]
+    key = pd.Series(np.asarray(key, dtype=object) if not isinstance(key, pd.Series) else key.to_numpy(),
+                    index=df.index, name=getattr(key, "name", None))
     g = df.groupby(key, sort=True)
     out = pd.DataFrame({
         "intervals": g.size(),
