@@ -111,3 +111,48 @@ def _exit_code(result, fail_on) -> int:
     if len(result.findings):
         worst = max(worst, float(result.findings["ideal_gas_error_pct"].abs().max()))
     return 1 if worst > fail_on else 0
+
+
+@app.command("fleet")
+def fleet_command(
+    folder: Path = typer.Argument(..., help="Folder with one sub-folder per meter, each holding a site.toml and its logs."),
+    out: Path = typer.Option(..., "--out", help="Folder for the outputs: one sub-folder per meter plus fleet_summary.csv/json."),
+    workers: int = typer.Option(1, "--workers", min=1, help="Meters processed in parallel (processes)."),
+    method: Optional[str] = typer.Option(None, "--method", help="Z method for every meter (overrides site files)."),
+    base: Optional[str] = typer.Option(None, "--base", help="Named base conditions for every meter."),
+    base_pressure: Optional[str] = typer.Option(None, "--base-pressure", help="Base pressure for every meter."),
+    base_temperature: Optional[str] = typer.Option(None, "--base-temperature", help="Base temperature for every meter."),
+    overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
+):
+    """Correct the month of many meters (one folder each) and write a fleet summary."""
+    try:
+        _fleet(folder, out, workers, {"method": method, "base": base, "base_pressure": base_pressure,
+                                      "base_temperature": base_temperature}, overwrite)
+    except MeterfixError as exc:
+        _fail(exc)
+
+
+def _fleet(folder, out, workers, options, overwrite):
+    import io
+    import json
+
+    import pandas as pd
+
+    from .engine.fleet import run_fleet
+    from .writers.atomic import write_bytes, write_text
+    from .writers.summary import _clean
+
+    rows = run_fleet(folder, out, {k: v for k, v in options.items() if v is not None},
+                     workers=workers, overwrite=overwrite)
+    df = pd.DataFrame(rows)
+    buf = io.StringIO()
+    df.to_csv(buf, index=False, lineterminator="\n", float_format="%.10g")
+    write_bytes(Path(out) / "fleet_summary.csv", buf.getvalue().encode(), overwrite=True)
+    write_text(Path(out) / "fleet_summary.json", json.dumps(_clean(rows), indent=2, sort_keys=True) + "\n", overwrite=True)
+    ok = sum(r["status"] == "ok" for r in rows)
+    typer.echo(f"meterfix fleet: {ok} of {len(rows)} meters corrected; summary in {Path(out) / 'fleet_summary.csv'}")
+    for r in rows:
+        if r["status"] != "ok":
+            typer.echo(f"  {r['meter_folder']}: {r['error']}", err=True)
+    if ok < len(rows):
+        raise typer.Exit(2)

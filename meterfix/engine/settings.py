@@ -89,6 +89,7 @@ class Settings:
     display_units: dict = field(default_factory=dict)
     fail_on: float | None = None
     register_digits: int | None = None
+    files: dict = field(default_factory=dict)  # [files] table: logs (globs), composition, invoice
     sources: dict = field(default_factory=dict)  # setting name -> 'default' | 'site file' | 'option'
 
     def to_record(self) -> dict:
@@ -167,8 +168,10 @@ def load_site_file(path) -> dict:
                             hint="see templates/site.toml for the layout") from None
     flat = {}
     for key, value in data.items():
-        if isinstance(value, dict) and key in ("site", "settings", "meter_settings", "uncertainty", "columns", "display_units"):
-            if key == "uncertainty":
+        if isinstance(value, dict) and key in ("site", "settings", "uncertainty", "columns", "display_units", "files"):
+            if key == "files":
+                flat["files"] = dict(value)
+            elif key == "uncertainty":
                 flat["uncertainty"] = dict(value)
             elif key == "columns":
                 flat["column_map"] = dict(value)
@@ -178,7 +181,7 @@ def load_site_file(path) -> dict:
                 flat.update(value)
         else:
             flat[key] = value
-    unknown = [k for k in flat if k not in SETTING_KINDS and k not in ("uncertainty", "column_map", "display_units")]
+    unknown = [k for k in flat if k not in SETTING_KINDS and k not in ("uncertainty", "column_map", "display_units", "files")]
     if unknown:
         raise SettingsError(f"unknown setting(s) {', '.join(unknown)}", file=p,
                             hint="known settings: " + ", ".join(SETTING_KINDS))
@@ -288,7 +291,7 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
             setattr(s, name, bool(v))
     if "price" in raw:
         s.price_per_energy, s.currency = _parse_price(raw["price"])
-    for name in ("uncertainty", "column_map", "display_units"):
+    for name in ("uncertainty", "column_map", "display_units", "files"):
         if name in raw:
             setattr(s, name, dict(raw[name]))
 
