@@ -1,0 +1,63 @@
+"""Shared helpers for the generalized-chart tests: reference gases and CoolProp oracles."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+DATA = Path(__file__).parent / "data"
+
+#: meterfix component name -> CoolProp fluid name
+COOLPROP_NAMES = {
+    "methane": "Methane", "nitrogen": "Nitrogen", "carbon_dioxide": "CarbonDioxide", "ethane": "Ethane",
+    "propane": "n-Propane", "isobutane": "IsoButane", "n_butane": "n-Butane", "isopentane": "Isopentane",
+    "n_pentane": "n-Pentane", "n_hexane": "n-Hexane", "hydrogen": "Hydrogen", "helium": "Helium",
+    "argon": "Argon", "oxygen": "Oxygen",
+}
+
+
+def five_gases():
+    """The five AGA8 reference gases (AGA Report No. 8 / ISO 20765 tables, via usnistgov/AGA8
+    TESTDATA/Tables.xls; copies of ../shared/reference): {name: {component: fraction}}."""
+    comp = pd.read_csv(DATA / "aga8_five_gases_composition.csv", index_col=0)
+    return {g: {k: v / 100.0 for k, v in comp[g].items() if v > 0} for g in comp.columns}
+
+
+def five_gases_z(model: str = "DETAIL"):
+    """Published Z of the five gases on the 273.15-333.15 K, 0.101325/6/12 MPa grid."""
+    z = pd.read_csv(DATA / "aga8_five_gases_z.csv")
+    return z[z.model == model].reset_index(drop=True)
+
+
+def coolprop_z_mixture(fractions: dict, pressure, temperature):
+    """Z from CoolProp's HEOS mixture model (GERG-2008-type departure functions)."""
+    import CoolProp.CoolProp as CP
+
+    names = list(fractions)
+    x = np.array([fractions[n] for n in names], dtype=float)
+    state = CP.AbstractState("HEOS", "&".join(COOLPROP_NAMES[n] for n in names))
+    state.set_mole_fractions(list(x / x.sum()))
+    p, t = np.broadcast_arrays(np.asarray(pressure, float), np.asarray(temperature, float))
+    out = np.empty(p.shape)
+    for i in np.ndindex(p.shape):
+        state.update(CP.PT_INPUTS, float(p[i]), float(t[i]))
+        out[i] = state.compressibility_factor()
+    return out
+
+
+def coolprop_gas_points(fluid: str, temperatures, pressures, margin: float = 0.98):
+    """(p, T, Z) of CoolProp's pure-fluid equation at the gas-phase points of a grid: every
+    supercritical point, and below Tc only pressures under margin x the vapour pressure."""
+    import CoolProp.CoolProp as CP
+
+    tc = CP.PropsSI("Tcrit", fluid)
+    rows = []
+    for t in temperatures:
+        psat = CP.PropsSI("P", "T", t, "Q", 1, fluid) if t < tc else np.inf
+        for p in pressures:
+            if p < margin * psat:
+                rows.append((p, t, CP.PropsSI("Z", "P", p, "T", t, fluid)))
+    a = np.array(rows)
+    return a[:, 0], a[:, 1], a[:, 2]
