@@ -12,7 +12,7 @@ import numpy as np
 
 from ..constants import PSI, R, RANKINE
 from ..errors import SettingsError
-from ..gas.composition import Composition
+from ..gas.composition import Composition, as_composition
 from ..gas.gross import GrossCharacterization
 from .base import EXTENDED, NORMAL, OUTSIDE, REASON_INVALID_INPUT, ZResult, invalid_points
 from .gas_root import gas_root_density
@@ -243,6 +243,9 @@ def z_dak_reduced(pseudo_reduced_temperature, pseudo_reduced_pressure):
     -----
     Fitted to 1500 points of the Standing–Katz chart: 1.0 <= Tpr <= 3.0, 0.2 <= Ppr <= 30
     (and Ppr < 1.0 for 0.7 < Tpr < 1.0 with larger errors); from memory.
+    Near Tpr = 1 the fitted isotherm has a loop (at Tpr = 1.0 a local maximum near Ppr 0.97):
+    above it the correlation has no root on its gas branch and the point is NaN with reason
+    ``no-gas-root`` rather than a jump to the dense branch.
 
     References
     ----------
@@ -340,6 +343,8 @@ def range_hall_yarborough(tpr, ppr):
 # dimensional wrappers
 def _natural_gas_z(reduced_fn, range_fn, name, edition, pressure, temperature, gas, pseudo_critical_source,
                    correct_acid):
+    if not isinstance(gas, (Composition, GrossCharacterization)):
+        gas = as_composition(gas)
     p, t = np.broadcast_arrays(np.asarray(pressure, float), np.asarray(temperature, float))
     bad = invalid_points(p, t)
     ts = np.where(bad, 300.0, t)
@@ -371,7 +376,7 @@ def z_dak(pressure, temperature, gas, pseudo_critical_source: str = "kay", corre
     ----------
     pressure : float or ndarray [Pa]       absolute
     temperature : float or ndarray [K]
-    gas : Composition or GrossCharacterization
+    gas : Composition, mapping of component name -> mole fraction, or GrossCharacterization
     pseudo_critical_source : {"kay", "sutton"}   see :func:`natural_gas_pseudo_critical`
     correct_acid : bool                    Wichert–Aziz correction for CO2 and H2S
 
@@ -402,7 +407,7 @@ def z_hall_yarborough(pressure, temperature, gas, pseudo_critical_source: str = 
     ----------
     pressure : float or ndarray [Pa]       absolute
     temperature : float or ndarray [K]
-    gas : Composition or GrossCharacterization
+    gas : Composition, mapping of component name -> mole fraction, or GrossCharacterization
     pseudo_critical_source : {"kay", "sutton"}   see :func:`natural_gas_pseudo_critical`
     correct_acid : bool                    Wichert–Aziz correction for CO2 and H2S
 
@@ -437,22 +442,22 @@ METHODS = [
             range_text="normal 1.0 <= Tpr <= 3.0, 0.2 <= Ppr <= 30; extended Ppr < 0.2, "
                        "or 0.7 <= Tpr < 1.0 with Ppr <= 1",
             uncertainty_pct={NORMAL: 2.0, EXTENDED: 5.0},
-            uncertainty_source="for natural gas with Kay's-rule pseudo-criticals: largest deviation measured "
-                               "against CoolProp 8.0 at 250-350 K, 0.1-10 MPa for the five AGA8 reference "
-                               "gases and a 10 % hydrogen blend, 1.9 %; Sutton pseudo-criticals from relative "
-                               "density add up to 11 % (rich gas near Tpr 1.2); the fit to the Standing-Katz "
-                               "chart itself about 0.5 % (from memory). Not for pure ethane or CO2 near "
-                               "their critical point (12-17 %)"),
+            uncertainty_source="set at the largest deviation measured, for natural gas with Kay's-rule pseudo-"
+                               "criticals, against CoolProp 8.0 at 250-350 K, 0.1-10 MPa for the five AGA8 "
+                               "reference gases and a 10 % hydrogen blend, 1.9 %; Sutton pseudo-criticals from "
+                               "relative density add up to 11 % (rich gas near Tpr 1.2); the fit to the "
+                               "Standing-Katz chart itself about 0.5 % (from memory). Not for pure ethane or "
+                               "CO2 near their critical point (12-17 %)"),
     ZMethod("hall-yarborough", EDITION_HY, _evaluate_hy, family="natural-gas correlation",
             range_text="normal 1.2 <= Tpr <= 3.0, 0.1 <= Ppr <= 24; extended Ppr < 0.1, "
                        "or 1.0 <= Tpr < 1.2",
             uncertainty_pct={NORMAL: 3.0, EXTENDED: 5.0},
-            uncertainty_source="for natural gas with Kay's-rule pseudo-criticals: largest deviation measured "
-                               "against CoolProp 8.0 at 250-350 K, 0.1-10 MPa for the five AGA8 reference "
-                               "gases and a 10 % hydrogen blend, 2.6 %; Sutton pseudo-criticals add up to "
-                               "12 % (rich gas near Tpr 1.2); 1.0 <= Tpr < 1.2 up to 5 % (CO2)"),
+            uncertainty_source="set at the largest deviation measured, for natural gas with Kay's-rule pseudo-"
+                               "criticals, against CoolProp 8.0 at 250-350 K, 0.1-10 MPa for the five AGA8 "
+                               "reference gases and a 10 % hydrogen blend, 2.6 %; Sutton pseudo-criticals add "
+                               "up to 12 % (rich gas near Tpr 1.2); 1.0 <= Tpr < 1.2 up to 5 % (CO2)"),
 ]
 
 __all__ = ["DAK_CONSTANTS", "MOLAR_MASS_AIR", "pseudo_critical_sutton", "wichert_aziz",
-           "pseudo_critical_sutton_with_inerts", "natural_gas_pseudo_critical", "z_dak_reduced", "z_hall_yarborough_reduced", "range_dak",
-           "range_hall_yarborough", "z_dak", "z_hall_yarborough", "METHODS"]
+           "pseudo_critical_sutton_with_inerts", "natural_gas_pseudo_critical", "z_dak_reduced",
+           "z_hall_yarborough_reduced", "range_dak", "range_hall_yarborough", "z_dak", "z_hall_yarborough", "METHODS"]

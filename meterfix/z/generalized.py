@@ -17,6 +17,7 @@ from dataclasses import dataclass
 
 import numpy as np
 
+from ..gas.composition import as_composition
 from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_INVALID_INPUT, REASON_NO_GAS_ROOT, ZResult,
                    invalid_points)
 from .gas_root import gas_root_density
@@ -225,13 +226,14 @@ def z_pitzer_virial_reduced(reduced_temperature, reduced_pressure, acentric_fact
 # ---------------------------------------------------------------------------------------------
 # dimensional wrappers: pressure [Pa], temperature [K], composition
 def _prepare(pressure, temperature, composition, mixing, quantum):
+    composition = as_composition(composition)
     p, t = np.broadcast_arrays(np.asarray(pressure, float), np.asarray(temperature, float))
     bad = invalid_points(p, t)
     ts = np.where(bad, 300.0, t)
     pc = pseudo_critical(composition, ts, mixing=mixing, quantum=quantum)
     tr = np.where(bad, np.nan, reduced_temperature(ts, pc.temperature))
     pr = np.where(bad, np.nan, reduced_pressure(p, pc.pressure))
-    return p, t, bad, pc, tr, pr
+    return p, t, bad, pc, tr, pr, composition
 
 
 def _extra(pc: PseudoCritical, tr, pr, z):
@@ -297,7 +299,7 @@ def z_lee_kesler(pressure, temperature, composition, mixing: str = "kay", quantu
     ----------
     pressure : float or ndarray [Pa]       absolute
     temperature : float or ndarray [K]
-    composition : Composition
+    composition : Composition or mapping of component name -> mole fraction
     mixing : {"kay", "lee-kesler"}         pseudo-critical rule (:func:`pseudo_critical`)
     quantum : bool                         effective critical constants for hydrogen, helium
 
@@ -316,7 +318,7 @@ def z_lee_kesler(pressure, temperature, composition, mixing: str = "kay", quantu
     ----------
     1. B. I. Lee, M. G. Kesler, AIChE J. 21 (1975) 510.
     """
-    p, t, bad, pc, tr, pr = _prepare(pressure, temperature, composition, mixing, quantum)
+    p, t, bad, pc, tr, pr, composition = _prepare(pressure, temperature, composition, mixing, quantum)
     z, reason = z_lee_kesler_reduced(np.where(bad, 1.5, tr), np.where(bad, 1.0, pr), pc.acentric_factor)
     z = np.where(bad, np.nan, z)
     reason = np.where(bad, REASON_INVALID_INPUT, reason)
@@ -334,7 +336,7 @@ def z_pitzer_virial(pressure, temperature, composition, mixing: str = "kay", qua
     ----------
     pressure : float or ndarray [Pa]       absolute
     temperature : float or ndarray [K]
-    composition : Composition
+    composition : Composition or mapping of component name -> mole fraction
     mixing : {"kay", "lee-kesler"}         pseudo-critical rule
     quantum : bool                         effective critical constants for hydrogen, helium
 
@@ -352,7 +354,7 @@ def z_pitzer_virial(pressure, temperature, composition, mixing: str = "kay", qua
     1. K. S. Pitzer, R. F. Curl, J. Am. Chem. Soc. 79 (1957) 2369.
     2. J. M. Smith, H. C. Van Ness, M. M. Abbott, Introduction to Chemical Engineering Thermodynamics.
     """
-    p, t, bad, pc, tr, pr = _prepare(pressure, temperature, composition, mixing, quantum)
+    p, t, bad, pc, tr, pr, composition = _prepare(pressure, temperature, composition, mixing, quantum)
     z, reason = z_pitzer_virial_reduced(np.where(bad, 1.5, tr), np.where(bad, 1.0, pr), pc.acentric_factor)
     z = np.where(bad, np.nan, z)
     reason = np.where(bad, REASON_INVALID_INPUT, reason)
@@ -372,19 +374,20 @@ def _evaluate_pitzer(pressure, temperature, gas, mixing="kay", quantum=True, **_
 
 METHODS = [
     ZMethod("lee-kesler", EDITION_LEE_KESLER, _evaluate_lk, family="generalized chart",
-            range_text="0.3 <= Tr <= 4, Pr <= 10, gas phase (pseudo-reduced by Kay's rule)",
+            range_text="normal 0.3 <= Tr <= 4, Pr <= 10, gas phase; extended in the near-critical zone "
+                       "0.93 <= Tr <= 1.12, 0.6 <= Pr <= 2.5 (pseudo-reduced by Kay's rule by default)",
             uncertainty_pct={NORMAL: 2.5, EXTENDED: 5.0},
-            uncertainty_source="largest deviation measured against CoolProp 8.0 (reference equations of state; "
-                               "GERG-2008-type mixture model) at 250-350 K, 0.1-10 MPa, gas phase, Kay's rule: "
-                               "methane 0.33 %, nitrogen 0.10 %, ethane 1.4 %, CO2 0.74 %, five AGA8 "
-                               "reference natural gases 2.46 % (Lee-Kesler mixing 1.83 %); near-critical "
+            uncertainty_source="set at the largest deviation measured against CoolProp 8.0 (reference equations"
+                               " of state; GERG-2008-type mixture model) at 250-350 K, 0.1-10 MPa, gas phase, "
+                               "Kay's rule: methane 0.33 %, nitrogen 0.10 %, ethane 1.4 %, CO2 0.74 %, five "
+                               "AGA8 reference natural gases 2.46 % (Lee-Kesler mixing 1.83 %); near-critical "
                                "zone up to 4.2 % (ethane, CO2)"),
     ZMethod("pitzer-virial", EDITION_PITZER, _evaluate_pitzer, family="generalized chart",
             range_text="normal v'R >= 4, extended 2 <= v'R < 4 (v'R = Z Tr/Pr), 0.5 <= Tr <= 10",
             uncertainty_pct={NORMAL: 1.5, EXTENDED: 3.5},
-            uncertainty_source="largest deviation measured against CoolProp 8.0 at 250-350 K, 0.1-10 MPa, gas "
-                               "phase, for methane, ethane, nitrogen, propane, n-butane, CO2, argon, oxygen, "
-                               "hydrogen and natural gases: 1.1 % for v'R >= 4, 3.1 % for 2 <= v'R < 4"),
+            uncertainty_source="set at the largest deviation measured against CoolProp 8.0 at 250-350 K, 0.1-10"
+                               " MPa, gas phase, for methane, ethane, nitrogen, propane, n-butane, CO2, argon, "
+                               "oxygen, hydrogen and natural gases: 1.1 % for v'R >= 4, 3.1 % for 2 <= v'R < 4"),
 ]
 
 __all__ = ["OMEGA_REFERENCE", "SIMPLE_FLUID", "REFERENCE_FLUID", "lee_kesler_terms", "lee_kesler_vapour_pressure",
