@@ -265,3 +265,21 @@ def test_z_tends_to_one_at_low_pressure(t, gas):
         assert abs(z[0] - 1.0) < 1e-6
         assert abs(z[1] - 1.0) < 1e-4
         assert abs(z[0] - 1.0) < abs(z[1] - 1.0) or z[1] == 1.0  # approaches 1 as p falls
+
+
+@pytest.mark.parametrize("method", ["lee-kesler", "pitzer-virial", "dak", "hall-yarborough"])
+def test_dispatcher_kinds_in_kinds_out(method):
+    # DESIGN.md contract: scalars, arrays and pandas Series in, the same kind out; the scalar
+    # agrees with the array element (Lee–Kesler and Pitzer values checked above against CoolProp)
+    import pandas as pd
+
+    from meterfix import compressibility
+
+    gas = {"methane": 0.95, "ethane": 0.03, "nitrogen": 0.02}
+    s = pd.Series([1e6, 3e6], index=pd.date_range("2026-01-01", periods=2, freq="h"))
+    zs = compressibility(s, 290.0, gas, method=method)
+    assert isinstance(zs, pd.Series) and zs.index.equals(s.index)
+    za = compressibility(s.to_numpy(), 290.0, gas, method=method)
+    assert isinstance(za, np.ndarray) and za.shape == (2,)
+    z1 = compressibility(3e6, 290.0, gas, method=method)
+    assert isinstance(z1, float) and z1 == pytest.approx(za[1], rel=1e-14) and z1 == pytest.approx(zs.iloc[1])
