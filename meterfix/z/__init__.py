@@ -21,7 +21,7 @@ DEFAULT_METHOD = "aga8-detail"
 
 def _gas(gas, method: ZMethod):
     if isinstance(gas, GrossCharacterization):
-        if method.gas_input != "gross":
+        if method.gas_input != "gross" and method.family != "natural-gas correlation":
             from ..errors import SettingsError
             raise SettingsError(f"method '{method.name}' needs a composition, not a gross characterisation",
                                 hint="use aga8-gross1 or aga8-gross2 with heating value and relative density")
