@@ -116,26 +116,68 @@ def _log_derivatives(result, d):
     return np.nan_to_num(beta), np.nan_to_num(gamma)
 
 
+def _z_function(result, d):
+    """Z at given line states of the intervals d, each with its own analysis in force."""
+    k = d["analysis"].to_numpy(int)
+    meth = result.method["name"]
+
+    def z_at(p, t):
+        z = np.ones(len(k))
+        if meth == "ideal":
+            return z
+        for kk in np.unique(k):
+            gas = result.analyses[int(kk)].gas
+            if gas is None:
+                continue
+            m = k == kk
+            z[m] = np.asarray(evaluate_z(p[m], t[m], gas, meth).z, float)
+        return z
+
+    return z_at
+
+
 class _Cause:
     """One cause: its model function, parameter count, start value and report."""
 
-    def __init__(self, name, nparam, f, theta0=None, scale=1.0, report=None):
+    def __init__(self, name, nparam, f, theta0=None, scale=1.0, report=None, exact=None):
         self.name, self.nparam, self.f, self.theta0, self.scale, self.report = name, nparam, f, theta0, scale, report
+        #: the model with Z evaluated at the believed state (f is its linearisation in ln Z)
+        self.exact = exact
 
 
-def _causes(ctx):
+def _causes(ctx, zweight=1.0):
+    """The seven causes; ``zweight`` is how much of Z the corrector applies (1, ½ for Fpv, 0 for Z = 1)."""
     L, beta, gamma, pf, lnT = ctx["L"], ctx["beta"], ctx["gamma"], ctx["pf"], ctx["lnT"]
     pb, tb, zb = ctx["pressure_base"], ctx["temperature_base"], ctx["z_base_mean"]
     atm = ctx["atm_mean"]
 
+    atm_j = ctx["atm"]
+    known = np.isfinite(atm_j)
+    gauge = np.where(known, ctx["pf"] - np.where(known, atm_j, 0.0), np.nan)
+
+    def p_used(th):
+        # a fixed atmospheric pressure th[0] where we know the one we used; else an offset th[0]
+        return np.where(known, gauge + th[0], ctx["pf"] + th[0]) if ctx["atm_known"] else ctx["pf"] + th[0]
+
     def atm_f(th):
-        return (1.0 - beta) * np.log(np.maximum(1.0 + th[0] / pf, 1e-9))
+        return (1.0 - zweight * beta) * np.log(np.maximum(p_used(th) / pf, 1e-9))
+
+    def atm_exact(th):
+        pu = np.maximum(p_used(th), 1.0)
+        if zweight == 0.0:
+            return np.log(pu / pf)
+        return np.log(pu / pf) + zweight * (ctx["lnZ"] - np.log(ctx["z_at"](pu, ctx["T"])))
 
     def atm_report(th):
-        r = {"atmospheric_pressure_offset_Pa": float(th[0])}
-        if np.isfinite(atm):
-            r["atmospheric_pressure_used_Pa"] = float(atm + th[0])
-        return r
+        if ctx["atm_known"]:
+            return {"pressure_atm_used_Pa": float(th[0]),
+                    "atmospheric_pressure_offset_Pa": float(th[0] - atm)}
+        return {"atmospheric_pressure_offset_Pa": float(th[0])}
+
+    def ft_exact(th):
+        if zweight == 0.0:
+            return lnT - th[0]
+        return lnT - th[0] + zweight * (ctx["lnZ"] - np.log(ctx["z_at"](pf, np.full_like(pf, np.exp(th[0])))))
 
     return {
         "ideal-gas": _Cause("ideal-gas", 0, lambda th: L, report=lambda th: {"z_line_used": 1.0, "z_base_used": 1.0}),
@@ -148,10 +190,11 @@ def _causes(ctx):
                                 report=lambda th: {"pressure_base_used_Pa": float(pb * np.exp(-th[0]))}),
         "base-temperature": _Cause("base-temperature", 1, lambda th: np.full_like(L, th[0]), [0.0], 0.01,
                                    report=lambda th: {"temperature_base_used_K": float(tb * np.exp(th[0]))}),
-        "atmospheric-pressure": _Cause("atmospheric-pressure", 1, atm_f, [0.0], 1000.0, report=atm_report),
-        "fixed-temperature": _Cause("fixed-temperature", 1, lambda th: (1.0 + gamma) * (lnT - th[0]),
+        "atmospheric-pressure": _Cause("atmospheric-pressure", 1, atm_f, [atm if ctx["atm_known"] else 0.0], 1000.0,
+                                       report=atm_report, exact=atm_exact),
+        "fixed-temperature": _Cause("fixed-temperature", 1, lambda th: (1.0 + zweight * gamma) * (lnT - th[0]),
                                     [float(np.average(lnT, weights=ctx["w"]))], 0.01,
-                                    report=lambda th: {"temperature_line_used_K": float(np.exp(th[0]))}),
+                                    report=lambda th: {"temperature_line_used_K": float(np.exp(th[0]))}, exact=ft_exact),
     }
 
 
@@ -159,13 +202,13 @@ def _combinations():
     combos = [(c,) for c in Z_CAUSES + OTHER_CAUSES]
     for z in Z_CAUSES:
         for o in OTHER_CAUSES:
-            if z == "fixed-z" and o.startswith("base-"):
-                continue  # collinear: a constant Zb/Zf absorbs a base error
+            if z == "fixed-z" and (o.startswith("base-") or o == "fixed-temperature"):
+                continue  # collinear: a constant Zb/Zf absorbs a constant ratio
             combos.append((z, o))
     for i, a in enumerate(OTHER_CAUSES):
         for b in OTHER_CAUSES[i + 1:]:
-            if a.startswith("base-") and b.startswith("base-"):
-                continue
+            if a.startswith("base-") and (b.startswith("base-") or b == "fixed-temperature"):
+                continue  # collinear constants
             combos.append((a, b))
     return combos
 
@@ -182,7 +225,7 @@ def _plausibility_penalty(report: dict) -> float:
     return pen
 
 
-def _fit(combo, causes, y, sw):
+def _fit(combo, causes, y, sw, exact=False):
     parts = [causes[c] for c in combo]
     sizes = [p.nparam for p in parts]
     theta0 = sum((list(p.theta0) for p in parts if p.nparam), [])
@@ -204,7 +247,32 @@ def _fit(combo, causes, y, sw):
         theta = sol.x
     else:
         theta = np.zeros(0)
+    if exact and any(p.exact is not None for p in parts):
+        theta = _refine(parts, split, model, theta, np.array(scales), y, sw)
+        return theta, split(theta), parts, _exact_model(parts, split(theta))
     return theta, split(theta), parts, model(theta)
+
+
+def _exact_model(parts, thetas):
+    return sum((p.exact if p.exact is not None else p.f)(th) for p, th in zip(parts, thetas))
+
+
+def _refine(parts, split, model, theta, scales, y, sw, iterations=4):
+    """Gauss-Newton on the exact model, with the Jacobian of its linearisation (cheap, close)."""
+    theta = np.array(theta, float)
+    for _ in range(iterations):
+        r = y - _exact_model(parts, split(theta))
+        jac = np.empty((len(y), len(theta)))
+        f0 = model(theta)
+        for i in range(len(theta)):
+            t2 = theta.copy()
+            t2[i] += 1e-6 * scales[i]
+            jac[:, i] = (model(t2) - f0) / (1e-6 * scales[i])
+        step, *_ = np.linalg.lstsq(sw[:, None] * jac, sw * r, rcond=None)
+        theta = theta + step
+        if np.all(np.abs(step) <= 1e-12 * np.maximum(np.abs(theta), scales)):
+            break
+    return theta
 
 
 def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure_base=None,
@@ -273,7 +341,13 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
            "temperature_base": tb, "z_base_mean": float(np.average(zb, weights=w)),
            "atm_mean": float(np.average(atm[np.isfinite(atm)], weights=w[np.isfinite(atm)])) if np.isfinite(atm).any()
            else np.nan}
-    causes = _causes(ctx)
+    ctx["atm"] = atm
+    ctx["atm_known"] = bool(np.isfinite(atm).any())
+    ctx["lnZ"] = np.log(zf)
+    ctx["T"] = du["temperature_line"].to_numpy(float)
+    ctx["z_at"] = _z_function(result, du)
+    cause_sets = {zw: _causes(ctx, zw) for zw in (1.0, 0.5, 0.0)}
+    causes = cause_sets[1.0]
     real_gas = float(np.max(np.abs(ctx["L"]))) > 1e-6
     hv = du["heating_value"].to_numpy(float)
     price = s.price_per_energy
@@ -290,10 +364,9 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     candidates.append({"cause": "none", "causes": [], "score": float(none_score), "r2": 0.0,
                        "rms_residual_pct": 100.0 * np.sqrt(ss0), "size_pct": 0.0, "parameters": {}})
     fitted = {"none": np.zeros(n)}
-    for combo in _combinations():
-        if not real_gas and any(c in Z_CAUSES for c in combo):
-            continue
-        theta, thetas, parts, f = _fit(combo, causes, y, sw)
+    def evaluate(combo, exact):
+        zw = 0.0 if ("ideal-gas" in combo or "fixed-z" in combo) else (0.5 if "fpv-not-squared" in combo else 1.0)
+        theta, thetas, parts, f = _fit(combo, cause_sets[zw], y, sw, exact=exact)
         resid = y - f
         mse = float(np.sum(w * resid**2))
         k = sum(p.nparam for p in parts) + len(parts)
@@ -301,7 +374,8 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
         for p, th in zip(parts, thetas):
             rep = p.report(th) if p.report else {}
             pen += _plausibility_penalty(rep)
-            sz, dv, de = month_effect(p.f(th))
+            fi = p.exact(th) if (exact and p.exact is not None) else p.f(th)
+            sz, dv, de = month_effect(fi)
             comps.append({"cause": p.name, "size_pct": sz, "volume_impact_m3": dv,
                           "energy_impact_MJ": de / 1e6 if np.isfinite(de) else None,
                           "money_impact": de * price if (price is not None and np.isfinite(de)) else None,
@@ -311,17 +385,36 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
         sz, dv, de = month_effect(f)
         name = "+".join(combo)
         fitted[name] = f
-        candidates.append({
+        return {
             "cause": name, "causes": comps, "score": float(score),
             "r2": float(1.0 - mse / ss0) if ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse),
             "size_pct": sz, "volume_impact_m3": dv, "energy_impact_MJ": de / 1e6 if np.isfinite(de) else None,
             "money_impact": de * price if (price is not None and np.isfinite(de)) else None,
-            "parameters": params, "currency": s.currency,
-        })
+            "parameters": params, "currency": s.currency, "_combo": combo,
+        }
+
+    combos = [c for c in _combinations() if real_gas or not any(x in Z_CAUSES for x in c)]
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        linear = sorted((evaluate(c, False) for c in combos), key=lambda c: c["score"])
+    # refit the leading candidates whose model was linearised in ln Z with Z at the believed state
+    refit = [c["_combo"] for c in linear[:6] if any(causes[x].exact is not None for x in c["_combo"])]
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        exact = {c: evaluate(c, True) for c in refit}
+    candidates += [exact.get(c["_combo"], c) for c in linear]
     candidates.sort(key=lambda c: c["score"])
-    findings = [dict(c) for c in candidates
-                if c["cause"] != "none" and c["score"] < none_score and abs(c["size_pct"]) > threshold_pct
-                and c["r2"] >= 0.5][:5]
+    for c in candidates:
+        c.pop("_combo", None)
+    findings = []
+    for c in candidates:
+        if c["cause"] == "none" or not (c["score"] < none_score and abs(c["size_pct"]) > threshold_pct
+                                        and c["r2"] >= 0.5):
+            continue
+        mine = set(c["cause"].split("+"))
+        if any(set(f["cause"].split("+")) <= mine for f in findings):
+            continue  # adds a cause to a better explanation without explaining more
+        findings.append(dict(c))
+        if len(findings) == 5:
+            break
     for i, f in enumerate(findings):
         f["rank"] = i + 1
     best = findings[0]["cause"] if findings else "none"
