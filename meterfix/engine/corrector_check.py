@@ -187,15 +187,30 @@ def _causes(ctx, zweight=1.0):
                           report=lambda th: {"factor_z_used": float(np.exp(th[0])),
                                              "z_line_used": float(zb / np.exp(th[0]))}),
         "base-pressure": _Cause("base-pressure", 1, lambda th: np.full_like(L, th[0]), [0.0], 0.01,
-                                report=lambda th: {"pressure_base_used_Pa": float(pb * np.exp(-th[0]))}),
+                                report=lambda th: {"pressure_base_used_Pa": _base_used(ctx, th[0], "p")}),
         "base-temperature": _Cause("base-temperature", 1, lambda th: np.full_like(L, th[0]), [0.0], 0.01,
-                                   report=lambda th: {"temperature_base_used_K": float(tb * np.exp(th[0]))}),
+                                   report=lambda th: {"temperature_base_used_K": _base_used(ctx, th[0], "t")}),
         "atmospheric-pressure": _Cause("atmospheric-pressure", 1, atm_f, [atm if ctx["atm_known"] else 0.0], 1000.0,
                                        report=atm_report, exact=atm_exact),
         "fixed-temperature": _Cause("fixed-temperature", 1, lambda th: (1.0 + zweight * gamma) * (lnT - th[0]),
                                     [float(np.average(lnT, weights=ctx["w"]))], 0.01,
                                     report=lambda th: {"temperature_line_used_K": float(np.exp(th[0]))}, exact=ft_exact),
     }
+
+
+def _base_used(ctx, theta, which):
+    """The base pressure [Pa] or temperature [K] the corrector used, from the constant log ratio θ.
+
+    The corrector evaluates Zb at its own base: e^θ = (pb/pb')·(Zb'/Zb) or (Tb'/Tb)·(Zb'/Zb);
+    solved by fixed-point iteration with the main analysis' Z."""
+    pb, tb, zb = ctx["pressure_base"], ctx["temperature_base"], ctx["z_base_main"]
+    x = pb * np.exp(-theta) if which == "p" else tb * np.exp(theta)
+    if not np.isfinite(x) or not ((1e3 < x < 1e7) if which == "p" else (100.0 < x < 1000.0)):
+        return float(x)
+    for _ in range(3):
+        zx = ctx["z_base_at"](x if which == "p" else pb, tb if which == "p" else x)
+        x = pb * zx / zb * np.exp(-theta) if which == "p" else tb * zb / zx * np.exp(theta)
+    return float(x)
 
 
 def _combinations():
@@ -346,6 +361,11 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     ctx["lnZ"] = np.log(zf)
     ctx["T"] = du["temperature_line"].to_numpy(float)
     ctx["z_at"] = _z_function(result, du)
+    main = int(du.groupby("analysis")["volume_base"].sum().idxmax())
+    ctx["z_base_main"] = float(result.analyses[main].z_base)
+    gas_main = result.analyses[main].gas
+    ctx["z_base_at"] = (lambda p_, t_: 1.0) if (gas_main is None or result.method["name"] == "ideal") else (
+        lambda p_, t_: float(np.asarray(evaluate_z(p_, t_, gas_main, result.method["name"]).z).reshape(-1)[0]))
     cause_sets = {zw: _causes(ctx, zw) for zw in (1.0, 0.5, 0.0)}
     causes = cause_sets[1.0]
     real_gas = float(np.max(np.abs(ctx["L"]))) > 1e-6
