@@ -1,0 +1,374 @@
+"""GERG-2008 equation of state: Z, density and speed of sound for natural gases (AGA8 Part 2).
+
+The 21-component wide-range equation of Kunz & Wagner (2012), adopted as AGA Report No. 8
+Part 2 (2017) and ISO 20765-2. Pure, vectorized numpy: one composition, arrays of pressure and
+temperature; the composition-dependent terms come from :mod:`meterfix.z.gerg2008_mixture`
+(cached per composition) and the density solve iterates all points together.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+
+import numpy as np
+
+from ..gas.composition import as_composition
+from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_INVALID_INPUT, REASON_NO_CONVERGENCE,
+                   REASON_NO_GAS_ROOT, ZResult, invalid_points, range_by_box)
+from .gerg2008_mixture import N_EXPO, N_POWERS, R_GERG, GergMixture, mixture
+from .registry import ZMethod
+
+EDITION = "GERG-2008 (Kunz & Wagner 2012; AGA8 Part 2 2017, ISO 20765-2)"
+
+#: normal range (p_max [Pa], T_min [K], T_max [K]); Kunz & Wagner 2012 (from memory, REFERENCES §3)
+NORMAL_RANGE = (35.0e6, 90.0, 450.0)
+#: extended range; Kunz & Wagner 2012 (from memory, REFERENCES §3)
+EXTENDED_RANGE = (70.0e6, 60.0, 700.0)
+
+#: points per block of the vectorized solve (bounds the size of the 2-D work arrays)
+CHUNK = 4096
+#: upper bound of the reduced density searched for a root (liquid densities are below ~3)
+DELTA_MAX = 5.0
+#: a Halley step in ln(delta) below this is converged (the error after it is ~ step^3);
+#: a Newton step (used where Halley's correction is not trusted) below STEP_TOL_NEWTON (~ step^2)
+STEP_TOL_HALLEY = 1e-5
+STEP_TOL_NEWTON = 1e-8
+MAX_ITER = 80
+_NP = N_POWERS
+
+
+class _Workspace:
+    """Preallocated 2-D work arrays for blocks of up to ``n`` points (reused, no page churn)."""
+
+    def __init__(self, mix: GergMixture, n: int):
+        nc, nt = mix.n_col, mix.t_exponents.size
+        self.n = n
+        self.basis = np.empty((n, 1 + _NP))  # ln(delta), delta^0 .. delta^18
+        self.phi = np.empty((n, nc))
+        self.y = np.empty((n, nc))
+        self.h = np.empty((n, 3 * _NP))
+        self.h2 = np.empty((n, 2 * _NP))
+        self.h1 = np.empty((n, _NP))
+        self.taup = np.empty((n, nt))
+        self.b = np.empty((n, nc))
+        self.bsub = np.empty((n, nc))
+        self.btau = np.empty((n, 2 * nc))
+        ni = max(mix.ideal_sinh_theta.size, mix.ideal_cosh_theta.size, 1)
+        self.i1 = np.empty((n, ni))
+        self.i2 = np.empty((n, ni))
+
+
+def _z_functions(mix: GergMixture, ws: _Workspace, b: np.ndarray, delta: np.ndarray, parts: int):
+    """Z - 1, dZ/d ln(delta) and d2Z/d ln(delta)^2 at fixed tau (first ``parts`` of them).
+
+    ``b`` holds the per-point coefficients ``tau^t @ coef`` of the columns. Leaves
+    ``phi = delta^d W_g`` and the powers of delta in the workspace for the caller.
+    """
+    k = delta.size
+    bas = ws.basis[:k]
+    np.log(delta, out=bas[:, 0])
+    bas[:, 1] = 1.0
+    bas[:, 2] = delta
+    for m in range(3, 1 + _NP):
+        np.multiply(bas[:, m - 1], delta, out=bas[:, m])
+    phi = ws.phi[:k]
+    np.matmul(bas[:, :1 + N_EXPO], mix.expo, out=phi)
+    np.exp(phi, out=phi)
+    y = ws.y[:k]
+    np.multiply(b, phi, out=y)
+    h = {1: ws.h1, 2: ws.h2, 3: ws.h}[parts][:k]
+    np.matmul(y, mix.gmat[:, :parts * _NP], out=h)
+    pw = bas[:, 1:]
+    return [np.einsum("ij,ij->i", h[:, m * _NP:(m + 1) * _NP], pw) for m in range(parts)]
+
+
+def _initial_delta(mix: GergMixture, taup: np.ndarray, pi: np.ndarray) -> np.ndarray:
+    """Start from the low-density series Z = 1 + b1 delta + b2 delta^2 (falls back to ideal gas)."""
+    b = taup @ mix.virial
+    b1, b2 = b[:, 0], b[:, 1]
+    d = pi.copy()
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        for _ in range(6):
+            f = d * (1.0 + d * (b1 + b2 * d)) - pi
+            fp = 1.0 + d * (2.0 * b1 + 3.0 * b2 * d)
+            d = d - f / np.where(fp > 0.05, fp, np.nan)
+        ok = np.isfinite(d) & (d > 0.25 * pi) & (d < 4.0 * pi) & (d < DELTA_MAX)
+    return np.where(ok, d, pi)
+
+
+def _solve_block(mix: GergMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray, sound: bool = True):
+    """Gas-phase root and properties for one block of valid points.
+
+    Without ``sound`` no evaluation follows the last solver step: Z = p / (rho R T) at the final
+    density (the error of the last Halley step is of the order of its cube, < 1e-15).
+    """
+    n = p.size
+    tau = mix.t_reducing / t
+    taup = ws.taup[:n]
+    np.multiply.outer(np.log(tau), mix.t_exponents, out=taup)
+    np.exp(taup, out=taup)
+    b = ws.b[:n]
+    np.matmul(taup, mix.coef, out=b)
+    pi = p / (mix.rho_reducing * R_GERG * t)  # delta of an ideal gas
+    delta = _initial_delta(mix, taup, pi)
+    # the active points are kept packed at the front of their arrays
+    act = np.arange(n)
+    d, lo, hi, lnpi = delta.copy(), np.zeros(n), np.full(n, DELTA_MAX), np.log(pi)
+    bb = b
+    done = np.zeros(n, dtype=bool)
+    failed = np.zeros(n, dtype=bool)
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        for _ in range(MAX_ITER):
+            if act.size == 0:
+                break
+            zm1, zu, zuu = _z_functions(mix, ws, bb, d, 3)
+            z = 1.0 + zm1
+            s = z + zu  # (dp/drho)_T / (R T)
+            good = np.isfinite(s) & np.isfinite(zuu) & (z > 0) & (s > 0)
+            f = np.where(good, np.log(np.where(good, d * z, 1.0)) - lnpi, 0.0)  # ln(p / p_target)
+            f1 = s / z  # d f / d ln(delta)
+            f2 = zuu / z - (zu / z) ** 2
+            newton = np.where(good, -f / f1, 0.0)
+            corr = 1.0 - 0.5 * f * f2 / (f1 * f1)
+            halley = (corr > 0.5) & (corr < 2.0)
+            step = np.where(halley, newton / corr, newton)
+            hi = np.where(~good | (f > 0), np.minimum(hi, d), hi)
+            lo = np.where(good & (f < 0), np.maximum(lo, d), lo)
+            new = d * np.exp(step)
+            bisect = ~good | ~(new > lo) | ~(new < hi)
+            new = np.where(bisect, 0.5 * (lo + hi), new)
+            tol = np.where(halley, STEP_TOL_HALLEY, STEP_TOL_NEWTON) * np.minimum(1.0, f1)
+            conv = good & ~bisect & (np.abs(step) < tol)
+            collapsed = ~conv & (hi - lo < 1e-13 * hi)
+            delta[act] = new
+            done[act[conv]] = True
+            failed[act[collapsed]] = True
+            keep = ~(conv | collapsed)
+            if not keep.all():
+                act, d, lo, hi, lnpi = act[keep], new[keep], lo[keep], hi[keep], lnpi[keep]
+                bb = ws.bsub[:act.size]
+                np.take(b, act, axis=0, out=bb)
+            else:
+                d = new
+    reason = np.full(n, "", dtype=_REASON_DTYPE)
+    reason[failed] = REASON_NO_GAS_ROOT
+    reason[act] = REASON_NO_CONVERGENCE
+    ok = done
+    _reject_dense_roots(mix, b, delta, tau, ok, reason)
+    z = np.full(n, np.nan)
+    w = np.full(n, np.nan)
+    i = np.flatnonzero(ok)
+    if i.size and not sound:
+        z[i] = pi[i] / delta[i]
+    elif i.size:
+        if i.size == n:
+            z, w = _properties(mix, ws, taup, b, delta, t)
+        else:
+            z[i], w[i] = _properties(mix, ws, taup[i], b[i], delta[i], t[i])
+        bad = ~np.isfinite(z[i]) | (z[i] <= 0)
+        reason[i[bad]] = REASON_NO_CONVERGENCE
+        ok[i[bad]] = False
+    rho = np.where(ok, delta * mix.rho_reducing, np.nan)
+    return np.where(ok, z, np.nan), rho, np.where(ok, w, np.nan), reason
+
+
+def _reject_dense_roots(mix, b, delta, tau, ok, reason):
+    """Mark roots on a liquid-like branch: p(rho) must rise all the way from rho = 0.
+
+    Only roots where a van der Waals loop is possible are checked (below 1.25 T_r and above
+    delta = 0.3): the pressure slope is sampled at 24 densities between 0 and the root.
+    """
+    cand = np.flatnonzero(ok & (tau > 0.8) & (delta > 0.3))
+    if cand.size == 0:
+        return
+    fr = np.linspace(0.04, 0.96, 24)
+    dd = (delta[cand][:, None] * fr).ravel()
+    bb = np.repeat(b[cand], fr.size, axis=0)
+    zm1, zu = _z_functions(mix, _Workspace(mix, dd.size), bb, dd, 2)
+    slope = (1.0 + zm1 + zu).reshape(cand.size, fr.size)
+    bad = cand[~np.all(slope > 0, axis=1)]
+    ok[bad] = False
+    reason[bad] = REASON_NO_GAS_ROOT
+
+
+def _ideal_tt(mix: GergMixture, ws: _Workspace, t: np.ndarray) -> np.ndarray:
+    """tau^2 d2(alpha_0)/dtau^2 of the ideal-gas part (independent of the reducing temperature).
+
+    -[sum x_i n3_i + sum n_k (y_k / sinh y_k)^2 + sum n_k (y_k / cosh y_k)^2] R*/R, y_k = theta_k / T,
+    with y/sinh(y) = 2 y u / (1 - u^2) and y/cosh(y) = 2 y u / (1 + u^2), u = exp(-y).
+    """
+    out = np.full(t.shape, -mix.ideal_const)
+    rt = 1.0 / t
+    for theta, coef, sign in ((mix.ideal_sinh_theta, mix.ideal_sinh_coef, -1.0),
+                              (mix.ideal_cosh_theta, mix.ideal_cosh_coef, 1.0)):
+        if theta.size == 0:
+            continue
+        y = ws.i1[:t.size, :theta.size]
+        u = ws.i2[:t.size, :theta.size]
+        np.multiply.outer(rt, theta, out=y)
+        np.negative(y, out=u)
+        np.exp(u, out=u)
+        np.multiply(y, u, out=y)  # y u
+        np.multiply(u, u, out=u)
+        if sign < 0:
+            np.subtract(1.0, u, out=u)
+        else:
+            np.add(1.0, u, out=u)
+        np.divide(y, u, out=y)
+        np.multiply(y, y, out=y)
+        out -= y @ (4.0 * coef)
+    return out
+
+
+def _properties(mix: GergMixture, ws: _Workspace, taup, b, delta, t):
+    """Z and speed of sound [m/s] at the converged reduced density."""
+    k = delta.size
+    zm1, zu = _z_functions(mix, ws, b, delta, 2)
+    nc = mix.n_col
+    bt = ws.btau[:k]
+    np.matmul(taup, mix.coef_tau, out=bt)
+    phi = ws.phi[:k]
+    y = ws.y[:k]
+    np.multiply(bt[:, :nc], phi, out=y)
+    h = ws.h1[:k]
+    np.matmul(y, mix.gmat[:, :_NP], out=h)
+    a11 = np.einsum("ij,ij->i", h, ws.basis[:k, 1:])  # tau delta d2(ar)/dtau ddelta
+    a20 = np.einsum("ij,ij->i", bt[:, nc:], phi)  # tau^2 d2(ar)/dtau2
+    z = 1.0 + zm1
+    slope = z + zu
+    cv = -(_ideal_tt(mix, ws, t) + a20)  # c_v / R
+    cp = cv + (z - a11) ** 2 / slope  # c_p / R
+    with np.errstate(invalid="ignore", divide="ignore"):
+        w2 = cp / cv * slope * R_GERG * t / mix.molar_mass
+        sound = np.sqrt(np.where((w2 > 0) & (cv > 0), w2, np.nan))
+    return z, sound
+
+
+_REASON_DTYPE = "<U16"
+#: at most this many threads by default
+MAX_WORKERS = 4
+
+
+def _worker_count(workers, n_blocks: int) -> int:
+    if workers is None:
+        if n_blocks < 4:
+            return 1
+        workers = min(MAX_WORKERS, os.cpu_count() or 1)
+    return max(1, min(int(workers), n_blocks))
+
+
+def _run_parallel(run, blocks, n_work: int) -> None:
+    """Share the blocks among threads (numpy releases the GIL in its loops and in BLAS)."""
+    from concurrent.futures import ThreadPoolExecutor
+
+    try:  # one BLAS thread per worker: nested BLAS threads only oversubscribe the cores
+        from threadpoolctl import threadpool_limits
+        limits = threadpool_limits(limits=1, user_api="blas")
+    except ImportError:  # pragma: no cover - threadpoolctl is a dependency
+        limits = contextlib.nullcontext()
+    with limits, ThreadPoolExecutor(max_workers=n_work) as ex:
+        for f in [ex.submit(run, blocks[k::n_work]) for k in range(n_work)]:
+            f.result()
+
+
+def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = True,
+               workers: int | None = None) -> ZResult:
+    """Compressibility factor, density and speed of sound by GERG-2008.
+
+    Z = 1 + delta (d alpha_r / d delta)_tau,   p = rho R T Z,   R = 8.314472 J/(mol K),
+    with alpha_r the residual Helmholtz energy of the mixture (pure-substance terms plus binary
+    departure functions) in the reduced variables delta = rho / rho_r(x), tau = T_r(x) / T.
+
+    Parameters
+    ----------
+    pressure : float or ndarray [Pa]
+        Absolute pressure.
+    temperature : float or ndarray [K]
+        Broadcast against ``pressure``.
+    composition : Composition or mapping of component name -> mole fraction [-]
+        Any of the 21 components.
+    speed_of_sound : bool
+        Also compute the speed of sound (needs the tau-derivatives and the ideal-gas part, about
+        40 % of the time). Without it ``ZResult.speed_of_sound`` is None.
+    workers : int, optional
+        Threads for large inputs (blocks of points are independent). Default: one per CPU
+        core, at most 4, and only from 4 blocks (4 x CHUNK points) up; 1 runs in the caller's
+        thread. While they run, the BLAS library is held to one thread each.
+
+    Returns
+    -------
+    ZResult
+        ``z``, ``molar_density`` [mol/m3], ``speed_of_sound`` [m/s] in the broadcast shape;
+        ``molar_mass`` [kg/mol] (the model's own molar masses, a float). A point without a
+        gas-phase root gets NaN and reason ``no-gas-root``; one where the solve did not converge
+        ``no-convergence``; non-finite or non-positive p or T ``invalid-input``. Other points are
+        not affected. ``extra`` holds the reducing temperature ``t_reducing`` [K] and density
+        ``rho_reducing`` [mol/m3].
+
+    Notes
+    -----
+    Range classes (Kunz & Wagner 2012, from memory, see REFERENCES §3): normal range 90-450 K
+    and p <= 35 MPa (gas-phase density uncertainty about 0.1 %), extended range 60-700 K and
+    p <= 70 MPa. GERG-2008 covers the full composition range of its 21 components, so no
+    per-component limits are applied. The density solve takes the gas-phase root: Newton steps
+    in ln(rho) from the low-density series, safeguarded by a bracket and bisection. In the
+    two-phase region the root of the gas branch (a metastable vapour) is returned, as the
+    reference code does. Coefficients are those of the published tables (see
+    :mod:`meterfix.z.tables.gerg2008_coefficients`).
+
+    References
+    ----------
+    1. O. Kunz, W. Wagner, J. Chem. Eng. Data 57 (2012) 3032-3091, doi:10.1021/je300655b.
+    2. AGA Report No. 8 Part 2 (2017); ISO 20765-2:2015.
+    """
+    comp = as_composition(composition)
+    mix = mixture(comp.fractions)
+    p, t = np.broadcast_arrays(np.asarray(pressure, dtype=float), np.asarray(temperature, dtype=float))
+    shape = p.shape
+    pf, tf = p.ravel(), t.ravel()
+    bad = invalid_points(pf, tf)
+    z = np.full(pf.size, np.nan)
+    rho = np.full(pf.size, np.nan)
+    w = np.full(pf.size, np.nan)
+    reason = np.full(pf.size, "", dtype=_REASON_DTYPE)
+    reason[bad] = REASON_INVALID_INPUT
+    idx = np.flatnonzero(~bad)
+    blocks = [idx[s:s + CHUNK] for s in range(0, idx.size, CHUNK)]
+    n_work = _worker_count(workers, len(blocks))
+
+    def run(block_list):
+        ws = _Workspace(mix, min(CHUNK, idx.size))
+        for j in block_list:
+            z[j], rho[j], w[j], reason[j] = _solve_block(mix, ws, pf[j], tf[j], speed_of_sound)
+
+    if n_work <= 1:
+        if blocks:
+            run(blocks)
+    else:
+        _run_parallel(run, blocks, n_work)
+    rng = range_by_box(pf, tf, NORMAL_RANGE, EXTENDED_RANGE)
+    rng[bad] = OUTSIDE
+    return ZResult(z.reshape(shape), rng.reshape(shape), reason.reshape(shape),
+                   "gerg-2008", EDITION, molar_density=rho.reshape(shape), molar_mass=mix.molar_mass,
+                   speed_of_sound=w.reshape(shape) if speed_of_sound else None,
+                   extra={"t_reducing": mix.t_reducing, "rho_reducing": mix.rho_reducing})
+
+
+def _evaluate(pressure, temperature, gas, speed_of_sound=True, workers=None, **_options):
+    return z_gerg2008(pressure, temperature, gas, speed_of_sound=speed_of_sound, workers=workers)
+
+
+METHODS = [
+    ZMethod(
+        "gerg-2008", EDITION, _evaluate, gas_input="composition", family="equation of state",
+        range_text="normal range 90-450 K, p <= 35 MPa; extended range 60-700 K, p <= 70 MPa; "
+                   "21 components, full composition range",
+        uncertainty_pct={NORMAL: 0.1, EXTENDED: 0.5},
+        uncertainty_source="Kunz & Wagner, J. Chem. Eng. Data 57 (2012) 3032: gas-phase density "
+                           "about 0.1 % in the normal range; 0.5 % taken for the extended range "
+                           "(from memory, REFERENCES §3)",
+    )
+]
+
+__all__ = ["z_gerg2008", "EDITION", "NORMAL_RANGE", "EXTENDED_RANGE", "METHODS"]
