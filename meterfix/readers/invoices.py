@@ -13,7 +13,8 @@ Quirks handled:
 - common variations of the header names (``From``/``To``, ``Start date``, ``Volume``,
   ``Quantity``, ``GCV``/``HHV``, ``Energy``, ``Rate``, ``Total``);
 - dates are gas days; the end date is inclusive; ISO dates (2026-03-01), spreadsheet dates and
-  day.month.year are read; a slash date is read only when it is unambiguous;
+  day.month.year are read; slash dates are read day/month or month/day when some date of the
+  file shows which (a part above 12), otherwise refused as ambiguous;
 - a base pressure or base temperature column may be missing when the caller passes the value
   (``pressure_base=``, ``temperature_base=``); a cell may also carry its own unit
   (``14.73 psia``);
@@ -189,7 +190,21 @@ _DOTS = re.compile(r"^(\d{1,2})\.(\d{1,2})\.(\d{4})$")
 _SLASH = re.compile(r"^(\d{1,2})/(\d{1,2})/(\d{4})$")
 
 
-def _date(value, timezone, where):
+def _slash_order(cells) -> str | None:
+    """'dmy' or 'mdy' when the file's slash dates show it (a part above 12), else None."""
+    dmy = mdy = False
+    for c in cells:
+        m = _SLASH.match(str(c).strip()) if isinstance(c, str) else None
+        if m:
+            a, b = int(m.group(1)), int(m.group(2))
+            dmy |= a > 12
+            mdy |= b > 12
+    if dmy and mdy:
+        return "mixed"
+    return "dmy" if dmy else ("mdy" if mdy else None)
+
+
+def _date(value, timezone, where, slash_order=None):
     if isinstance(value, _dt.datetime):
         ts = pd.Timestamp(value)
         if ts.tzinfo is not None:
@@ -210,6 +225,10 @@ def _date(value, timezone, where):
         m = _SLASH.match(text)
         if m:
             a, b, y = int(m.group(1)), int(m.group(2)), int(m.group(3))
+            if slash_order == "dmy":
+                return _dt.date(y, b, a)
+            if slash_order == "mdy":
+                return _dt.date(y, a, b)
             if a > 12 >= b:
                 return _dt.date(y, b, a)
             if b > 12 >= a:
@@ -332,6 +351,12 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
             raise InputError(f"the invoice has no '{label.split(' [')[0]}' column", **loc, row=hi + 1,
                              hint=f"add a column '{label}' or give the invoice's base conditions to the reader")
 
+    date_cells = [r[cols[c][0]] for r in rows[hi + 1:] for c in ("period_start", "period_end")
+                  if r is not None and cols[c][0] < len(r)]
+    order = _slash_order(date_cells)
+    if order == "mixed":
+        raise InputError("the dates mix day/month/year and month/day/year", **loc, column=cols["period_start"][1],
+                         hint="write dates as YYYY-MM-DD (e.g. 2026-03-01)")
     out = []
     seen_totals = []
     for i in range(hi + 1, len(rows)):
@@ -353,7 +378,7 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
             v = cell(canon)
             if v is None or str(v).strip() == "":
                 raise InputError("empty date", **where, hint="every billing period needs its start and end gas day")
-            rec[canon] = _date(v, timezone, where)
+            rec[canon] = _date(v, timezone, where, order)
         for canon in ("volume_billed", "pressure_base", "temperature_base", "heating_value", "energy_billed",
                       "price", "amount"):
             if canon not in cols:
