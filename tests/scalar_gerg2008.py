@@ -136,19 +136,25 @@ def density(p, temperature, x, max_iter=200):
     for _ in range(max_iter):
         pp, slope = p_and_slope(rho)
         good = math.isfinite(pp) and pp > 0 and slope > 0
+        if good:
+            new = rho - (pp - p) / slope
+            if abs(new - rho) <= 1e-13 * rho and lo <= new <= hi:
+                return new if _on_gas_branch(p_and_slope, new) else math.nan
         if not good or pp > p:
             hi = min(hi, rho)
         else:
             lo = max(lo, rho)
-        new = rho - (pp - p) / slope if good else 0.5 * (lo + hi)
-        if not (lo < new < hi):
+        if not good or not (lo < new < hi):
             new = 0.5 * (lo + hi)
-        if good and abs(new - rho) <= 1e-15 * rho:
-            return new
         if hi - lo < 1e-15 * hi:
             return math.nan
         rho = new
     return math.nan
+
+
+def _on_gas_branch(p_and_slope, rho, n=200):
+    """True if dp/drho > 0 all the way from 0 to rho (no van der Waals loop on the way)."""
+    return all(p_and_slope(rho * k / n)[1] > 0 for k in range(1, n))
 
 
 def properties(p, temperature, x):

@@ -136,10 +136,11 @@ def _solve_block(mix: GergMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray,
             hi = np.where(~good | (f > 0), np.minimum(hi, d), hi)
             lo = np.where(good & (f < 0), np.maximum(lo, d), lo)
             new = d * np.exp(step)
-            bisect = ~good | ~(new > lo) | ~(new < hi)
-            new = np.where(bisect, 0.5 * (lo + hi), new)
             tol = np.where(halley, STEP_TOL_HALLEY, STEP_TOL_NEWTON) * np.minimum(1.0, f1)
-            conv = good & ~bisect & (np.abs(step) < tol)
+            # a converged step may round onto a bracket end: accept it there too
+            conv = good & (np.abs(step) < tol) & (new >= lo) & (new <= hi)
+            bisect = ~conv & (~good | ~(new > lo) | ~(new < hi))
+            new = np.where(bisect, 0.5 * (lo + hi), new)
             collapsed = ~conv & (hi - lo < 1e-13 * hi)
             delta[act] = new
             done[act[conv]] = True
