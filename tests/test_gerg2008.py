@@ -112,15 +112,17 @@ def natural_gases(draw):
 
 @settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(gas=natural_gases(),
-       pressures=st.lists(st.floats(1e4, 40e6), min_size=1, max_size=3),
-       temperature=st.floats(240.0, 480.0))
-def test_vectorized_matches_scalar(gas, pressures, temperature):
-    # tests/scalar_gerg2008.py (term-by-term, own Newton/bisection solve): 1e-12 relative
-    p = np.array(pressures)
-    res = z_gerg2008(p, temperature, gas)
+       points=st.lists(st.tuples(st.floats(1e4, 40e6), st.floats(240.0, 480.0)), min_size=1, max_size=3),
+       one_temperature=st.booleans())
+def test_vectorized_matches_scalar(gas, points, one_temperature):
+    # tests/scalar_gerg2008.py (term-by-term, own Newton/bisection solve): 1e-12 relative.
+    # One shared temperature exercises the per-distinct-temperature path, distinct ones the other.
+    p = np.array([q for q, _ in points])
+    t = np.full(p.size, points[0][1]) if one_temperature else np.array([u for _, u in points])
+    res = z_gerg2008(p, t, gas)
     x = list(gas.fractions)
-    for k, pk in enumerate(p):
-        ref = scalar.properties(float(pk), temperature, x)
+    for k in range(p.size):
+        ref = scalar.properties(float(p[k]), float(t[k]), x)
         if not math.isfinite(ref["z"]):  # both must then agree there is no gas root
             assert not np.isfinite(res.z[k])
             continue
@@ -305,6 +307,9 @@ def test_no_gas_root_is_nan_with_reason_and_others_unaffected():
     assert np.isnan(res.z[1]) and np.isnan(res.molar_density[1]) and np.isnan(res.speed_of_sound[1])
     alone = z_gerg2008(np.array([0.5e6, 0.8e6]), 300.0, propane)
     np.testing.assert_array_equal(res.z[[0, 2]], alone.z)
+    # the same with a temperature per point (no shared-temperature shortcut)
+    res_t = z_gerg2008(p, np.array([300.0, 300.2, 300.4]), propane)
+    assert res_t.reason.tolist() == ["", "no-gas-root", ""] and np.all(np.isfinite(res_t.speed_of_sound[[0, 2]]))
     methane = z_gerg2008(np.array([10e6, 0.5e6]), 150.0, {"methane": 1.0})
     assert methane.reason.tolist() == ["no-gas-root", ""]
 

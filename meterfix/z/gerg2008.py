@@ -83,10 +83,9 @@ def _z_functions(mix: GergMixture, ws: _Workspace, b: np.ndarray, delta: np.ndar
     return [np.einsum("ij,ij->i", h[:, m * _NP:(m + 1) * _NP], pw) for m in range(parts)]
 
 
-def _initial_delta(mix: GergMixture, taup: np.ndarray, pi: np.ndarray) -> np.ndarray:
+def _initial_delta(virial: np.ndarray, pi: np.ndarray) -> np.ndarray:
     """Start from the low-density series Z = 1 + b1 delta + b2 delta^2 (falls back to ideal gas)."""
-    b = taup @ mix.virial
-    b1, b2 = b[:, 0], b[:, 1]
+    b1, b2 = virial[:, 0], virial[:, 1]
     d = pi.copy()
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
         for _ in range(6):
@@ -105,13 +104,26 @@ def _solve_block(mix: GergMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray,
     """
     n = p.size
     tau = mix.t_reducing / t
-    taup = ws.taup[:n]
-    np.multiply.outer(np.log(tau), mix.t_exponents, out=taup)
+    # everything that depends on T alone is computed once per distinct temperature (logged
+    # temperatures repeat a lot), then spread to the points
+    t_u, inv = np.unique(t, return_inverse=True)
+    spread = t_u.size <= 0.75 * n
+    if not spread:
+        t_u, inv = t, None
+    m = t_u.size
+    taup = ws.taup[:m]
+    np.multiply.outer(np.log(mix.t_reducing / t_u), mix.t_exponents, out=taup)
     np.exp(taup, out=taup)
     b = ws.b[:n]
-    np.matmul(taup, mix.coef, out=b)
+    if spread:
+        np.matmul(taup, mix.coef, out=ws.bsub[:m])
+        np.take(ws.bsub[:m], inv, axis=0, out=b)
+        virial = (taup @ mix.virial)[inv]
+    else:
+        np.matmul(taup, mix.coef, out=b)
+        virial = taup @ mix.virial
     pi = p / (mix.rho_reducing * R_GERG * t)  # delta of an ideal gas
-    delta = _initial_delta(mix, taup, pi)
+    delta = _initial_delta(virial, pi)
     # the active points are kept packed at the front of their arrays
     act = np.arange(n)
     d, lo, hi, lnpi = delta.copy(), np.zeros(n), np.full(n, DELTA_MAX), np.log(pi)
@@ -163,10 +175,20 @@ def _solve_block(mix: GergMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray,
     if i.size and not sound:
         z[i] = pi[i] / delta[i]
     elif i.size:
-        if i.size == n:
-            z, w = _properties(mix, ws, taup, b, delta, t)
+        if spread:
+            btau = (taup @ mix.coef_tau)[inv[i]]
+            ideal = _ideal_tt(mix, ws, t_u)[inv[i]]
+        elif i.size == n:
+            btau = ws.btau[:n]
+            np.matmul(taup, mix.coef_tau, out=btau)
+            ideal = _ideal_tt(mix, ws, t)
         else:
-            z[i], w[i] = _properties(mix, ws, taup[i], b[i], delta[i], t[i])
+            btau = taup[i] @ mix.coef_tau
+            ideal = _ideal_tt(mix, ws, t[i])
+        if i.size == n:
+            z, w = _properties(mix, ws, btau, ideal, b, delta, t)
+        else:
+            z[i], w[i] = _properties(mix, ws, btau, ideal, b[i], delta[i], t[i])
         bad = ~np.isfinite(z[i]) | (z[i] <= 0)
         reason[i[bad]] = REASON_NO_CONVERGENCE
         ok[i[bad]] = False
@@ -222,13 +244,15 @@ def _ideal_tt(mix: GergMixture, ws: _Workspace, t: np.ndarray) -> np.ndarray:
     return out
 
 
-def _properties(mix: GergMixture, ws: _Workspace, taup, b, delta, t):
-    """Z and speed of sound [m/s] at the converged reduced density."""
+def _properties(mix: GergMixture, ws: _Workspace, bt, ideal, b, delta, t):
+    """Z and speed of sound [m/s] at the converged reduced density.
+
+    ``bt`` holds the per-point tau-derivative coefficients ``tau^t @ coef_tau``, ``ideal`` the
+    ideal-gas tau^2 d2(alpha_0)/dtau^2.
+    """
     k = delta.size
     zm1, zu = _z_functions(mix, ws, b, delta, 2)
     nc = mix.n_col
-    bt = ws.btau[:k]
-    np.matmul(taup, mix.coef_tau, out=bt)
     phi = ws.phi[:k]
     y = ws.y[:k]
     np.multiply(bt[:, :nc], phi, out=y)
@@ -238,7 +262,7 @@ def _properties(mix: GergMixture, ws: _Workspace, taup, b, delta, t):
     a20 = np.einsum("ij,ij->i", bt[:, nc:], phi)  # tau^2 d2(ar)/dtau2
     z = 1.0 + zm1
     slope = z + zu
-    cv = -(_ideal_tt(mix, ws, t) + a20)  # c_v / R
+    cv = -(ideal + a20)  # c_v / R
     cp = cv + (z - a11) ** 2 / slope  # c_p / R
     with np.errstate(invalid="ignore", divide="ignore"):
         w2 = cp / cv * slope * R_GERG * t / mix.molar_mass
