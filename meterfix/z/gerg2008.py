@@ -27,7 +27,7 @@ NORMAL_RANGE = (35.0e6, 90.0, 450.0)
 EXTENDED_RANGE = (70.0e6, 60.0, 700.0)
 
 #: points per block of the vectorized solve (bounds the size of the 2-D work arrays)
-CHUNK = 4096
+CHUNK = 8192
 #: upper bound of the reduced density searched for a root (liquid densities are below ~3)
 DELTA_MAX = 5.0
 #: a Halley step in ln(delta) below this is converged (the error after it is ~ step^3);
