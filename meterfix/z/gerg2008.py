@@ -277,7 +277,7 @@ MAX_WORKERS = 4
 
 def _worker_count(workers, n_blocks: int) -> int:
     if workers is None:
-        if n_blocks < 4:
+        if n_blocks < 2:
             return 1
         workers = min(MAX_WORKERS, os.cpu_count() or 1)
     return max(1, min(int(workers), n_blocks))
@@ -318,7 +318,7 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
         40 % of the time). Without it ``ZResult.speed_of_sound`` is None.
     workers : int, optional
         Threads for large inputs (blocks of points are independent). Default: one per CPU
-        core, at most 4, and only from 4 blocks (4 x CHUNK points) up; 1 runs in the caller's
+        core, at most 4, from two blocks (2 x CHUNK points) up; 1 runs in the caller's
         thread. While they run, the BLAS library is held to one thread each.
 
     Returns
@@ -359,7 +359,8 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
     reason = np.full(pf.size, "", dtype=_REASON_DTYPE)
     reason[bad] = REASON_INVALID_INPUT
     idx = np.flatnonzero(~bad)
-    blocks = [idx[s:s + CHUNK] for s in range(0, idx.size, CHUNK)]
+    n_blocks = -(-idx.size // CHUNK)  # blocks of equal size, at most CHUNK points
+    blocks = np.array_split(idx, n_blocks) if n_blocks else []
     n_work = _worker_count(workers, len(blocks))
 
     def run(block_list):
