@@ -336,10 +336,14 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
     Range classes (Kunz & Wagner 2012, from memory, see REFERENCES §3): normal range 90-450 K
     and p <= 35 MPa (gas-phase density uncertainty about 0.1 %), extended range 60-700 K and
     p <= 70 MPa. GERG-2008 covers the full composition range of its 21 components, so no
-    per-component limits are applied. The density solve takes the gas-phase root: Newton steps
-    in ln(rho) from the low-density series, safeguarded by a bracket and bisection. In the
-    two-phase region the root of the gas branch (a metastable vapour) is returned, as the
-    reference code does. Coefficients are those of the published tables (see
+    per-component limits are applied (GERG-2008 is stated for the whole composition range of
+    its components; from memory). The density solve takes the gas-phase root: Halley steps
+    (Newton where Halley's correction is not trusted) in ln(rho) on ln(p), started from the
+    low-density series Z = 1 + b1 delta + b2 delta^2 and safeguarded by a bracket with bisection;
+    a root is rejected as ``no-gas-root`` if dp/drho does not stay positive from rho = 0 up to it
+    (checked where a van der Waals loop is possible). No phase-equilibrium calculation is made:
+    inside the two-phase region the root of the gas branch (a supersaturated vapour) is
+    returned, as the reference code does. Coefficients are those of the published tables (see
     :mod:`meterfix.z.tables.gerg2008_coefficients`).
 
     References
