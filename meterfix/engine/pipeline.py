@@ -132,14 +132,15 @@ def absolute_pressure(frame: pd.DataFrame, settings: Settings):
 
 def _heating_value(gas, settings: Settings):
     """Gross real-gas volumetric heating value at base conditions [J/m3] and its source text."""
-    from .. import energy as E
-
     if settings.heating_value is not None:
         hv = settings.heating_value
         tref = settings.heating_value_reference_temperature
         pref = settings.heating_value_reference_pressure
         if tref is None and pref is None:
             return hv, "supplied, taken as stated at the contract base conditions"
+    from .. import energy as E
+
+    if settings.heating_value is not None:
         tref = settings.temperature_base if tref is None else tref
         pref = settings.pressure_base if pref is None else pref
         comp = gas if isinstance(gas, Composition) else None
