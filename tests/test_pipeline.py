@@ -104,9 +104,9 @@ def test_us_gas_day_starts_at_nine_central():
 
 
 def test_findings_rank_by_volume_and_threshold():
-    f = _frame(n=72)
+    f = _frame(n=72, start="2026-03-02 01:00")  # interval ends 01:00..00:00: three whole gas days
     f.iloc[:24, f.columns.get_loc("pressure_line")] = 2e5  # a low-pressure day: small ideal-gas error
-    r = run_month(f, [(None, GAS)], _settings(ideal_gas_threshold="0.5"))
+    r = run_month(f, [(None, GAS)], _settings(ideal_gas_threshold="0.5", gas_day_start="00:00"))
     days = r.findings[r.findings.kind == "gas day"]
     assert len(days) == 2  # the two days near 39 bar exceed 0.5 %, the 2-bar day does not
     assert list(r.findings["rank"]) == list(range(1, len(r.findings) + 1))

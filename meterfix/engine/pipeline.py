@@ -130,7 +130,7 @@ def absolute_pressure(frame: pd.DataFrame, settings: Settings):
     return frame["pressure_gauge"].to_numpy(float) + atm, atm, atm_source
 
 
-def _heating_value(gas, settings: Settings):
+def _heating_value(gas, settings: Settings, z_base: float = None):
     """Gross real-gas volumetric heating value at base conditions [J/m3] and its source text."""
     if settings.heating_value is not None:
         hv = settings.heating_value
@@ -151,8 +151,8 @@ def _heating_value(gas, settings: Settings):
     if isinstance(gas, Composition):
         res = E.heating_value(gas, temperature_combustion=settings.temperature_combustion,
                               temperature_metering=settings.temperature_base,
-                              pressure_metering=settings.pressure_base)
-        return float(res.gross_volumetric_real), f"ISO 6976:{res.edition} from the analysis"
+                              pressure_metering=settings.pressure_base, z_metering=z_base)
+        return float(res.gross_volumetric_real), f"from the analysis ({res.edition})"
     if isinstance(gas, GrossCharacterization) and gas.heating_value is not None:
         hv2 = E.convert_volumetric_heating_value(
             gas.heating_value, composition=None, temperature_metering_from=gas.temperature_reference_density,
@@ -342,9 +342,9 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
 
     # analysis in force for each interval: the latest one whose effective time is at or before the
     # interval's start
-    eff = np.array([(pd.Timestamp.min.tz_localize("UTC") if a[0] is None else pd.Timestamp(a[0])).value
+    eff = np.array([np.iinfo(np.int64).min if a[0] is None else pd.Timestamp(a[0]).as_unit("ns").value
                     for a in analyses], dtype=np.int64)
-    starts = (df.index - pd.to_timedelta(np.nan_to_num(duration), unit="s")).asi8
+    starts = (df.index - pd.to_timedelta(np.nan_to_num(duration), unit="s")).as_unit("ns").asi8
     which = np.searchsorted(eff, starts, side="right") - 1
     which = np.clip(which, 0, len(analyses) - 1)
     df["analysis"] = which
@@ -365,7 +365,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
             rb = evaluate_z(settings.pressure_base, settings.temperature_base, gas, method.name)
             a.z_base = float(np.asarray(rb.z).reshape(-1)[0])
             a.molar_mass = _molar_mass(gas)
-            a.heating_value, a.heating_value_source = _heating_value(gas, settings)
+            a.heating_value, a.heating_value_source = _heating_value(gas, settings, a.z_base)
             a.density_base = float(K.density_at_base(settings.pressure_base, settings.temperature_base,
                                                      a.z_base, a.molar_mass))
         in_force.append(a)
