@@ -156,3 +156,19 @@ def _fleet(folder, out, workers, options, overwrite):
             typer.echo(f"  {r['meter_folder']}: {r['error']}", err=True)
     if ok < len(rows):
         raise typer.Exit(2)
+
+
+@app.command("demo")
+def demo_command(
+    folder: Path = typer.Argument(Path("meterfix-demo"), help="Folder for the demo outputs."),
+    overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
+):
+    """Run an invented month (a 40-bar industrial meter) and print where the outputs are."""
+    try:
+        from .console import print_summary
+        from .demo import run_demo
+
+        result, written = run_demo(folder, overwrite=overwrite)
+        print_summary(result, written)
+    except MeterfixError as exc:
+        _fail(exc)

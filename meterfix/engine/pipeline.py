@@ -410,7 +410,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     flag_cols = [c for c in frame.columns if c.startswith("flag_")]
     for c in flag_cols:
         df[c] = frame[c].to_numpy(bool)
-    df["flag_z_outside_range"] = z_range == OUTSIDE
+    df["flag_z_outside_range"] = (z_range == OUTSIDE) & np.isfinite(z_line)
     df["flag_no_result"] = bad & np.isfinite(vl)
     df["estimated"] = frame["flag_estimated"].to_numpy(bool) if "flag_estimated" in frame.columns else False
     all_flags = [c for c in df.columns if c.startswith("flag_")]
