@@ -27,8 +27,11 @@ def load_analyses(settings: Settings, composition=None, gas=None):
     if gas is not None:
         return [(None, gas if isinstance(gas, Composition) else Composition.parse(str(gas)))]
     if composition is not None:
-        from ..readers import read_analyses
-
+        try:
+            from ..readers import read_analyses
+        except ImportError:
+            raise InputError("reading gas-analysis files is not part of this build yet",
+                             hint="give the gas as --gas 'methane=0.95,ethane=0.03,...'") from None
         return read_analyses(_check_file(composition), timezone=settings.timezone)
     return []
 
@@ -45,8 +48,13 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
     gas : str or Composition, optional
     invoice : path, optional        supplier invoice to reconcile
     """
-    from ..readers import read_log
-    from . import quality
+    try:
+        from ..readers import read_log
+        from . import quality
+    except ImportError:
+        raise InputError("reading log files is not part of this build yet",
+                         hint="use the Python API (meterfix.engine.pipeline.run_month) with a canonical "
+                              "frame, or 'meterfix demo'") from None
 
     paths = [_check_file(p) for p in ([logs] if isinstance(logs, (str, Path)) else list(logs))]
     if not paths:

@@ -72,10 +72,6 @@ def compressibility(pressure, temperature, composition=None, method: str = DEFAU
         :class:`~meterfix.errors.RangeWarning`; points where the method fails are NaN (use
         :func:`evaluate_z` for the reasons).
 
-    Examples
-    --------
-    >>> round(compressibility(6e6, 293.15, {"methane": 0.9, "ethane": 0.1}, method="aga8-detail"), 4)
-    0.8435
     """
     import pandas as pd
 
