@@ -48,6 +48,12 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
     gas : str or Composition, optional
     invoice : path, optional        supplier invoice to reconcile
     """
+    paths = [_check_file(p) for p in ([logs] if isinstance(logs, (str, Path)) else list(logs))]
+    if not paths:
+        raise SettingsError("no log file given", hint="meterfix correct LOG... --out DIR")
+    for extra in (composition, invoice):
+        if extra is not None:
+            _check_file(extra)
     try:
         from ..readers import read_log
         from . import quality
@@ -56,9 +62,6 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
                          hint="use the Python API (meterfix.engine.pipeline.run_month) with a canonical "
                               "frame, or 'meterfix demo'") from None
 
-    paths = [_check_file(p) for p in ([logs] if isinstance(logs, (str, Path)) else list(logs))]
-    if not paths:
-        raise SettingsError("no log file given", hint="meterfix correct LOG... --out DIR")
     analyses = load_analyses(settings, composition, gas)
     frame, meta = read_log(
         paths, timezone=settings.timezone, interval_label=settings.interval_label,
