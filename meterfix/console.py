@@ -2,6 +2,8 @@
 
 from __future__ import annotations
 
+import math
+
 import typer
 
 
@@ -9,6 +11,10 @@ def _fmt(v, digits=6):
     if v is None:
         return "-"
     return f"{v:,.{digits}g}" if isinstance(v, float) else str(v)
+
+
+def _finite(v) -> bool:
+    return isinstance(v, (int, float)) and math.isfinite(v)
 
 
 def print_summary(result, written: dict) -> None:
@@ -26,6 +32,26 @@ def print_summary(result, written: dict) -> None:
     unc = result.uncertainty
     if unc is not None and getattr(unc, "expanded_pct", None) is not None:
         typer.echo(f"  expanded uncertainty {unc.expanded_pct:.3f} % (k = 2)")
+    rec = result.reconciliation
+    if rec is not None:
+        rt = rec.totals or {}
+        dv = rt.get("volume_difference_pct")
+        typer.echo(f"  invoice              {len(rec.periods)} period(s); billed − ours "
+                   f"{_fmt(dv, 4)} % of volume"
+                   + (f", {_fmt(rt.get('energy_difference_pct'), 4)} % of energy"
+                      if _finite(rt.get("energy_difference_pct")) else ""))
+        steps = rec.attribution[rec.attribution["kind"] == "step"] if len(rec.attribution) else None
+        if steps is not None and len(steps):
+            top = steps.reindex(steps["volume_m3"].abs().sort_values(ascending=False).index).head(3)
+            for _, r in top.iterrows():
+                typer.echo(f"    explained by {r['step']:<28} {r['volume_m3']:+,.1f} m3")
+    cc = result.corrector_check
+    if cc is not None:
+        typer.echo(f"  site corrector       {_fmt(cc.size_pct, 4)} % against ours over the month")
+        for f in cc.findings[:3]:
+            typer.echo(f"    likely cause: {f['cause']:<22} {_fmt(f.get('size_pct'), 4)} %")
+        if not cc.findings:
+            typer.echo("    no misconfiguration found above the threshold")
     for w in result.warnings:
         typer.echo(f"  note: {w}")
     typer.echo("  outputs:")
