@@ -1,0 +1,586 @@
+"""Any table file → a raw table of cells with the row numbers a spreadsheet program shows.
+
+This is the shared bottom layer of the readers (logs, analyses, invoices). It knows nothing of
+meters: it finds the header row, keeps the title and note rows above it, and hands back the cells
+below it as text (text files) or as the workbook's own values (numbers, datetimes).
+
+Formats
+-------
+- **Text** (``.csv``, ``.txt``, ``.tsv``, ``.dat``): encoding ``utf-8`` / ``utf-8-sig`` (BOM),
+  UTF-16 with a BOM, else ``cp1252`` (else ``latin-1``); delimiter sniffed among ``,`` ``;`` tab
+  and ``|`` from the field counts of the sample's lines (title rows above the header do not
+  confuse it); decimal comma or decimal point decided from the data cells; thousands separators
+  (``1,234.5``, ``1.234,5``, ``1 234,5``, ``1'234.5``) removed when numbers are read.
+- **Workbooks** (``.xlsx``, ``.xlsm``, ``.xls``, ``.ods``) through python-calamine (a Rust reader),
+  with openpyxl as a fallback for ``.xlsx``/``.xlsm`` that calamine refuses (openpyxl parses the
+  XML through defusedxml when it is installed, which it is: a dependency of meterfix).
+
+Safety
+------
+- The first bytes of the file must match its extension: a CSV renamed ``.xlsx``, an ``.xls``
+  renamed ``.xlsx``, or a workbook renamed ``.csv`` is an :class:`InputError` saying what the file
+  really is. An ``.xlsx`` that is an encrypted container is reported as password-protected.
+- Zip workbooks (xlsx, xlsm, ods) are checked before any cell is read: at most
+  ``Limits.max_members`` members, a declared unpacked total of at most
+  ``Limits.max_unpacked_bytes`` (500 MiB by default), no member above 1 MiB packed more densely
+  than ``Limits.max_ratio`` : 1; then every member is inflated once in streaming fashion, which
+  never produces more than the declared size and fails on a CRC mismatch, so a member lying about
+  its size is caught (zip bombs).
+- At most ``Limits.max_rows`` rows; binary garbage is "not a text table"; an empty file and a
+  file with a header but no data rows are errors naming the file.
+
+Input files are opened read-only and never modified.
+"""
+
+from __future__ import annotations
+
+import codecs
+import csv
+import hashlib
+import io
+import re
+import zipfile
+from dataclasses import dataclass, field
+from pathlib import Path
+from typing import Callable
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError
+
+TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".dat")
+ZIP_SUFFIXES = (".xlsx", ".xlsm", ".ods")
+WORKBOOK_SUFFIXES = ZIP_SUFFIXES + (".xls",)
+_ZIP_MAGIC = b"PK\x03\x04"
+_OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
+_ENCRYPTED = "EncryptedPackage".encode("utf-16-le")
+_EMPTY_TEXT = ("", "-", "--", "---", "n/a", "na", "null", "none", "nan", "#n/a")
+
+
+@dataclass(frozen=True)
+class Limits:
+    """Safety limits of the table reader.
+
+    Attributes
+    ----------
+    max_unpacked_bytes : int [byte]   declared unpacked size of all members of a zip workbook
+    max_ratio : float [-]             largest packing ratio of a member above 1 MiB unpacked
+    max_members : int                 members of a zip workbook
+    max_rows : int                    rows of one table
+    max_text_bytes : int [byte]       size of a text table
+    header_scan_rows : int            rows searched for the header
+    verify_zip : bool                 inflate every member once to check its declared size
+    """
+
+    max_unpacked_bytes: int = 500 * 2**20
+    max_ratio: float = 200.0
+    max_members: int = 10_000
+    max_rows: int = 5_000_000
+    max_text_bytes: int = 1 * 2**30
+    header_scan_rows: int = 40
+    verify_zip: bool = True
+
+
+DEFAULT_LIMITS = Limits()
+
+
+@dataclass
+class RawTable:
+    """The cells below the header row of one table.
+
+    Attributes
+    ----------
+    file : str                  the file as named to the reader (for messages)
+    sheet : str or None         sheet name for workbooks
+    header_row : int            1-based row of the header, as a spreadsheet shows it
+    header : list of str        header cells ('' for an empty header cell)
+    cells : DataFrame           one column per header cell (columns 0..n-1), object values:
+                                text files give str ('' when empty); workbooks give float, int,
+                                bool, datetime, date, time, timedelta or str ('' when empty)
+    rows : ndarray of int       1-based source row of each row of ``cells``
+    notes : list of str         title and note rows above the header (joined cells)
+    kind : str                  'text' or 'workbook'
+    encoding, delimiter : str or None   text files only
+    decimal : str               '.' or ',' (text files; '.' for workbooks)
+    sha256 : str                of the file's bytes
+    sheets : list of str        every sheet of a workbook
+    """
+
+    file: str
+    sheet: str | None
+    header_row: int
+    header: list
+    cells: pd.DataFrame
+    rows: np.ndarray
+    notes: list = field(default_factory=list)
+    kind: str = "text"
+    encoding: str | None = None
+    delimiter: str | None = None
+    decimal: str = "."
+    sha256: str = ""
+    sheets: list = field(default_factory=list)
+
+    def where(self, row=None, column=None) -> dict:
+        """Keyword arguments for an error raised about this table."""
+        return {"file": self.file, "sheet": self.sheet, "row": row, "column": column}
+
+
+# ---------------------------------------------------------------------------------------------
+def default_header_score(cells) -> float:
+    """Score of a row as a header: its count of non-empty text cells that are not numbers (≥ 2)."""
+    n = 0
+    for c in cells:
+        if isinstance(c, str):
+            t = c.strip()
+            if t and not _looks_numeric(t):
+                n += 1
+    return float(n) if n >= 2 else 0.0
+
+
+_NUMERIC = re.compile(r"^[-+]?[\d.,' \u00a0]*\d[\d.,' \u00a0]*(?:[eE][-+]?\d+)?$")
+
+
+def _looks_numeric(t: str) -> bool:
+    return bool(_NUMERIC.match(t))
+
+
+def _cell_text(c) -> str:
+    if c is None:
+        return ""
+    if isinstance(c, float) and np.isnan(c):
+        return ""
+    return str(c).strip()
+
+
+def _find_header(rows, score: Callable, scan: int) -> tuple[int, float]:
+    best_i, best_s = -1, 0.0
+    for i, r in enumerate(rows[:scan]):
+        s = score(list(r))
+        if s > best_s:
+            best_i, best_s = i, s
+    return best_i, best_s
+
+
+# ---------------------------------------------------------------------------------------------
+def sniff_format(head: bytes, suffix: str, name) -> str:
+    """'zip', 'ole', 'text' from the first bytes, checked against the extension."""
+    suffix = suffix.lower()
+    if not head:
+        raise InputError("the file is empty", file=name, hint="export the log again; the file has no bytes")
+    is_zip = head.startswith(_ZIP_MAGIC)
+    is_ole = head.startswith(_OLE_MAGIC)
+    if suffix in ZIP_SUFFIXES:
+        if is_zip:
+            return "zip"
+        if is_ole:
+            if _ENCRYPTED in head:
+                raise InputError("the workbook is password-protected (encrypted)", file=name,
+                                 hint="open it in the spreadsheet program, remove the password and save a copy")
+            raise InputError(f"the file is an old binary .xls workbook saved with the '{suffix}' extension",
+                             file=name, hint="rename it to .xls, or save it again as .xlsx")
+        if _text_like(head):
+            raise InputError(f"the file is text (CSV?) saved with the '{suffix}' extension", file=name,
+                             hint="rename it to .csv, or open it and save it as a workbook")
+        raise InputError(f"the file is not a '{suffix}' workbook (its first bytes do not match)", file=name,
+                         hint="the file may be damaged: export it again")
+    if suffix == ".xls":
+        if is_ole:
+            return "ole"
+        if is_zip:
+            raise InputError("the file is an .xlsx/.ods workbook saved with the '.xls' extension", file=name,
+                             hint="rename it to .xlsx")
+        if _text_like(head):
+            raise InputError("the file is text (CSV?) saved with the '.xls' extension", file=name,
+                             hint="rename it to .csv")
+        raise InputError("the file is not an .xls workbook (its first bytes do not match)", file=name,
+                         hint="the file may be damaged: export it again")
+    if suffix in TEXT_SUFFIXES:
+        if is_zip or is_ole:
+            kind = "an .xlsx/.ods" if is_zip else "an .xls"
+            raise InputError(f"the file is {kind} workbook saved with the '{suffix}' extension", file=name,
+                             hint="rename it to " + (".xlsx" if is_zip else ".xls"))
+        if not _text_like(head):
+            raise InputError("not a text table (the file holds binary data)", file=name,
+                             hint="give a CSV/TXT export or a workbook (.xlsx, .xls, .ods)")
+        return "text"
+    raise InputError(f"unsupported file type '{suffix or '(none)'}'", file=name,
+                     hint="give a .csv, .txt, .tsv, .xlsx, .xlsm, .xls or .ods file")
+
+
+def _text_like(head: bytes) -> bool:
+    if head.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+        return True
+    if b"\x00" in head:
+        return False
+    ctrl = sum(1 for b in head if b < 32 and b not in (9, 10, 13, 12))
+    return ctrl <= max(2, len(head) // 200)
+
+
+def check_zip(fileobj, name, limits: Limits = DEFAULT_LIMITS) -> None:
+    """Refuse a zip workbook that is corrupt or would unpack to more than the limits allow."""
+    try:
+        zf = zipfile.ZipFile(fileobj)
+    except (zipfile.BadZipFile, OSError, ValueError) as exc:
+        raise InputError(f"the workbook is damaged (not a readable zip file: {exc})", file=name,
+                         hint="open it in the spreadsheet program and save it again, or export a CSV") from None
+    with zf:
+        infos = zf.infolist()
+        if len(infos) > limits.max_members:
+            raise InputError(f"the workbook has {len(infos)} parts, more than {limits.max_members}", file=name,
+                             hint="this does not look like a log workbook; export the sheet as CSV")
+        total = sum(i.file_size for i in infos)
+        if total > limits.max_unpacked_bytes:
+            raise InputError(f"the workbook would unpack to {total / 2**20:.0f} MiB, more than the limit of "
+                             f"{limits.max_unpacked_bytes / 2**20:.0f} MiB", file=name,
+                             hint="split the log into monthly files, or export it as CSV")
+        for i in infos:
+            if i.file_size > 2**20 and i.file_size > limits.max_ratio * max(i.compress_size, 1):
+                raise InputError(f"workbook part '{i.filename}' is packed {i.file_size / max(i.compress_size, 1):.0f}:1, "
+                                 f"more than the limit of {limits.max_ratio:.0f}:1 (a zip bomb?)", file=name,
+                                 hint="do not open this file; ask the sender for a plain export")
+        if limits.verify_zip:
+            buf = bytearray(2**20)
+            for i in infos:
+                try:
+                    with zf.open(i) as fh:
+                        while fh.readinto(buf):
+                            pass
+                except (zipfile.BadZipFile, NotImplementedError, RuntimeError, OSError, EOFError) as exc:
+                    raise InputError(f"the workbook is damaged or encrypted (part '{i.filename}': {exc})", file=name,
+                                     hint="open it in the spreadsheet program and save it again") from None
+                except Exception as exc:  # noqa: BLE001 - zlib.error and friends
+                    raise InputError(f"the workbook is damaged (part '{i.filename}': {exc})", file=name,
+                                     hint="open it in the spreadsheet program and save it again") from None
+
+
+# ---------------------------------------------------------------------------------------------
+def read_table(path, sheet=None, *, header_score: Callable | None = None, prefer=(),
+               limits: Limits = DEFAULT_LIMITS) -> RawTable:
+    """Read a table file (CSV/TXT or workbook) into a :class:`RawTable`.
+
+    Parameters
+    ----------
+    path : str or Path
+    sheet : str, optional        sheet of a workbook (case-insensitive); default: the sheet named in
+                                 ``prefer``, else the one whose header scores best
+    header_score : callable, optional   row cells → score; the best-scoring row among the first
+                                 ``limits.header_scan_rows`` is the header (default: the row with
+                                 the most text cells, at least two)
+    prefer : tuple of str        sheet names tried first (case-insensitive)
+    limits : Limits
+
+    Raises
+    ------
+    InputError
+        Missing, empty, unsupported, mislabelled, damaged or protected file; no header; no data.
+    """
+    p = Path(path)
+    if not p.exists():
+        raise InputError("file not found", file=p, hint="check the path")
+    if p.is_dir():
+        raise InputError("is a folder, not a file", file=p, hint="give the file inside it")
+    with open(p, "rb") as fh:
+        return parse_table(fh, name=str(p), suffix=p.suffix, sheet=sheet, header_score=header_score,
+                           prefer=prefer, limits=limits)
+
+
+def parse_table(fileobj, *, name: str = "<table>", suffix: str | None = None, sheet=None,
+                header_score: Callable | None = None, prefer=(), limits: Limits = DEFAULT_LIMITS) -> RawTable:
+    """Read a table from a binary file-like object (see :func:`read_table`).
+
+    Parameters
+    ----------
+    fileobj : binary file-like   read from its current position; not closed
+    name : str                   file name for messages; its extension gives the format unless
+                                 ``suffix`` is given
+    suffix : str, optional       e.g. '.csv', '.xlsx'
+    """
+    data = fileobj.read()
+    if isinstance(data, str):
+        data = data.encode("utf-8")
+    suffix = (suffix if suffix is not None else Path(name).suffix).lower()
+    kind = sniff_format(data[:8192], suffix, name)
+    sha = hashlib.sha256(data).hexdigest()
+    score = header_score or default_header_score
+    if kind == "text":
+        if len(data) > limits.max_text_bytes:
+            raise InputError(f"the text file is larger than {limits.max_text_bytes / 2**20:.0f} MiB", file=name,
+                             hint="split it into monthly files")
+        t = _parse_text(data, name, score, limits)
+    else:
+        if kind == "zip":
+            check_zip(io.BytesIO(data), name, limits)
+        t = _parse_workbook(data, name, suffix, sheet, score, prefer, limits)
+    t.sha256 = sha
+    return t
+
+
+# ---------------------------------------------------------------------------------------------
+def _decode(data: bytes, name) -> tuple[str, str]:
+    if data.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
+        try:
+            return data.decode("utf-16"), "utf-16"
+        except UnicodeDecodeError:
+            raise InputError("not a text table (damaged UTF-16 text)", file=name,
+                             hint="save the export as UTF-8 CSV") from None
+    if data.startswith(codecs.BOM_UTF8):
+        try:
+            return data[3:].decode("utf-8"), "utf-8-sig"
+        except UnicodeDecodeError:
+            pass
+    try:
+        return data.decode("utf-8"), "utf-8"
+    except UnicodeDecodeError:
+        pass
+    try:
+        return data.decode("cp1252"), "cp1252"
+    except UnicodeDecodeError:
+        return data.decode("latin-1"), "latin-1"
+
+
+def _sniff_delimiter(lines: list[str]) -> str:
+    """The delimiter whose field count is the same on the most sample lines (and > 1)."""
+    best, best_key = ",", (-1, -1)
+    for d in (",", ";", "\t", "|"):
+        counts = [len(r) for r in csv.reader(lines, delimiter=d)]
+        counts = [c for c in counts if c > 1]
+        if not counts:
+            continue
+        values, freq = np.unique(counts, return_counts=True)
+        k = int(np.argmax(freq))
+        key = (int(freq[k]), int(values[k]))
+        if key > best_key:
+            best, best_key = d, key
+    return best
+
+
+_COMMA_DEC = re.compile(r"^[-+]?(?:\d{1,3}(?:[.\u00a0' ]\d{3})+|\d+),\d+$")
+_POINT_DEC = re.compile(r"^[-+]?(?:\d{1,3}(?:[,\u00a0' ]\d{3})+|\d+)\.\d+$")
+
+
+def _decimal_of(cells: pd.DataFrame) -> str:
+    sample = cells.iloc[:2000]
+    comma = point = 0
+    for j in sample.columns:
+        s = sample[j]
+        s = s[s.map(type) == str].str.strip()
+        comma += int(s.str.match(_COMMA_DEC).sum())
+        point += int(s.str.match(_POINT_DEC).sum())
+    return "," if comma > point else "."
+
+
+def _parse_text(data: bytes, name, score, limits: Limits) -> RawTable:
+    text, enc = _decode(data, name)
+    if not text.strip():
+        raise InputError("the file is empty", file=name, hint="export the log again; the file holds no table")
+    n_lines = text.count("\n") + 1
+    if n_lines > limits.max_rows + limits.header_scan_rows:
+        raise InputError(f"the file has {n_lines} lines, more than the limit of {limits.max_rows} rows", file=name,
+                         hint="split it into monthly files")
+    head_lines = text[:65536].splitlines()[: limits.header_scan_rows + 30]
+    delim = _sniff_delimiter(head_lines)
+    head_rows = list(csv.reader(head_lines[: limits.header_scan_rows], delimiter=delim))
+    hi, s = _find_header(head_rows, score, limits.header_scan_rows)
+    if hi < 0:
+        raise InputError(f"no header row found in the first {limits.header_scan_rows} rows", file=name,
+                         hint="the table needs one header row naming its columns, e.g. 'Interval end', "
+                              "'Line pressure [bar(g)]' (see templates/)")
+    header = [c.strip() for c in head_rows[hi]]
+    while header and header[-1] == "":
+        header.pop()
+    width = len(header)
+    notes = [" ".join(c.strip() for c in r if c.strip()) for r in head_rows[:hi] if any(c.strip() for c in r)]
+    # skip the physical lines up to and including the header (csv rows == lines in this part)
+    skip = hi + 1
+    try:
+        df = pd.read_csv(io.StringIO(text), sep=delim, header=None, skiprows=skip, names=list(range(width)),
+                         dtype=str, keep_default_na=False, na_filter=False, skip_blank_lines=False,
+                         engine="c", index_col=False)
+        rows = np.arange(skip + 1, skip + 1 + len(df), dtype=np.int64)
+    except (pd.errors.ParserError, ValueError):
+        # rows wider than the header or odd quoting: the csv module, slower but forgiving
+        recs = list(csv.reader(io.StringIO(text), delimiter=delim))[skip:]
+        recs = [(r + [""] * width)[:width] for r in recs]
+        df = pd.DataFrame(recs, columns=list(range(width)), dtype=object)
+        rows = np.arange(skip + 1, skip + 1 + len(df), dtype=np.int64)
+    df = df.astype(object)
+    if len(df):
+        nonempty = np.zeros(len(df), bool)
+        for j in df.columns:
+            nonempty |= df[j].to_numpy(dtype=str) != ""
+        if not nonempty.all():
+            df = df[nonempty]
+            rows = rows[nonempty]
+    df = df.reset_index(drop=True)
+    if not len(df):
+        raise InputError("the table has a header but no data rows", file=name, row=hi + 1,
+                         hint="the export holds no intervals; check the period exported")
+    if len(df) > limits.max_rows:
+        raise InputError(f"the table has {len(df)} rows, more than the limit of {limits.max_rows}", file=name,
+                         hint="split it into monthly files")
+    return RawTable(file=str(name), sheet=None, header_row=hi + 1, header=header, cells=df, rows=rows,
+                    notes=notes, kind="text", encoding=enc, delimiter=delim, decimal=_decimal_of(df))
+
+
+# ---------------------------------------------------------------------------------------------
+def _open_calamine(data: bytes, name):
+    from python_calamine import CalamineError, CalamineWorkbook
+
+    try:
+        return CalamineWorkbook.from_filelike(io.BytesIO(data))
+    except CalamineError as exc:
+        text = str(exc)
+        if "password" in text.lower() or "encrypt" in text.lower():
+            raise InputError("the workbook is password-protected (encrypted)", file=name,
+                             hint="open it in the spreadsheet program, remove the password and save a copy") from None
+        raise _CalamineFailed(text) from None
+
+
+class _CalamineFailed(Exception):
+    pass
+
+
+def _sheet_rows_calamine(wb, sheet_name, nrows=None):
+    sh = wb.get_sheet_by_name(sheet_name)
+    return sh.to_python(skip_empty_area=False, nrows=nrows), sh.height
+
+
+def _parse_workbook(data: bytes, name, suffix, sheet, score, prefer, limits: Limits) -> RawTable:
+    try:
+        wb = _open_calamine(data, name)
+        names = list(wb.sheet_names)
+        visible = [m.name for m in wb.sheets_metadata if str(m.visible).endswith("Visible")
+                   and not str(m.visible).endswith("Hidden")] or names
+
+        def rows_of(n, nrows=None):
+            return _sheet_rows_calamine(wb, n, nrows)
+    except _CalamineFailed as exc:
+        if suffix not in (".xlsx", ".xlsm"):
+            raise InputError(f"cannot read the workbook: {exc}", file=name,
+                             hint="open it in the spreadsheet program and save it again, or export a CSV") from None
+        wb, names, visible, rows_of = _openpyxl_fallback(data, name, exc)
+    if not names:
+        raise InputError("the workbook has no sheets", file=name)
+    chosen = _choose_sheet(names, visible, sheet, prefer, rows_of, score, limits, name)
+    rows, height = rows_of(chosen)
+    if height > limits.max_rows + limits.header_scan_rows:
+        raise InputError(f"sheet '{chosen}' has {height} rows, more than the limit of {limits.max_rows}", file=name,
+                         sheet=chosen, hint="split it into monthly files")
+    if not rows or all(all(_cell_text(c) == "" for c in r) for r in rows[: limits.header_scan_rows]):
+        raise InputError("the sheet is empty", file=name, sheet=chosen,
+                         hint="put the log on this sheet, or name the sheet that holds it")
+    hi, s = _find_header(rows, score, limits.header_scan_rows)
+    if hi < 0:
+        raise InputError(f"no header row found in the first {limits.header_scan_rows} rows", file=name, sheet=chosen,
+                         hint="the table needs one header row naming its columns (see templates/)")
+    header = [_cell_text(c) for c in rows[hi]]
+    while header and header[-1] == "":
+        header.pop()
+    width = len(header)
+    notes = [" ".join(_cell_text(c) for c in r if _cell_text(c)) for r in rows[:hi] if any(_cell_text(c) for c in r)]
+    body = rows[hi + 1:]
+    df = pd.DataFrame([(list(r) + [""] * width)[:width] for r in body], columns=list(range(width)), dtype=object)
+    rownum = np.arange(hi + 2, hi + 2 + len(df), dtype=np.int64)
+    if len(df):
+        df = df.where(df.notna(), "")
+        nonempty = np.zeros(len(df), bool)
+        for j in df.columns:
+            col = df[j].to_numpy(dtype=object)
+            nonempty |= ~((col == "") | pd.isna(col))
+        df = df[nonempty].reset_index(drop=True)
+        rownum = rownum[nonempty]
+    if not len(df):
+        raise InputError("the table has a header but no data rows", file=name, sheet=chosen, row=hi + 1,
+                         hint="the sheet holds no intervals; check the period exported")
+    return RawTable(file=str(name), sheet=chosen, header_row=hi + 1, header=header, cells=df, rows=rownum,
+                    notes=notes, kind="workbook", decimal=_decimal_of(df), sheets=names)
+
+
+def _choose_sheet(names, visible, sheet, prefer, rows_of, score, limits, name) -> str:
+    low = {n.lower(): n for n in names}
+    if sheet is not None:
+        key = str(sheet).strip().lower()
+        if key not in low:
+            raise InputError(f"no sheet named '{sheet}'", file=name,
+                             hint="sheets in this workbook: " + ", ".join(names))
+        return low[key]
+    for want in prefer:
+        if want.lower() in low:
+            return low[want.lower()]
+    best, best_s = None, 0.0
+    for n in visible:
+        rows, _ = rows_of(n, limits.header_scan_rows)
+        _, s = _find_header(rows, score, limits.header_scan_rows)
+        if s > best_s:
+            best, best_s = n, s
+    return best if best is not None else visible[0]
+
+
+def _openpyxl_fallback(data: bytes, name, why):
+    import openpyxl
+
+    try:
+        wb = openpyxl.load_workbook(io.BytesIO(data), read_only=True, data_only=True)
+    except Exception as exc:  # noqa: BLE001 - openpyxl raises many types for a bad file
+        raise InputError(f"cannot read the workbook ({why}; {exc})", file=name,
+                         hint="open it in the spreadsheet program and save it again, or export a CSV") from None
+    names = list(wb.sheetnames)
+    visible = [ws.title for ws in wb.worksheets if getattr(ws, "sheet_state", "visible") == "visible"] or names
+
+    def rows_of(n, nrows=None):
+        ws = wb[n]
+        out = []
+        for k, r in enumerate(ws.iter_rows(values_only=True)):
+            if nrows is not None and k >= nrows:
+                break
+            out.append(["" if c is None else c for c in r])
+        return out, (ws.max_row or len(out))
+
+    return wb, names, visible, rows_of
+
+
+# ---------------------------------------------------------------------------------------------
+def to_numbers(values, decimal: str = ".") -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    """Cells → floats, vectorized.
+
+    Parameters
+    ----------
+    values : Series or array of cells (str, numbers, '' for empty)
+    decimal : {'.', ','}  the file's decimal mark (text files)
+
+    Returns
+    -------
+    (values, empty, bad) : float ndarray (NaN where empty or bad), bool ndarray, bool ndarray
+        ``empty``: the cell is blank or a missing-value mark ('-', 'n/a', 'null' ...);
+        ``bad``: the cell holds something that is not a number.
+    """
+    s = pd.Series(np.asarray(values, dtype=object))
+    n = len(s)
+    is_str = s.map(type).to_numpy() == str
+    num = pd.to_numeric(s.where(~is_str), errors="coerce").to_numpy(float) if (~is_str).any() else np.full(n, np.nan)
+    out = num.copy()
+    non_str_nan = ~is_str & pd.isna(s).to_numpy()
+    bool_cells = s.map(lambda v: isinstance(v, bool)).to_numpy() if (~is_str).any() else np.zeros(n, bool)
+    bad = (~is_str & ~non_str_nan & np.isnan(num)) | bool_cells
+    out[bool_cells] = np.nan
+    empty = non_str_nan.copy()
+    if is_str.any():
+        t = s[is_str].str.strip()
+        low = t.str.lower()
+        emp = low.isin(_EMPTY_TEXT).to_numpy()
+        cleaned = t.str.replace(r"[\s\u00a0\u202f']", "", regex=True)
+        if decimal == ",":
+            grouped = cleaned.str.fullmatch(r"[-+]?\d{1,3}(?:\.\d{3})+(?:,\d*)?")
+            cleaned = cleaned.where(~grouped, cleaned.str.replace(".", "", regex=False))
+            cleaned = cleaned.str.replace(",", ".", regex=False)
+        else:
+            # a comma is a thousands separator only in groups of three digits; '2,5' stays bad
+            grouped = cleaned.str.fullmatch(r"[-+]?\d{1,3}(?:,\d{3})+(?:\.\d*)?")
+            cleaned = cleaned.where(~grouped, cleaned.str.replace(",", "", regex=False))
+        v = pd.to_numeric(cleaned.where(~emp, None), errors="coerce").to_numpy(float)
+        idx = np.flatnonzero(is_str)
+        out[idx] = v
+        empty[idx] = emp
+        bad[idx] = ~emp & np.isnan(v)
+    return out, empty, bad
