@@ -1,18 +1,19 @@
-"""Gross heating value of a natural gas from its composition.
+"""Gross heating value, density, relative density and Wobbe index of a natural gas (ISO 6976 way).
 
-Ideal molar gross (superior) heating value at a combustion reference of 25 degC is the
-mole-fraction sum of the component values; the real-gas volumetric value at a metering
-reference (T, p) is
+Ideal molar gross (superior) heating value at a combustion reference t1 is the mole-fraction sum
+of the component values; the real-gas volumetric value at a metering reference (t2, p2) is
 
-    Hv = Hm · p / (Z R T)
+    Hv = Hm(t1) · p2 / (Z R t2)
 
 with Z of the gas at the metering reference (from the chosen Z method; the pipeline passes the
-base-condition Z it already computed).
+base-condition Z it already computed). Relative density d = (M / M_air) · (Z_air / Z) and the
+Wobbe index W = Hv / sqrt(d), both at the metering reference.
 
 Component values: the ideal molar gross heating values at 25 degC printed in the AGA Report No. 8
-reference code (usnistgov/AGA8, Gross method; listed in REFERENCES.md §1). Only the 25 degC
-combustion reference is shipped in this build: a request for another raises SettingsError rather
-than converting silently.
+reference code (usnistgov/AGA8, Gross method; listed in REFERENCES.md §1). Other combustion
+references between 0 and 30 degC (0, 15, 60 degF, 20 degC are the usual ones) follow from them by
+Kirchhoff's law with ideal-gas heat capacities (meterfix.gas.heat_capacity), which reproduces the
+ISO 6976:1995 component tables to about 0.005 % (tests/test_energy.py).
 """
 
 from __future__ import annotations
@@ -25,7 +26,15 @@ from .constants import R
 from .errors import SettingsError
 from .gas.components import INDEX, N_COMPONENTS
 
-EDITION = "component values at 25 degC of the AGA8 reference code"
+EDITION = ("ISO 6976 summation: 25 degC component values of the AGA8 reference code, other combustion "
+           "references by Kirchhoff's law")
+
+#: molar mass of dry air [kg/mol] (ISO 6976:2016, from memory)
+MOLAR_MASS_AIR = 0.02896546
+#: dry air composition used for Z of air [mol/mol] (ISO 6976, from memory; normalised)
+AIR = {"nitrogen": 0.78102, "oxygen": 0.20946, "argon": 0.00916, "carbon_dioxide": 0.00033}
+#: combustion references accepted [K]
+COMBUSTION_RANGE = (273.15, 303.15)
 
 #: ideal molar gross heating value at 25 degC [J/mol] (AGA8 reference code, REFERENCES.md §1)
 _HV25_KJ = {"methane": 890.63, "ethane": 1560.69, "propane": 2219.17, "isobutane": 2868.2, "n_butane": 2877.4,
@@ -63,21 +72,37 @@ class HeatingValueResult:
 
 
 def gross_molar_heating_value(fractions, temperature_combustion: float = 298.15):
-    """Ideal molar gross heating value, sum of x_j Hm_j.
+    """Ideal molar gross heating value, sum of x_j Hm_j(t1).
 
     Parameters
     ----------
     fractions : ndarray (21,) or (n, 21) [mol/mol]
-    temperature_combustion : float [K]   only 298.15 K in this build
+    temperature_combustion : float [K]   combustion reference t1, 273.15–303.15 K
 
     Returns
     -------
     float or ndarray [J/mol]
     """
-    if abs(temperature_combustion - 298.15) > 1e-6:
-        raise SettingsError(f"combustion reference {temperature_combustion - 273.15:g} degC is not available",
-                            hint="this build ships component heating values at 25 degC only; use --combustion-temperature '25 degC'")
-    return np.asarray(fractions, float) @ GROSS_MOLAR_25C
+    return np.asarray(fractions, float) @ component_heating_values(temperature_combustion)
+
+
+def component_heating_values(temperature_combustion: float = 298.15) -> np.ndarray:
+    """Ideal molar gross heating value of each component at a combustion reference [J/mol].
+
+    Parameters
+    ----------
+    temperature_combustion : float [K]   273.15–303.15 K
+    """
+    t1 = float(temperature_combustion)
+    lo, hi = COMBUSTION_RANGE
+    if not (lo - 1e-9 <= t1 <= hi + 1e-9):
+        raise SettingsError(f"combustion reference {t1 - 273.15:g} degC is outside 0-30 degC",
+                            hint="use --combustion-temperature '25 degC' (or 0, 15, 20 degC, 60 degF)")
+    if abs(t1 - 298.15) < 1e-9:
+        return GROSS_MOLAR_25C.copy()
+    from .gas.heat_capacity import combustion_enthalpy_shift
+
+    return GROSS_MOLAR_25C + combustion_enthalpy_shift(298.15, t1)
 
 
 def heating_value(composition, *, temperature_combustion: float = 298.15, temperature_metering: float = 288.15,
@@ -120,3 +145,53 @@ def convert_volumetric_heating_value(value, *, composition=None, temperature_met
     pressure_metering_from, pressure_metering_to : float [Pa]
     """
     return value * (pressure_metering_to / pressure_metering_from) * (temperature_metering_from / temperature_metering_to)
+
+
+def relative_density(composition, *, temperature_metering: float = 288.15, pressure_metering: float = 101325.0,
+                     z_metering: float | None = None, method: str = "gerg-2008") -> float:
+    """Real-gas relative density d = (M / M_air) (Z_air / Z) at a metering reference [-].
+
+    Parameters
+    ----------
+    composition : Composition
+    temperature_metering : float [K]
+    pressure_metering : float [Pa]
+    z_metering : float [-], optional   Z of the gas at the reference; computed with ``method`` if None
+    method : str                       Z method for the gas (if needed) and for dry air
+    """
+    from .z import evaluate_z
+
+    if z_metering is None:
+        z_metering = float(np.asarray(evaluate_z(pressure_metering, temperature_metering, composition, method).z))
+    z_air = float(np.asarray(evaluate_z(pressure_metering, temperature_metering, AIR, method).z))
+    return composition.molar_mass / MOLAR_MASS_AIR * z_air / z_metering
+
+
+def density(composition, *, temperature_metering: float = 288.15, pressure_metering: float = 101325.0,
+            z_metering: float | None = None, method: str = "gerg-2008") -> float:
+    """Real-gas density ρ = p M / (Z R T) at a metering reference [kg/m3].
+
+    Parameters
+    ----------
+    composition : Composition
+    temperature_metering : float [K]
+    pressure_metering : float [Pa]
+    z_metering : float [-], optional
+    method : str
+    """
+    from .z import evaluate_z
+
+    if z_metering is None:
+        z_metering = float(np.asarray(evaluate_z(pressure_metering, temperature_metering, composition, method).z))
+    return pressure_metering * composition.molar_mass / (z_metering * R * temperature_metering)
+
+
+def wobbe_index(heating_value_volumetric, relative_density_value):
+    """Gross Wobbe index W = Hv / sqrt(d) [J/m3].
+
+    Parameters
+    ----------
+    heating_value_volumetric : float or ndarray [J/m3]   gross, real gas, at the metering reference
+    relative_density_value : float or ndarray [-]        real-gas relative density at the same reference
+    """
+    return np.asarray(heating_value_volumetric, float) / np.sqrt(np.asarray(relative_density_value, float))

@@ -52,6 +52,8 @@ class AnalysisInForce:
     heating_value: float = np.nan  # [J/m3] gross, real gas, at base conditions
     heating_value_source: str = ""
     density_base: float = np.nan  # [kg/m3]
+    relative_density: float = np.nan  # [-] real gas, at base conditions
+    wobbe_index: float = np.nan  # [J/m3] gross, at base conditions
 
 
 @dataclass
@@ -368,6 +370,14 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
             a.heating_value, a.heating_value_source = _heating_value(gas, settings, a.z_base)
             a.density_base = float(K.density_at_base(settings.pressure_base, settings.temperature_base,
                                                      a.z_base, a.molar_mass))
+            if isinstance(gas, Composition):
+                from .. import energy as E
+
+                a.relative_density = float(E.relative_density(
+                    gas, temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
+                    z_metering=a.z_base, method=method.name if method.name != "ideal" else "gerg-2008"))
+                if np.isfinite(a.heating_value):
+                    a.wobbe_index = float(E.wobbe_index(a.heating_value, a.relative_density))
         in_force.append(a)
         sel = which == k
         if not sel.any():

@@ -54,6 +54,8 @@ def build_summary(result) -> dict:
         "average_correction": result.average_correction,
         "analyses": [{"effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,
                       "heating_value_J_per_m3": a.heating_value, "heating_value_source": a.heating_value_source,
+                      "relative_density": getattr(a, "relative_density", None),
+                      "wobbe_index_J_per_m3": getattr(a, "wobbe_index", None),
                       "gas": (a.gas.as_dict() if hasattr(a.gas, "as_dict") else
                               (a.gas.__dict__ if a.gas is not None else None))}
                      for a in result.analyses],
