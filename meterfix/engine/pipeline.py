@@ -375,7 +375,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
 
                 a.relative_density = float(E.relative_density(
                     gas, temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
-                    z_metering=a.z_base, method=method.name if method.name != "ideal" else "gerg-2008"))
+                    z_metering=a.z_base, method=method.name))
                 if np.isfinite(a.heating_value):
                     a.wobbe_index = float(E.wobbe_index(a.heating_value, a.relative_density))
         in_force.append(a)
