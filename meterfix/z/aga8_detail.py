@@ -1,0 +1,456 @@
+"""AGA8 DETAIL: Z, density and speed of sound of natural gases from a 21-component analysis.
+
+The DETAIL characterization equation of state of AGA Report No. 8 Part 1 (2017), the same
+equation as ISO 20765-1 and ISO 12213-2. Pure, vectorized numpy: one composition, arrays of
+pressure and temperature; the composition-dependent terms come from
+:mod:`meterfix.z.aga8_detail_mixture` (cached per composition), the temperature-dependent
+coefficients are computed once per distinct temperature, and the density solve iterates all
+points together.
+"""
+
+from __future__ import annotations
+
+import contextlib
+import os
+
+import numpy as np
+
+from ..gas.components import INDEX
+from ..gas.composition import as_composition
+from .aga8_detail_mixture import COL_B, COL_K, N_COL, R_DETAIL, U_EXPONENTS, DetailMixture, mixture
+from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_INVALID_INPUT, REASON_NO_CONVERGENCE,
+                   REASON_NO_GAS_ROOT, ZResult, invalid_points)
+from .registry import ZMethod
+
+EDITION = "AGA Report No. 8 Part 1 (2017), DETAIL characterization (= ISO 20765-1, ISO 12213-2)"
+
+#: normal range (p_max [Pa], T_min [K], T_max [K]): AGA8 (1992/1994) region of 0.1 % uncertainty,
+#: 17-143 degF and up to 1750 psia (from memory; ISO 12213-2 states 263-338 K, 12 MPa)
+NORMAL_RANGE = (1750.0 * 6894.757293168, (17.0 - 32.0) / 1.8 + 273.15, (143.0 - 32.0) / 1.8 + 273.15)
+#: extended range: AGA8 (1992/1994) range of application of DETAIL, -200 to 760 degF and up to
+#: 40 000 psia, with uncertainty rising from 0.3 % to 1 % away from the normal range (from memory)
+EXTENDED_RANGE = (40000.0 * 6894.757293168, (-200.0 - 32.0) / 1.8 + 273.15, (760.0 - 32.0) / 1.8 + 273.15)
+
+#: composition limits [mol/mol] of the normal and the expanded range, AGA8 (1992/1994) table of
+#: gas mixture characteristics (from memory). Groups sum their components; a component absent
+#: from a range's list must be zero there. The expanded range's "up to the dew point" limits of
+#: hexanes+ and water are not checked (no phase-equilibrium calculation is made).
+_GROUPS = {
+    "methane": ("methane",), "nitrogen": ("nitrogen",), "carbon_dioxide": ("carbon_dioxide",),
+    "ethane": ("ethane",), "propane": ("propane",), "butanes": ("isobutane", "n_butane"),
+    "pentanes": ("isopentane", "n_pentane"),
+    "hexanes_plus": ("n_hexane", "n_heptane", "n_octane", "n_nonane", "n_decane"),
+    "helium": ("helium",), "hydrogen": ("hydrogen",), "carbon_monoxide": ("carbon_monoxide",),
+    "argon": ("argon",), "oxygen": ("oxygen",), "water": ("water",), "hydrogen_sulfide": ("hydrogen_sulfide",),
+}
+NORMAL_COMPOSITION = {
+    "methane": (0.45, 1.0), "nitrogen": (0.0, 0.50), "carbon_dioxide": (0.0, 0.30), "ethane": (0.0, 0.10),
+    "propane": (0.0, 0.035), "butanes": (0.0, 0.015), "pentanes": (0.0, 0.005), "hexanes_plus": (0.0, 0.001),
+    "helium": (0.0, 0.002), "hydrogen": (0.0, 0.10), "carbon_monoxide": (0.0, 0.03), "argon": (0.0, 0.0),
+    "oxygen": (0.0, 0.0), "water": (0.0, 0.0005), "hydrogen_sulfide": (0.0, 0.0002),
+}
+EXTENDED_COMPOSITION = {
+    "methane": (0.0, 1.0), "nitrogen": (0.0, 1.0), "carbon_dioxide": (0.0, 1.0), "ethane": (0.0, 1.0),
+    "propane": (0.0, 0.12), "butanes": (0.0, 0.06), "pentanes": (0.0, 0.04), "hexanes_plus": (0.0, 1.0),
+    "helium": (0.0, 0.03), "hydrogen": (0.0, 1.0), "carbon_monoxide": (0.0, 0.03), "argon": (0.0, 0.01),
+    "oxygen": (0.0, 0.21), "water": (0.0, 1.0), "hydrogen_sulfide": (0.0, 1.0),
+}
+#: rounding allowance on the composition limits (analyses are reported to 4-5 decimals)
+_LIMIT_SLACK = 1e-9
+
+#: points per block of the vectorized solve (bounds the size of the 2-D work arrays)
+CHUNK = 8192
+#: upper bound of the reduced density delta = K^3 D searched for a root (liquids are below ~3)
+DELTA_MAX = 5.0
+#: a Halley step in ln(delta) below this is converged (error after it ~ step^3); a Newton step
+#: (where Halley's correction is not trusted) below STEP_TOL_NEWTON (~ step^2)
+STEP_TOL_HALLEY = 1e-5
+STEP_TOL_NEWTON = 1e-8
+MAX_ITER = 80
+_REASON_DTYPE = "<U16"
+#: at most this many threads by default
+MAX_WORKERS = 4
+
+# moment matrix: h = _MOM.T @ y gives, per point, sums over the columns of y = W phi weighted by
+# b (0), b^2 (1), the indicator of k = 1..4 (2-5), b times it (6-9), b^3 (10), b^2 times it (11-14)
+_IND = np.stack([(COL_K == k).astype(float) for k in (1, 2, 3, 4)], axis=1)
+_MOM = np.concatenate([COL_B[:, None], (COL_B ** 2)[:, None], _IND, COL_B[:, None] * _IND,
+                       (COL_B ** 3)[:, None], (COL_B ** 2)[:, None] * _IND], axis=1)
+_MOM_T = np.ascontiguousarray(_MOM.T)
+_KS = np.array([1.0, 2.0, 3.0, 4.0])[:, None]
+
+
+class _Workspace:
+    """Preallocated work arrays (features x points) for blocks of up to ``n`` points."""
+
+    def __init__(self, n: int):
+        self.pw = np.empty((10, n))  # delta^0 .. delta^9
+        self.ex = np.empty((4, n))  # exp(-delta^k), k = 1..4
+        self.phi = np.empty((N_COL, n))
+        self.y = np.empty((N_COL, n))
+        self.h = np.empty((_MOM.shape[1], n))
+
+
+def _basis(ws: _Workspace, delta: np.ndarray) -> np.ndarray:
+    """phi_col = delta^b exp(-delta^k) for the 25 columns, shape (25, n)."""
+    n = delta.size
+    pw, ex, phi = ws.pw[:, :n], ws.ex[:, :n], ws.phi[:, :n]
+    pw[0] = 1.0
+    pw[1] = delta
+    for m in range(2, 10):
+        np.multiply(pw[m - 1], delta, out=pw[m])
+    np.negative(pw[1:5], out=ex)
+    np.exp(ex, out=ex)
+    phi[0:7] = pw[1:8]
+    np.multiply(pw[3], ex[0], out=phi[7])
+    np.multiply(pw[8], ex[0], out=phi[8])
+    np.multiply(pw[1:10], ex[1], out=phi[9:18])
+    np.multiply(pw[1], ex[2], out=phi[18])
+    np.multiply(pw[3], ex[2], out=phi[19])
+    np.multiply(pw[1:6], ex[3], out=phi[20:25])
+    return phi
+
+
+def _z_functions(ws: _Workspace, w: np.ndarray, delta: np.ndarray, parts: int):
+    """Z - 1, D Z and D^2 Z (first ``parts`` of them) at fixed T, with D = delta d/d(delta).
+
+    ``w`` (25, n) holds the per-point column coefficients W_col(T). For a column
+    y = W delta^b exp(-x), x = delta^k: Z - 1 = sum y (b - k x),
+    D Z = sum y [(b - k x)^2 - k^2 x],
+    D^2 Z = sum y [(b - k x)^3 - 3 k^2 x (b - k x) - k^3 x].
+    """
+    n = delta.size
+    phi = _basis(ws, delta)
+    y = ws.y[:, :n]
+    np.multiply(w, phi, out=y)
+    m = 10 if parts < 3 else 15
+    h = ws.h[:m, :n]
+    np.matmul(_MOM_T[:m], y, out=h)
+    x = ws.pw[1:5, :n]  # delta^1..4, and x_k = delta^k is row k-1
+    g = h[2:6]
+    hb = h[6:10]
+    kx = _KS * x  # k x_k
+    zm1 = h[0] - np.einsum("kn,kn->n", kx, g)
+    kxg = kx * g
+    dz = h[1] - np.einsum("kn,kn->n", kx, 2.0 * hb - kxg + _KS * g)
+    if parts < 3:
+        return zm1, dz
+    hbb = h[11:15]
+    d2z = h[10] + np.einsum("kn,kn->n", kx, -3.0 * hbb + 3.0 * kx * hb - 3.0 * _KS * hb
+                            - kx * kxg + 3.0 * _KS * kxg - _KS * _KS * g)
+    return zm1, dz, d2z
+
+
+def _initial_delta(virial: np.ndarray, pi: np.ndarray) -> np.ndarray:
+    """Start from the low-density series Z = 1 + b1 delta + b2 delta^2 (falls back to ideal gas)."""
+    b1, b2 = virial[0], virial[1]
+    d = pi.copy()
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        for _ in range(6):
+            f = d * (1.0 + d * (b1 + b2 * d)) - pi
+            fp = 1.0 + d * (2.0 * b1 + 3.0 * b2 * d)
+            d = d - f / np.where(fp > 0.05, fp, np.nan)
+        ok = np.isfinite(d) & (d > 0.25 * pi) & (d < 4.0 * pi) & (d < DELTA_MAX)
+    return np.where(ok, d, pi)
+
+
+def _t_powers(t_u: np.ndarray) -> np.ndarray:
+    """T^-u for the 26 distinct exponents, shape (26, m)."""
+    out = np.multiply.outer(-U_EXPONENTS, np.log(t_u))
+    return np.exp(out, out=out)
+
+
+def _solve_block(mix: DetailMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray, sound: bool):
+    """Gas-phase root and properties for one block of valid points (p in Pa, t in K)."""
+    n = p.size
+    t_u, inv = np.unique(t, return_inverse=True)
+    spread = t_u.size <= 0.75 * n
+    if not spread:
+        t_u, inv = t, None
+    tp = _t_powers(t_u)
+    w_all = mix.coef.T @ tp  # (25, m)
+    virial = mix.virial.T @ tp
+    if spread:
+        w_all = np.take(w_all, inv, axis=1)
+        virial = np.take(virial, inv, axis=1)
+    pi = mix.k3 * p / (1000.0 * R_DETAIL * t)  # delta of an ideal gas
+    delta = _initial_delta(virial, pi)
+    act = np.arange(n)
+    d, lo, hi, lnpi = delta.copy(), np.zeros(n), np.full(n, DELTA_MAX), np.log(pi)
+    w = w_all
+    done = np.zeros(n, dtype=bool)
+    failed = np.zeros(n, dtype=bool)
+    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
+        for _ in range(MAX_ITER):
+            if act.size == 0:
+                break
+            zm1, dz, d2z = _z_functions(ws, w, d, 3)
+            z = 1.0 + zm1
+            s = z + dz  # (dp/drho)_T / (R T)
+            good = np.isfinite(s) & np.isfinite(d2z) & (z > 0) & (s > 0)
+            f = np.where(good, np.log(np.where(good, d * z, 1.0)) - lnpi, 0.0)  # ln(p / p_target)
+            f1 = s / z
+            f2 = d2z / z - (dz / z) ** 2
+            newton = np.where(good, -f / f1, 0.0)
+            corr = 1.0 - 0.5 * f * f2 / (f1 * f1)
+            halley = (corr > 0.5) & (corr < 2.0)
+            step = np.where(halley, newton / corr, newton)
+            hi = np.where(~good | (f > 0), np.minimum(hi, d), hi)
+            lo = np.where(good & (f < 0), np.maximum(lo, d), lo)
+            new = d * np.exp(step)
+            tol = np.where(halley, STEP_TOL_HALLEY, STEP_TOL_NEWTON) * np.minimum(1.0, f1)
+            conv = good & (np.abs(step) < tol) & (new >= lo) & (new <= hi)
+            bisect = ~conv & (~good | ~(new > lo) | ~(new < hi))
+            new = np.where(bisect, 0.5 * (lo + hi), new)
+            collapsed = ~conv & (hi - lo < 1e-13 * hi)
+            delta[act] = new
+            done[act[conv]] = True
+            failed[act[collapsed]] = True
+            keep = ~(conv | collapsed)
+            if not keep.all():
+                act, d, lo, hi, lnpi = act[keep], new[keep], lo[keep], hi[keep], lnpi[keep]
+                w = np.take(w_all, act, axis=1)
+            else:
+                d = new
+    reason = np.full(n, "", dtype=_REASON_DTYPE)
+    reason[failed] = REASON_NO_GAS_ROOT
+    reason[act] = REASON_NO_CONVERGENCE
+    ok = done
+    _reject_dense_roots(mix, ws, w_all, delta, t, ok, reason)
+    z = np.full(n, np.nan)
+    snd = np.full(n, np.nan)
+    i = np.flatnonzero(ok)
+    if i.size and not sound:
+        z[i] = pi[i] / delta[i]
+    elif i.size:
+        if spread:
+            ideal = _ideal_cv(mix, t_u)[inv[i]]
+            tsel = tp[:, inv[i]]
+        else:
+            ideal = _ideal_cv(mix, t[i])
+            tsel = tp[:, i]
+        w_i = w_all if i.size == n else w_all[:, i]
+        z[i], snd[i] = _properties(mix, ws, w_i, mix.coef_t1.T @ tsel, mix.coef_t2.T @ tsel, ideal, delta[i], t[i])
+        bad = ~np.isfinite(z[i]) | (z[i] <= 0)
+        reason[i[bad]] = REASON_NO_CONVERGENCE
+        ok[i[bad]] = False
+    rho = np.where(ok, delta / mix.k3 * 1000.0, np.nan)
+    return np.where(ok, z, np.nan), rho, np.where(ok, snd, np.nan), reason
+
+
+def _reject_dense_roots(mix: DetailMixture, ws: _Workspace, w_all, delta, t, ok, reason):
+    """Mark roots on a liquid-like branch: p(rho) must rise all the way from rho = 0.
+
+    Only roots where a van der Waals loop is possible are checked: below 1.6 times the mixture
+    energy parameter U (about 1.25 times a pseudo-critical temperature, since T_c / E_i is
+    about 1.25 for the hydrocarbons) and above delta = 0.3 (critical delta is 0.65-1.0).
+    """
+    cand = np.flatnonzero(ok & (t < 1.6 * mix.energy) & (delta > 0.3))
+    if cand.size == 0:
+        return
+    fr = np.linspace(0.04, 0.96, 24)
+    dd = (delta[cand][:, None] * fr).ravel()
+    wr = np.repeat(w_all[:, cand], fr.size, axis=1)
+    zm1, dz = _z_functions(_Workspace(dd.size), wr, dd, 2)
+    slope = (1.0 + zm1 + dz).reshape(cand.size, fr.size)
+    bad = cand[~np.all(slope > 0, axis=1)]
+    ok[bad] = False
+    reason[bad] = REASON_NO_GAS_ROOT
+
+
+def _ideal_cv(mix: DetailMixture, t: np.ndarray) -> np.ndarray:
+    """cv0 / R of the ideal gas: sum x_i [n3 - 1 + sum n (y/sinh y)^2 + sum n (y/cosh y)^2], y = theta/T.
+
+    With u = exp(-y): y / sinh(y) = 2 y u / (1 - u^2), y / cosh(y) = 2 y u / (1 + u^2).
+    """
+    out = np.full(t.shape, mix.ideal_const)
+    for theta, coef, sign in ((mix.ideal_sinh_theta, mix.ideal_sinh_coef, -1.0),
+                              (mix.ideal_cosh_theta, mix.ideal_cosh_coef, 1.0)):
+        if theta.size == 0:
+            continue
+        y = np.multiply.outer(theta, 1.0 / t)
+        u = np.exp(-y)
+        r = 2.0 * y * u / (1.0 + sign * u * u)
+        out += coef @ (r * r)
+    return out
+
+
+def _properties(mix: DetailMixture, ws: _Workspace, w, w1, w2, ideal, delta, t):
+    """Z and speed of sound [m/s] at the converged reduced density.
+
+    ``w1`` holds the per-point coefficients of alpha + T d(alpha)/dT, ``w2`` those of
+    T^2 d2(T alpha)/dT2 / T (see :class:`DetailMixture`), ``ideal`` is cv0 / R.
+    """
+    n = delta.size
+    zm1, dz = _z_functions(ws, w, delta, 2)
+    phi = ws.phi[:, :n]
+    y = ws.y[:, :n]
+    np.multiply(w1, phi, out=y)
+    h = ws.h[:6, :n]
+    np.matmul(_MOM_T[:6], y, out=h)
+    x = ws.pw[1:5, :n]
+    atd = h[0] - np.einsum("kn,kn->n", _KS * x, h[2:6])  # D (alpha + T alpha_T)
+    att = np.einsum("kn,kn->n", w2, phi)  # T^2 (T alpha)_TT / T
+    z = 1.0 + zm1
+    slope = z + dz  # (dp/dD) / (R T)
+    dpdt = 1.0 + atd  # (dp/dT) / (D R)
+    cv = ideal - att
+    cp = cv + dpdt * dpdt / slope
+    with np.errstate(invalid="ignore", divide="ignore"):
+        w2s = cp / cv * slope * R_DETAIL * t / mix.molar_mass
+        sound = np.sqrt(np.where((w2s > 0) & (cv > 0), w2s, np.nan))
+    return z, sound
+
+
+def composition_range(fractions) -> int:
+    """Range class (0 normal, 1 extended, 2 outside) of a composition by the DETAIL limits."""
+    x = np.asarray(fractions, dtype=float)
+    groups = {g: float(sum(x[INDEX[c]] for c in comps)) for g, comps in _GROUPS.items()}
+    for cls, limits in ((NORMAL, NORMAL_COMPOSITION), (EXTENDED, EXTENDED_COMPOSITION)):
+        if all(lo - _LIMIT_SLACK <= groups[g] <= hi + _LIMIT_SLACK for g, (lo, hi) in limits.items()):
+            return cls
+    return OUTSIDE
+
+
+def range_classes(pressure, temperature, fractions) -> np.ndarray:
+    """Range class of every point: the worse of the (p, T) class and the composition class."""
+    p = np.asarray(pressure, dtype=float)
+    t = np.asarray(temperature, dtype=float)
+    out = np.full(np.broadcast(p, t).shape, OUTSIDE, dtype=np.int8)
+    for cls, (pm, tl, th) in ((EXTENDED, EXTENDED_RANGE), (NORMAL, NORMAL_RANGE)):
+        out[(p <= pm) & (t >= tl) & (t <= th)] = cls
+    return np.maximum(out, np.int8(composition_range(fractions)))
+
+
+def _worker_count(workers, n_blocks: int) -> int:
+    if workers is None:
+        if n_blocks < 2:
+            return 1
+        workers = min(MAX_WORKERS, os.cpu_count() or 1)
+    return max(1, min(int(workers), n_blocks))
+
+
+def run_blocks(run, blocks, n_work: int) -> None:
+    """Run ``run(list_of_blocks)`` on ``n_work`` threads (numpy releases the GIL in its loops);
+    BLAS is held to one thread per worker meanwhile."""
+    if n_work <= 1:
+        if blocks:
+            run(blocks)
+        return
+    from concurrent.futures import ThreadPoolExecutor
+
+    try:
+        from threadpoolctl import threadpool_limits
+        limits = threadpool_limits(limits=1, user_api="blas")
+    except ImportError:  # pragma: no cover - threadpoolctl is a dependency
+        limits = contextlib.nullcontext()
+    with limits, ThreadPoolExecutor(max_workers=n_work) as ex:
+        for f in [ex.submit(run, blocks[k::n_work]) for k in range(n_work)]:
+            f.result()
+
+
+def z_aga8_detail(pressure, temperature, composition, *, speed_of_sound: bool = True,
+                  workers: int | None = None) -> ZResult:
+    """Compressibility factor, density and speed of sound by AGA8 DETAIL.
+
+    Z = 1 + D (d alpha_r / d D)_T,   p = D R T Z,   R = 8.31451 J/(mol K),
+    with alpha_r the reduced residual Helmholtz energy of the DETAIL equation (58 terms, 21
+    components, the mixing rules of AGA8 Part 1).
+
+    Parameters
+    ----------
+    pressure : float or ndarray [Pa]
+        Absolute pressure.
+    temperature : float or ndarray [K]
+        Broadcast against ``pressure``.
+    composition : Composition or mapping of component name -> mole fraction [-]
+        Any of the 21 components.
+    speed_of_sound : bool
+        Also compute the speed of sound (temperature derivatives and the ideal-gas heat
+        capacity). Without it ``ZResult.speed_of_sound`` is None and Z comes straight from the
+        final density step.
+    workers : int, optional
+        Threads for large inputs (blocks of CHUNK points are independent). Default: one per CPU
+        core, at most 4, from two blocks up; 1 runs in the caller's thread.
+
+    Returns
+    -------
+    ZResult
+        ``z``, ``molar_density`` [mol/m3], ``speed_of_sound`` [m/s] in the broadcast shape;
+        ``molar_mass`` [kg/mol] (the model's own molar masses, a float). A point without a
+        gas-phase root gets NaN and reason ``no-gas-root``; one where the solve did not converge
+        ``no-convergence``; non-finite or non-positive p or T ``invalid-input``. Other points are
+        not affected. ``extra`` holds the mixture size parameter ``k3`` [L/mol] and energy
+        parameter ``energy`` [K], and ``composition_range`` (0, 1, 2).
+
+    Notes
+    -----
+    Range classes (AGA8 1992/1994 edition, from memory): normal range 17-143 degF (264.8-334.8 K),
+    p <= 1750 psia (12.07 MPa) with the normal-range composition limits (uncertainty 0.1 %);
+    extended range -200 to 760 degF (144.3-677.6 K), p <= 40 000 psia (276 MPa) with the
+    expanded-range composition limits (0.3 % to 1 %). A point's class is the worse of its
+    (p, T) class and the composition's class. The density solve takes the gas-phase root:
+    Halley steps (Newton where Halley's correction is not trusted) in ln(rho) on ln(p), started
+    from the low-density series and safeguarded by a bracket with bisection; a root is rejected
+    as ``no-gas-root`` if dp/drho does not stay positive from rho = 0 up to it (checked where a
+    van der Waals loop is possible). No phase-equilibrium calculation is made: inside the
+    two-phase region the root of the gas branch (a supersaturated vapour) is returned, as the
+    reference code does. Coefficients: :mod:`meterfix.z.tables.aga8_detail_coefficients`.
+
+    References
+    ----------
+    1. AGA Report No. 8 Part 1 (2017), DETAIL equation of state; ISO 20765-1:2005; ISO 12213-2:2006.
+    2. K. E. Starling, J. L. Savidge, AGA Report No. 8, 2nd ed. (1992).
+    """
+    comp = as_composition(composition)
+    mix = mixture(comp.fractions)
+    p, t = np.broadcast_arrays(np.asarray(pressure, dtype=float), np.asarray(temperature, dtype=float))
+    shape = p.shape
+    pf, tf = p.ravel(), t.ravel()
+    bad = invalid_points(pf, tf)
+    z = np.full(pf.size, np.nan)
+    rho = np.full(pf.size, np.nan)
+    w = np.full(pf.size, np.nan)
+    reason = np.full(pf.size, "", dtype=_REASON_DTYPE)
+    reason[bad] = REASON_INVALID_INPUT
+    idx = np.flatnonzero(~bad)
+    n_blocks = -(-idx.size // CHUNK)
+    blocks = np.array_split(idx, n_blocks) if n_blocks else []
+    n_work = _worker_count(workers, len(blocks))
+
+    def run(block_list):
+        ws = _Workspace(min(CHUNK, idx.size))
+        for j in block_list:
+            z[j], rho[j], w[j], reason[j] = _solve_block(mix, ws, pf[j], tf[j], speed_of_sound)
+
+    run_blocks(run, blocks, n_work)
+    comp_class = composition_range(comp.fractions)
+    rng = range_classes(pf, tf, comp.fractions)
+    rng[bad] = OUTSIDE
+    return ZResult(z.reshape(shape), rng.reshape(shape), reason.reshape(shape),
+                   "aga8-detail", EDITION, molar_density=rho.reshape(shape), molar_mass=mix.molar_mass,
+                   speed_of_sound=w.reshape(shape) if speed_of_sound else None,
+                   extra={"k3": mix.k3, "energy": mix.energy, "composition_range": comp_class})
+
+
+def _evaluate(pressure, temperature, gas, speed_of_sound=True, workers=None, **_options):
+    return z_aga8_detail(pressure, temperature, gas, speed_of_sound=speed_of_sound, workers=workers)
+
+
+METHODS = [
+    ZMethod(
+        "aga8-detail", EDITION, _evaluate, gas_input="composition", family="equation of state",
+        range_text="normal range 264.8-334.8 K (17-143 degF), p <= 12.07 MPa (1750 psia), pipeline-quality "
+                   "composition (methane >= 45 %, N2 <= 50 %, CO2 <= 30 %, ethane <= 10 %, propane <= 3.5 %, "
+                   "butanes <= 1.5 %, pentanes <= 0.5 %, C6+ <= 0.1 %, H2 <= 10 %, CO <= 3 %, He <= 0.2 %, "
+                   "H2O <= 0.05 %, H2S <= 0.02 %, no O2 or Ar); extended range 144.3-677.6 K, p <= 276 MPa "
+                   "(40 000 psia) with the expanded composition limits",
+        uncertainty_pct={NORMAL: 0.1, EXTENDED: 0.5},
+        uncertainty_source="AGA Report No. 8 (1992/1994; kept in Part 1, 2017): 0.1 % in the normal range; "
+                           "0.3 % to 1 % across the extended range, 0.5 % taken as representative (from memory, "
+                           "REFERENCES §3)",
+    )
+]
+
+__all__ = ["z_aga8_detail", "EDITION", "NORMAL_RANGE", "EXTENDED_RANGE", "NORMAL_COMPOSITION",
+           "EXTENDED_COMPOSITION", "composition_range", "range_classes", "METHODS"]
