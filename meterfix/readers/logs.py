@@ -1,0 +1,512 @@
+"""Meter logs (CSV/TXT/XLSX/XLSM/XLS/ODS) → the canonical interval frame in SI, plus metadata.
+
+The layout is found, not configured: optional title and note rows, one header row (see
+:mod:`meterfix.readers.columns` for the headers understood), one row per interval or reading.
+
+Quirks handled
+--------------
+- **Time**: one date-time column, or a date column and a time-of-day column; spreadsheet dates,
+  spreadsheet serial numbers, ISO 8601 with or without offsets, ``dd.mm.yyyy HH:MM``, slash dates
+  (order decided from the file), AM/PM (:mod:`meterfix.readers.times`). Local clock times are
+  placed in ``timezone``; days with a clock change have 23 or 25 hours; the repeated autumn hour
+  is resolved by order. A header ``Timestamp (UTC)`` or times with offsets are taken as given.
+- **Interval label**: by default a timestamp marks the *end* of its interval. Loggers and volume
+  correctors conventionally stamp an interval when it closes, the moment its volume is known
+  (common practice); ``interval_label='start'`` reads interval-beginning exports. A header that
+  says which (``Interval start``, ``Interval end``) wins over the setting, noted in the metadata.
+  The canonical index is always the interval end, in UTC.
+- **Duration** of each row: its own spacing from the previous row (interval-start labels: to the
+  next row). The first row (start labels: the last row) has no neighbour and takes the median
+  spacing of the log, as does a row after a gap (the missing rows are not its interval: the quality
+  step counts and inserts them). A ``Duration`` column wins where it has a value. A meter-index
+  difference after a gap does cover the whole gap, so its duration is the whole span.
+- **Volume** from an interval volume column; else a meter index (differences; the first reading
+  opens the log and is not an interval: it is dropped and kept in the metadata); else a flow rate
+  times each row's duration. Index differences: a drop that fits a register rollover at
+  10^n (``register_digits``, else the number of integer digits of the largest reading) is added
+  back and flagged ``flag_rollover``; a drop that does not (reset, meter change) leaves that
+  interval's volume unknown (NaN) and is flagged ``flag_meter_change``; a small drop is kept as it
+  is (so the total still equals the index difference) and flagged ``flag_negative_delta``; a rise
+  above ten times the 99th-percentile flow of the log is kept and flagged ``flag_implausible_delta``.
+- **Several files** for one meter are joined in time order. Rows with the same interval end are
+  reduced to the first (in the order the files were given, then row order): identical copies
+  silently, differing ones flagged ``flag_duplicate`` and listed in the metadata.
+- **Bad cells**: a number that cannot be read is NaN with ``flag_unparseable`` and the cell (file,
+  sheet, row, column, text) recorded in the metadata; an empty required cell is NaN with
+  ``flag_missing``. A row whose time cannot be read cannot be placed: it is left out and recorded
+  in ``metadata.dropped_rows`` (the quality step then sees the missing interval).
+  ``flag_time_backwards`` marks a row whose time is earlier than a row above it in its file.
+"""
+
+from __future__ import annotations
+
+import hashlib
+from dataclasses import asdict, dataclass, field
+from pathlib import Path
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError
+from .columns import ColumnMapping, _key, map_columns, require_log_columns
+from .tables import DEFAULT_LIMITS, Limits, RawTable, parse_table, to_numbers
+from .times import localize, parse_clock, parse_datetimes, parse_dates
+
+#: numeric canonical columns read from a log
+NUMERIC = ("pressure_gauge", "pressure_line", "pressure_atm", "temperature_line", "volume_line", "volume_index",
+           "flow_rate", "volume_corrected_site", "volume_corrected_site_index", "duration")
+#: flags the reader sets (always present in the frame)
+READER_FLAGS = ("flag_unparseable", "flag_missing", "flag_duplicate", "flag_time_backwards", "flag_rollover",
+                "flag_meter_change", "flag_negative_delta", "flag_implausible_delta")
+_MAX_RECORDED = 1000
+
+
+@dataclass
+class LogMetadata:
+    """Where a log came from and how it was read.
+
+    Attributes
+    ----------
+    sources : list of dict      per file: file, role ('log'), sha256, sheet, rows (data rows),
+                                header_row, encoding, delimiter, decimal
+    columns : dict              file → {canonical name: header as written}
+    units : dict                canonical name → unit as written (first file that has it)
+    ignored_columns : dict      file → headers not used
+    timezone : str              IANA zone the local clock times were read in
+    interval_label : str        'end' or 'start' (as read from the first file)
+    nominal_interval_s : float [s]  median spacing of the rows
+    volume_from : str           'interval volume', 'meter index' or 'flow rate'
+    register_capacity : float or None [m3]  rollover capacity used for index differences
+    opening_index : float or None [m3]      first index reading (opens the log)
+    unparseable : list of dict  cells that could not be read (first 1000): file, sheet, row, column, value
+    unparseable_count : int
+    dropped_rows : list of dict rows left out (time unreadable or not existing): file, sheet, row, reason, value
+    duplicates : list of dict   rows with the same interval end and different values
+    identical_overlap_rows : int  identical copies dropped
+    status : list of dict       non-empty status cells: time, file, row, text (first 1000)
+    notes : list of str         title rows of each file and what the reader decided
+    flag_counts : dict          flag name → rows flagged by the reader
+    """
+
+    sources: list = field(default_factory=list)
+    columns: dict = field(default_factory=dict)
+    units: dict = field(default_factory=dict)
+    ignored_columns: dict = field(default_factory=dict)
+    timezone: str = "UTC"
+    interval_label: str = "end"
+    nominal_interval_s: float = float("nan")
+    volume_from: str = ""
+    register_capacity: float | None = None
+    opening_index: float | None = None
+    unparseable: list = field(default_factory=list)
+    unparseable_count: int = 0
+    dropped_rows: list = field(default_factory=list)
+    duplicates: list = field(default_factory=list)
+    identical_overlap_rows: int = 0
+    status: list = field(default_factory=list)
+    notes: list = field(default_factory=list)
+    flag_counts: dict = field(default_factory=dict)
+
+    def to_record(self) -> dict:
+        return asdict(self)
+
+
+# ---------------------------------------------------------------------------------------------
+def _score(cells) -> float:
+    """Header score for a log: number of cells read as a known quantity."""
+    from .columns import read_header
+
+    n = 0
+    for j, c in enumerate(cells):
+        if isinstance(c, str) and c.strip():
+            try:
+                if read_header(c, j, {}) is not None:
+                    n += 1
+            except Exception:  # noqa: BLE001 - a known name with a bad unit still marks a header
+                n += 1
+    return float(n) if n >= 2 else 0.0
+
+
+def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", column_map=None,
+             register_digits: int | None = None, sheet=None, limits: Limits = DEFAULT_LIMITS):
+    """Read one meter's log from one or several files.
+
+    Parameters
+    ----------
+    paths : path or list of paths   CSV, TXT, TSV, XLSX, XLSM, XLS or ODS; joined in time order
+    timezone : str                  IANA zone of the local clock times, e.g. 'Europe/Berlin'
+    interval_label : {'end', 'start'}  which end of its interval a timestamp marks (default 'end')
+    column_map : dict, optional     source header → canonical name (see meterfix.readers.columns)
+    register_digits : int, optional digits of the meter index register (rollover at 10^n [in the
+                                    index column's unit])
+    sheet : str, optional           workbook sheet (default: 'Log', else the sheet holding a log)
+    limits : Limits                 safety limits of the table reader
+
+    Returns
+    -------
+    (DataFrame, LogMetadata)
+        The canonical frame: UTC DatetimeIndex ``interval_end``; ``pressure_gauge`` [Pa] or
+        ``pressure_line`` [Pa absolute]; optional ``pressure_atm`` [Pa]; ``temperature_line`` [K];
+        ``volume_line`` [m3]; ``duration`` [s]; optional ``volume_corrected_site`` [m3 at the
+        site corrector's base], ``flow_rate`` [m3/s], ``volume_index`` [m3], ``status``;
+        ``source_file`` (position in ``metadata.sources``), ``source_row`` (1-based); and the
+        boolean ``flag_*`` columns of READER_FLAGS.
+    """
+    plist = [paths] if isinstance(paths, (str, Path)) else list(paths)
+    if not plist:
+        raise InputError("no log file given", hint="give one or more log files")
+    tables = []
+    for p in plist:
+        p = Path(p)
+        if not p.exists():
+            raise InputError("file not found", file=p, hint="check the path")
+        with open(p, "rb") as fh:
+            tables.append(parse_table(fh, name=str(p), suffix=p.suffix, sheet=sheet, header_score=_score,
+                                      prefer=("log",), limits=limits))
+    return _assemble(tables, timezone, interval_label, column_map, register_digits)
+
+
+def parse_log(fileobj, *, name: str = "<log>", timezone: str = "UTC", interval_label: str = "end",
+              column_map=None, register_digits: int | None = None, sheet=None, limits: Limits = DEFAULT_LIMITS):
+    """Read a log from a binary file-like object (see :func:`read_log`).
+
+    Parameters
+    ----------
+    fileobj : binary file-like
+    name : str     file name for messages; its extension gives the format
+    """
+    t = parse_table(fileobj, name=name, sheet=sheet, header_score=_score, prefer=("log",), limits=limits)
+    return _assemble([t], timezone, interval_label, column_map, register_digits)
+
+
+# ---------------------------------------------------------------------------------------------
+def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta: LogMetadata) -> pd.DataFrame:
+    where = {"file": t.file, "sheet": t.sheet, "row": t.header_row}
+    mapping: ColumnMapping = map_columns(t.header, column_map, where=where)
+    require_log_columns(mapping, t.header, where)
+    c = mapping.columns
+    fname = Path(t.file).name
+    meta.columns[fname] = {n: s.header for n, s in c.items()}
+    meta.ignored_columns[fname] = list(mapping.ignored)
+    for n, s in c.items():
+        meta.units.setdefault(n, s.unit_text)
+    meta.notes += [f"{fname}: {x}" for x in t.notes]
+    n = len(t.cells)
+    rows = t.rows
+    part = pd.DataFrame({"source_file": np.full(n, k, dtype=np.int32), "source_row": rows})
+
+    # -- time
+    tcol = next((c[x] for x in ("interval_end", "interval_start", "time") if x in c), None)
+    if tcol is None and "date" in c and "clock" not in c:
+        tcol = c["date"]
+    if tcol is not None:
+        naive, bad_t, is_utc = parse_datetimes(t.cells[tcol.index].to_numpy(), {**where, "row": None, "column": tcol.header})
+        zone = "utc" if is_utc else tcol.zone
+    elif "date" in c and "clock" in c:
+        d, bad_d = parse_dates(t.cells[c["date"].index].to_numpy(), {**where, "row": None, "column": c["date"].header})
+        h, bad_h = parse_clock(t.cells[c["clock"].index].to_numpy(), {**where, "row": None, "column": c["clock"].header})
+        naive = d + h
+        bad_t = bad_d | bad_h | np.isnat(naive)
+        zone = c["clock"].zone or c["date"].zone
+        tcol = c["clock"]
+    else:
+        raise InputError("a time-of-day column without a date column", **where, column=c["clock"].header,
+                         hint="add a 'Date' column, or give one 'Interval end' column with date and time")
+    if zone == "utc":
+        utc = naive
+        nonexist = np.zeros(n, bool)
+    else:
+        utc, nonexist, _ = localize(naive, timezone)
+    own_label = "end" if tcol.name == "interval_end" else "start" if tcol.name == "interval_start" else label
+    if own_label != label:
+        meta.notes.append(f"{fname}: header '{tcol.header}' says interval {own_label}; read as such "
+                          f"(setting was '{label}')")
+    part["time"] = utc
+    part["label"] = own_label
+    drop = np.isnat(utc) | bad_t
+    for i in np.flatnonzero(drop)[:_MAX_RECORDED]:
+        reason = ("the local time does not exist (skipped by the clock change)" if nonexist[i]
+                  else "the time cannot be read")
+        meta.dropped_rows.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "reason": reason,
+                                  "value": str(t.cells[tcol.index].iat[i])})
+
+    # -- numbers
+    unparseable = np.zeros(n, bool)
+    missing = np.zeros(n, bool)
+    required = {"pressure_gauge", "pressure_line", "temperature_line", "volume_line", "volume_index", "flow_rate"}
+    for name in NUMERIC:
+        if name not in c:
+            continue
+        s = c[name]
+        raw = t.cells[s.index].to_numpy()
+        v, empty, bad = to_numbers(raw, t.decimal)
+        part[name] = s.unit.to_si(v)
+        if name in ("volume_index", "volume_corrected_site_index"):
+            part[name + "_scale"] = s.unit.scale
+        if bad.any():
+            unparseable |= bad
+            idx = np.flatnonzero(bad)
+            meta.unparseable_count += len(idx)
+            room = _MAX_RECORDED - len(meta.unparseable)
+            for i in idx[:max(room, 0)]:
+                meta.unparseable.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "column": s.header,
+                                         "value": str(raw[i])})
+        if name in required:
+            missing |= empty
+    part["flag_unparseable"] = unparseable
+    part["flag_missing"] = missing
+    if "status" in c:
+        st = t.cells[c["status"].index].astype(str).str.strip()
+        part["status"] = st.to_numpy(dtype=object)
+    # time going backwards within the file, in file order
+    ti = np.where(np.isnat(utc), np.iinfo(np.int64).min, utc.astype("datetime64[ns]").astype(np.int64))
+    prev_max = np.maximum.accumulate(np.concatenate([[np.iinfo(np.int64).min], ti[:-1]]))
+    part["flag_time_backwards"] = (ti < prev_max) & ~drop
+    return part[~drop].reset_index(drop=True)
+
+
+def _spacing_durations(t_ns: np.ndarray, nominal: float, covers_span: np.ndarray, backward: bool) -> np.ndarray:
+    """Duration of each row [s] from its spacing to the previous (or next) row."""
+    n = len(t_ns)
+    d = np.full(n, nominal)
+    if n > 1:
+        gaps = np.diff(t_ns) / 1e9
+        if backward:
+            sp = np.concatenate([[np.nan], gaps])
+        else:
+            sp = np.concatenate([gaps, [np.nan]])
+        long = sp > 1.5 * nominal
+        use = np.isfinite(sp) & (~long | covers_span)
+        d = np.where(use, sp, nominal)
+    return d
+
+
+def _index_deltas(reading: np.ndarray, scale: np.ndarray, dur: np.ndarray, digits):
+    """Differences of a cumulative register: (delta [m3], rollover, change, negative, implausible, capacity)."""
+    n = len(reading)
+    prev = np.concatenate([[np.nan], reading[:-1]])
+    delta = reading - prev
+    raw = reading / scale
+    if digits is not None:
+        cap_raw = 10.0 ** int(digits)
+    else:
+        mx = np.nanmax(raw) if np.isfinite(raw).any() else np.nan
+        cap_raw = 10.0 ** max(1, int(np.ceil(np.log10(mx + 1e-9)))) if np.isfinite(mx) and mx > 0 else np.nan
+    cap = cap_raw * scale
+    pos = np.isfinite(delta) & (delta > 0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rate = delta / dur
+    if pos.sum() >= 3:
+        q = float(np.nanquantile(rate[pos], 0.99))
+        typical = float(np.nanmedian(delta[pos]))
+    else:
+        q, typical = np.nan, np.nan
+    max_delta = 10.0 * q * dur if np.isfinite(q) and q > 0 else np.full(n, np.nan)
+    neg = np.isfinite(delta) & (delta < 0)
+    corrected = delta + cap
+    prev_raw = prev / scale
+    cur_raw = raw
+    fits = np.where(np.isfinite(max_delta), corrected <= max_delta,
+                    (prev_raw >= 0.9 * cap_raw) & (cur_raw <= 0.1 * cap_raw))
+    rollover = neg & np.isfinite(cap) & (corrected >= 0) & fits
+    small = np.isfinite(typical) & (np.abs(delta) <= np.maximum(10.0 * typical, 0.0))
+    change = neg & ~rollover & ~small
+    negative = neg & ~rollover & ~change
+    out = np.where(rollover, corrected, delta)
+    out = np.where(change, np.nan, out)
+    implausible = np.isfinite(max_delta) & (out > max_delta) & ~rollover
+    return out, rollover, change, negative, implausible, cap
+
+
+def _assemble(tables, timezone, interval_label, column_map, register_digits):
+    if interval_label not in ("end", "start"):
+        raise InputError(f"interval label '{interval_label}' is not 'end' or 'start'")
+    meta = LogMetadata(timezone=timezone, interval_label=interval_label)
+    parts = []
+    for k, t in enumerate(tables):
+        meta.sources.append({"file": Path(t.file).name, "role": "log", "sha256": t.sha256, "sheet": t.sheet,
+                             "rows": int(len(t.cells)), "header_row": t.header_row, "encoding": t.encoding,
+                             "delimiter": t.delimiter, "decimal": t.decimal})
+        parts.append(_read_part(t, k, timezone, interval_label, column_map, meta))
+    if column_map:
+        seen = {_key(h) for t in tables for h in t.header}
+        unknown = [h for h in column_map if _key(h) not in seen]
+        if unknown:
+            from ..errors import SettingsError
+
+            raise SettingsError("column map names header(s) not found in any log file: " + ", ".join(unknown),
+                                hint="headers found: " + ", ".join(dict.fromkeys(str(h) for t in tables for h in t.header if str(h).strip())))
+    kinds = {("pressure_gauge" if "pressure_gauge" in p.columns else "pressure_line") for p in parts}
+    if len(kinds) > 1:
+        names = [s["file"] for s in meta.sources]
+        raise InputError("the files disagree: some log gauge pressure, some absolute pressure", file=", ".join(names),
+                         hint="map the pressure columns so that all files read the same quantity")
+    meta.interval_label = parts[0]["label"].iat[0] if len(parts[0]) else interval_label
+    df = pd.concat(parts, ignore_index=True, sort=False)
+    if not len(df):
+        raise InputError("no row of the log has a readable time", file=", ".join(s["file"] for s in meta.sources),
+                         hint="check the time column: see metadata.dropped_rows")
+    t = df["time"].to_numpy("datetime64[ns]").astype(np.int64)
+    is_index = df["volume_index"].notna().to_numpy() if "volume_index" in df else np.zeros(len(df), bool)
+    if "volume_line" in df:
+        is_index &= df["volume_line"].isna().to_numpy()
+    # start labels → end: forward spacing within each file (in time order)
+    start = (df["label"] == "start").to_numpy()
+    pos_sp = np.diff(np.sort(np.unique(t))) / 1e9
+    pos_sp = pos_sp[pos_sp > 0]
+    nominal = float(np.median(pos_sp)) if len(pos_sp) else np.nan
+    own = df["duration"].to_numpy(float) if "duration" in df else np.full(len(df), np.nan)
+    if not np.isfinite(nominal):
+        nominal = float(np.nanmedian(own)) if np.isfinite(own).any() else np.nan
+    if not np.isfinite(nominal):
+        raise InputError("cannot tell the interval length from a single row", file=meta.sources[0]["file"],
+                         hint="add a 'Duration [min]' column or give more rows")
+    meta.nominal_interval_s = nominal
+    if "duration" not in df:
+        df["duration"] = np.nan
+    own = df["duration"].to_numpy(float).copy()
+    if start.any():
+        for k in np.unique(df["source_file"][start]):
+            sel = np.flatnonzero(start & (df["source_file"].to_numpy() == k))
+            order = sel[np.argsort(t[sel], kind="stable")]
+            d = _spacing_durations(t[order], nominal, np.zeros(len(order), bool), backward=False)
+            d = np.where(np.isfinite(own[order]) & (own[order] > 0), own[order], d)
+            t[order] = t[order] + np.round(d * 1e9).astype(np.int64)
+            own[order] = d
+        if is_index[start].any():
+            meta.notes.append("index readings are instants: a start label does not apply to them")
+    df["time"] = t
+    df["duration"] = own
+    # join in time order; first occurrence (file order, then row) wins
+    df = df.sort_values(["time", "source_file", "source_row"], kind="stable").reset_index(drop=True)
+    df = _dedupe(df, meta)
+    t = df["time"].to_numpy(np.int64)
+    own = df["duration"].to_numpy(float)
+    covers = np.zeros(len(df), bool)
+    if "volume_index" in df:
+        covers = df["volume_index"].notna().to_numpy()
+        if "volume_line" in df:
+            covers &= df["volume_line"].isna().to_numpy()
+    d = _spacing_durations(t, nominal, covers, backward=True)
+    dur = np.where(np.isfinite(own) & (own > 0), own, d)
+    df["duration"] = dur
+
+    # volumes
+    n = len(df)
+    for f in ("flag_rollover", "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_duplicate"):
+        if f not in df:
+            df[f] = False
+    vol = df["volume_line"].to_numpy(float) if "volume_line" in df else np.full(n, np.nan)
+    sources = []
+    if "volume_line" in df:
+        sources.append("interval volume")
+    drop_first = False
+    if "volume_index" in df and df["volume_index"].notna().any():
+        delta, ro, ch, ng, imp, cap = _index_deltas(df["volume_index"].to_numpy(float),
+                                                    df["volume_index_scale"].fillna(1.0).to_numpy(float), dur,
+                                                    register_digits)
+        use = ~np.isfinite(vol) & df["volume_index"].notna().to_numpy()
+        vol = np.where(use, delta, vol)
+        for f, m in (("flag_rollover", ro), ("flag_meter_change", ch), ("flag_negative_delta", ng),
+                     ("flag_implausible_delta", imp)):
+            df[f] = df[f].to_numpy(bool) | (m & use)
+        meta.register_capacity = float(np.nanmax(cap)) if np.isfinite(cap).any() else None
+        sources.append("meter index")
+        first = int(np.flatnonzero(df["volume_index"].notna().to_numpy())[0])
+        if first == 0 and ("volume_line" not in df or not np.isfinite(df["volume_line"].iat[0])):
+            meta.opening_index = float(df["volume_index"].iat[0])
+            drop_first = True
+    if "flow_rate" in df:
+        fr = df["flow_rate"].to_numpy(float)
+        vol = np.where(np.isfinite(vol), vol, fr * dur)
+        sources.append("flow rate")
+    df["volume_line"] = vol
+    meta.volume_from = ", ".join(sources)
+    if "volume_corrected_site_index" in df and df["volume_corrected_site_index"].notna().any():
+        delta, ro, ch, ng, imp, _ = _index_deltas(df["volume_corrected_site_index"].to_numpy(float),
+                                                  df["volume_corrected_site_index_scale"].fillna(1.0).to_numpy(float),
+                                                  dur, None)
+        site = df["volume_corrected_site"].to_numpy(float) if "volume_corrected_site" in df else np.full(n, np.nan)
+        df["volume_corrected_site"] = np.where(np.isfinite(site), site, delta)
+    if drop_first:
+        meta.notes.append(f"the first index reading ({meta.opening_index:g} m3 at "
+                          f"{pd.Timestamp(int(t[0]), tz='UTC').isoformat()}) opens the log; it is not an interval")
+        df = df.iloc[1:].reset_index(drop=True)
+    if not len(df):
+        raise InputError("the log has no interval (an index log needs at least two readings)",
+                         file=meta.sources[0]["file"], hint="export a longer period")
+    return _finish(df, meta), meta
+
+
+def _value_columns(df):
+    return [c for c in NUMERIC if c in df.columns]
+
+
+def _dedupe(df: pd.DataFrame, meta: LogMetadata) -> pd.DataFrame:
+    t = df["time"].to_numpy(np.int64)
+    dup = np.concatenate([[False], t[1:] == t[:-1]])
+    df["flag_duplicate"] = False
+    if not dup.any():
+        return df
+    first_pos = pd.Series(np.arange(len(df))).groupby(t).transform("min").to_numpy()
+    cols = _value_columns(df)
+    differs = np.zeros(len(df), bool)
+    diff_cols = [[] for _ in range(len(df))]
+    for c in cols:
+        v = df[c].to_numpy(float)
+        a, b = v[dup], v[first_pos[dup]]
+        same = (a == b) | (np.isnan(a) & np.isnan(b)) | np.isclose(a, b, rtol=1e-9, atol=0.0)
+        d = np.flatnonzero(dup)[~same]
+        differs[d] = True
+        for i in d[:_MAX_RECORDED]:
+            diff_cols[i].append(c)
+    kept_flag = np.zeros(len(df), bool)
+    kept_flag[first_pos[differs]] = True
+    files = [s["file"] for s in meta.sources]
+    for i in np.flatnonzero(differs)[:_MAX_RECORDED]:
+        j = first_pos[i]
+        meta.duplicates.append({"time": pd.Timestamp(int(t[i]), tz="UTC").isoformat(),
+                                "kept": f"{files[df['source_file'].iat[j]]} row {df['source_row'].iat[j]}",
+                                "dropped": f"{files[df['source_file'].iat[i]]} row {df['source_row'].iat[i]}",
+                                "columns": diff_cols[i]})
+    meta.identical_overlap_rows += int((dup & ~differs).sum())
+    df["flag_duplicate"] = kept_flag
+    keep = ~dup
+    # a dropped copy's own bad-cell flags do not carry over; its flags of time order do
+    return df[keep].reset_index(drop=True)
+
+
+def _finish(df: pd.DataFrame, meta: LogMetadata) -> pd.DataFrame:
+    idx = pd.DatetimeIndex(pd.to_datetime(df["time"].to_numpy(np.int64), unit="ns", utc=True), name="interval_end")
+    out = pd.DataFrame(index=idx)
+    pcol = "pressure_gauge" if "pressure_gauge" in df else "pressure_line"
+    out[pcol] = df[pcol].to_numpy(float)
+    if "pressure_atm" in df:
+        out["pressure_atm"] = df["pressure_atm"].to_numpy(float)
+    out["temperature_line"] = df["temperature_line"].to_numpy(float)
+    out["volume_line"] = df["volume_line"].to_numpy(float)
+    out["duration"] = df["duration"].to_numpy(float)
+    for c in ("volume_corrected_site", "flow_rate", "volume_index"):
+        if c in df:
+            out[c] = df[c].to_numpy(float)
+    if "status" in df:
+        out["status"] = df["status"].fillna("").to_numpy(dtype=object)
+        files = [s["file"] for s in meta.sources]
+        nz = np.flatnonzero(out["status"].to_numpy(dtype=str) != "")
+        for i in nz[:_MAX_RECORDED]:
+            meta.status.append({"time": idx[i].isoformat(), "file": files[int(df["source_file"].iat[i])],
+                                "row": int(df["source_row"].iat[i]), "text": str(out["status"].iat[i])})
+    out["source_file"] = df["source_file"].to_numpy(np.int32)
+    out["source_row"] = df["source_row"].to_numpy(np.int64)
+    for f in READER_FLAGS:
+        out[f] = df[f].to_numpy(bool) if f in df else False
+    meta.flag_counts = {f[5:]: int(out[f].sum()) for f in READER_FLAGS}
+    out.attrs["timezone"] = meta.timezone
+    out.attrs["nominal_interval_s"] = meta.nominal_interval_s
+    out.attrs["volume_from"] = meta.volume_from
+    return out
+
+
+def file_sha256(path) -> str:
+    """sha256 of a file's bytes (hex)."""
+    return hashlib.sha256(Path(path).read_bytes()).hexdigest()
