@@ -1,0 +1,357 @@
+"""The month workbook: one .xlsx per meter-month with an overview, the data sheets and native charts.
+
+Sheets (in order): Overview, Charts, Gas days, Intervals, Analyses, Findings, Edits, Uncertainty,
+and Invoice check / Corrector check when the run has them. Values are converted from SI to the
+display units of the site file's ``[display_units]`` table at this edge (default kPa absolute,
+°C, m3, GJ, MJ/m3, kg); every header names its unit.
+
+When the month has more intervals than a worksheet holds (1,048,575 data rows), the interval table
+stays in the CSV written beside the workbook (``interval_csv``) and the Intervals sheet says so;
+the time-series charts then plot gas-day means.
+
+The file is written through :mod:`meterfix.writers.atomic` (temporary file, then rename) and has
+fixed timestamps inside, so the same result gives the same bytes.
+"""
+
+from __future__ import annotations
+
+import json
+
+import numpy as np
+import pandas as pd
+from openpyxl import Workbook
+from openpyxl.styles import Alignment
+from openpyxl.worksheet.pagebreak import Break
+
+from .. import __version__
+from . import workbook_charts as C
+from . import workbook_checks as K
+from . import workbook_sheets as S
+from . import xlsx_common as X
+from .atomic import write_bytes
+from .summary import CAUTION
+
+#: rows of data a worksheet can hold; the interval table goes to CSV above it (tests lower it)
+MAX_INTERVAL_ROWS = S.MAX_SHEET_ROWS
+
+SHEET_GUIDE = (
+    ("Overview", "month totals, method, base conditions, settings and input files"),
+    ("Charts", "pressure and temperature, Zb/Zf, daily volumes and ideal-gas error"),
+    ("Gas days", "totals by gas day, then the month"),
+    ("Intervals", "every interval with its factors and flags"),
+    ("Analyses", "the gas analyses in force and what they gave"),
+    ("Findings", "ideal-gas error days and periods, quality flags, warnings"),
+    ("Edits", "values substituted by the run"),
+    ("Uncertainty", "expanded uncertainty and its budget"),
+    ("Invoice check", "the supplier's invoice against our month (when given)"),
+    ("Corrector check", "the site corrector's volume against ours (when logged)"),
+)
+
+# Settings field → the setting names that set it (for the 'source' column)
+_SETTING_ALIASES = {
+    "pressure_base": ("base_pressure", "base"), "temperature_base": ("base_temperature", "base"),
+    "base_preset": ("base",), "pressure_atm": ("atmospheric_pressure",), "gas_day_start_hour": ("gas_day_start",),
+    "temperature_combustion": ("combustion_temperature",), "ideal_gas_threshold_pct": ("ideal_gas_threshold",),
+    "price_per_energy": ("price",), "currency": ("price",), "invoice_tolerance_pct": ("invoice_tolerance",),
+}
+_SETTING_UNITS = {
+    "pressure_base": "Pa", "temperature_base": "K", "pressure_atm": "Pa", "elevation": "m", "heating_value": "J/m3",
+    "heating_value_reference_temperature": "K", "heating_value_reference_pressure": "Pa",
+    "temperature_combustion": "K", "ideal_gas_threshold_pct": "%", "price_per_energy": "currency/J",
+    "invoice_tolerance_pct": "%", "fail_on": "%", "max_gap_intervals": "intervals", "gas_day_start_hour": "h",
+}
+
+
+def _source(s, name):
+    src = s.sources or {}
+    for key in (name,) + _SETTING_ALIASES.get(name, ()):
+        if src.get(key) not in (None, "default"):
+            return src[key]
+    return "default"
+
+
+def _setting_text(v):
+    if isinstance(v, (dict, list)):
+        return json.dumps(v, sort_keys=True, ensure_ascii=False) if v else ""
+    return v
+
+
+def _long_row(ws, r, label, text):
+    """A label and a long text spread over columns B:D, wrapped, with room for its lines."""
+    ws.cell(row=r, column=1, value=label).font = X.LABEL_FONT
+    c = ws.cell(row=r, column=2, value=X.cell_value(text))
+    c.alignment = Alignment(wrap_text=True, vertical="top")
+    ws.merge_cells(start_row=r, start_column=2, end_row=r, end_column=4)
+    for j in range(1, 5):
+        ws.cell(row=r, column=j).border = X.CELL_BORDER
+    ws.cell(row=r, column=1).alignment = Alignment(vertical="top")
+    lines = max(1, -(-len(str(text or "")) // 110))
+    ws.row_dimensions[r].height = 15 * lines + 2
+    return r + 1
+
+
+def _short(v):
+    """Floats to 10 significant digits for display (the manifest keeps them exact)."""
+    if isinstance(v, float):
+        return float(f"{v:.10g}")
+    return v
+
+
+def _row(ws, r, label, value, unit="", fmt=None, note=""):
+    ws.cell(row=r, column=1, value=label).font = X.LABEL_FONT
+    c = ws.cell(row=r, column=2, value=X.cell_value(value))
+    if fmt and isinstance(c.value, (int, float)) and not isinstance(c.value, bool):
+        c.number_format = fmt
+    c.alignment = Alignment(horizontal="right") if isinstance(c.value, (int, float)) else Alignment(horizontal="left")
+    ws.cell(row=r, column=3, value=unit)
+    if note:
+        ws.cell(row=r, column=4, value=X.cell_value(note)).font = X.NOTE_FONT
+    for j in range(1, 5):
+        ws.cell(row=r, column=j).border = X.CELL_BORDER
+    return r + 1
+
+
+def _month_label(result) -> str:
+    months = [str(m) for m in result.months.index]
+    return months[0] if len(months) == 1 else (f"{months[0]} to {months[-1]}" if months else "")
+
+
+def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True) -> dict:
+    """The first sheet: what a reader needs before any table. Returns row numbers by label."""
+    s = result.settings
+    t = result.totals
+    at = {}
+    ws.cell(row=1, column=1, value=X.cell_value(f"Month report: meter {s.meter}, {_month_label(result)}")).font = \
+        X.TITLE_FONT
+    ws.cell(row=2, column=1, value=X.cell_value(f"Site: {s.site or '(not named)'}    ·    meterfix {__version__}"))
+    # the caution, prominent: merged, amber, framed
+    ws.cell(row=3, column=1, value="CAUTION").font = X.CAUTION_FONT
+    ws.cell(row=3, column=1).fill = X.CAUTION_FILL
+    c = ws.cell(row=4, column=1, value=CAUTION)
+    c.font = X.CAUTION_FONT
+    c.fill = X.CAUTION_FILL
+    c.alignment = Alignment(wrap_text=True, vertical="top")
+    ws.merge_cells("A3:D3")
+    ws.merge_cells("A4:D7")
+    for rr in range(3, 8):
+        for cc in range(1, 5):
+            ws.cell(row=rr, column=cc).border = X.CAUTION_BORDER
+            ws.cell(row=rr, column=cc).fill = X.CAUTION_FILL
+    for rr in range(4, 8):
+        ws.row_dimensions[rr].height = 20
+    at["caution"] = 4
+
+    vl, el, hl, ml = du.label("volume"), du.label("energy"), du.label("heating_value"), du.label("mass")
+    r = X.section(ws, 9, "Month totals")
+    X.write_header(ws, r, 1, ["Quantity", "Value", "Unit", "Note"], height=None)
+    r += 1
+    vb, vi = t.get("base_volume_m3"), t.get("ideal_gas_base_volume_m3")
+    unc = result.uncertainty
+    e_mj = t.get("energy_MJ")
+    lines = [
+        ("Uncorrected volume", du.scalar("volume", t.get("uncorrected_volume_m3")), f"{vl} at line conditions",
+         X.FMT_VOLUME, "sum of the meter's interval volumes"),
+        ("Corrected volume, real gas", du.scalar("volume", vb), f"{vl} at base", X.FMT_VOLUME,
+         f"Z at line and base from {result.method.get('name')}"),
+        ("Corrected volume, ideal gas (Z = 1)", du.scalar("volume", vi), f"{vl} at base", X.FMT_VOLUME,
+         "what a corrector set to ideal gas gives"),
+        ("Difference, ideal − real", du.scalar("volume", (vi - vb) if vb is not None and vi is not None else None),
+         f"{vl} at base", X.FMT_VOLUME, ""),
+        ("Ideal-gas error", t.get("ideal_gas_error_pct"), "%", X.FMT_PCT, "100 (ideal / real − 1)"),
+        ("Mass", du.scalar("mass", t.get("mass_kg")), ml, X.FMT_VOLUME, ""),
+        ("Energy, gross", du.scalar("energy", None if e_mj is None else e_mj * 1e6), el, X.FMT_ENERGY,
+         f"combustion reference {s.temperature_combustion - 273.15:g} °C"),
+        ("Mean heating value, gross", du.scalar("heating_value", e_mj * 1e6 / vb) if (e_mj and vb) else None,
+         f"{hl} at base", X.FMT_HV, "energy / corrected volume"),
+        ("Expanded uncertainty, volume", getattr(unc, "expanded_pct", None) if unc is not None else None, "%",
+         X.FMT_PCT, f"k = {getattr(unc, 'coverage_factor', 2):g}" if unc is not None else "not computed"),
+        ("Expanded uncertainty, energy", getattr(unc, "expanded_energy_pct", None) if unc is not None else None, "%",
+         X.FMT_PCT, "" if unc is not None else "not computed"),
+        ("Intervals", t.get("intervals"), "", X.FMT_INT, ""),
+        ("Flagged intervals", int(result.intervals["flagged"].sum()) if "flagged" in result.intervals else None, "",
+         X.FMT_INT, "see Findings"),
+        ("Intervals with volume but no result", t.get("intervals_without_result"), "", X.FMT_INT, ""),
+        ("Uncorrected volume without result", du.scalar("volume", t.get("uncorrected_volume_without_result_m3")),
+         f"{vl} at line conditions", X.FMT_VOLUME, "not in the corrected totals"),
+        ("Estimated share of corrected volume", t.get("estimated_volume_share_pct"), "%", X.FMT_PCT2, "see Edits"),
+    ]
+    for label, value, unit, fmt, note in lines:
+        at[label] = r
+        r = _row(ws, r, label, value, unit, fmt, note)
+
+    avg = result.average_correction or {}
+    if any(k in avg for k in ("time_weighted", "volume_weighted")):
+        r = X.section(ws, r + 1, "Correction from month-average pressure and temperature (for comparison)")
+        for key, text in (("time_weighted", "time-weighted"), ("volume_weighted", "volume-weighted")):
+            if key in avg:
+                a = avg[key]
+                at[f"average {key}"] = r
+                r = _row(ws, r, f"Corrected volume, {text} averages", du.scalar("volume", a.get("base_volume_m3")),
+                         f"{vl} at base", X.FMT_VOLUME,
+                         f"error {a.get('error_pct', float('nan')):+.3f} % against interval by interval")
+
+    r = X.section(ws, r + 1, "Method and base conditions")
+    m = result.method
+    r = _row(ws, r, "Z method", m.get("name"))
+    r = _long_row(ws, r, "Edition", m.get("edition"))
+    r = _long_row(ws, r, "Range of the method", m.get("range"))
+    r = _long_row(ws, r, "Atmospheric pressure", m.get("atmospheric_pressure_source") or "")
+    at["base pressure"] = r
+    r = _row(ws, r, "Base pressure", du.scalar("pressure", s.pressure_base), du.label("pressure"), "#,##0.000",
+             s.base_preset or "")
+    at["base temperature"] = r
+    r = _row(ws, r, "Base temperature", du.scalar("temperature", s.temperature_base), du.label("temperature"), "0.00")
+    r = _row(ws, r, "Combustion reference temperature", s.temperature_combustion - 273.15, "°C", "0.00")
+    r = _row(ws, r, "Gas day", f"starts {s.gas_day_start_hour:02d}:00 local time", s.timezone)
+    if result.reconciliation is not None:
+        rt = result.reconciliation.totals
+        pct = rt.get("energy_difference_pct") if rt.get("compared_on") == "energy" else rt.get("volume_difference_pct")
+        r = _row(ws, r, "Invoice − ours", pct, "%", X.FMT_PCT, f"on {rt.get('compared_on')}; see Invoice check")
+    if result.corrector_check is not None:
+        cc = result.corrector_check
+        best = cc.best
+        r = _row(ws, r, "Site corrector − ours", cc.size_pct, "%", X.FMT_PCT,
+                 ("likely: " + K._cause_text(best["cause"])) if best else "no misconfiguration found")
+    csv_text = f"interval table also in '{interval_csv}'" if interval_csv else ""
+    if not intervals_in_sheet:
+        csv_text = f"too many intervals for a sheet: the interval table is in '{interval_csv}'"
+    if csv_text:
+        at["interval file"] = r
+        r = _row(ws, r, "Interval table file", interval_csv, "", None, csv_text)
+
+    r = X.section(ws, r + 1, "Input files")
+    keys = []
+    for rec in result.inputs or []:
+        for k in (rec if isinstance(rec, dict) else {}):
+            if k not in keys:
+                keys.append(k)
+    if keys:
+        order = [k for k in ("file", "role", "sha256") if k in keys] + [k for k in keys if k not in ("file", "role", "sha256")]
+        rows = [[_setting_text(rec.get(k)) for k in order] for rec in result.inputs if isinstance(rec, dict)]
+        at["inputs"] = r + 1
+        r = X.write_table(ws, r, 1, [k.replace("_", " ").capitalize() for k in order], rows)
+    else:
+        ws.cell(row=r, column=1, value="No input files (data given in memory).").font = X.NOTE_FONT
+        r += 1
+
+    r = X.section(ws, r + 1, "Settings of this run (SI values)")
+    rec = s.to_record()
+    rows = [[k, _short(_setting_text(v)), _SETTING_UNITS.get(k, ""), _source(s, k)] for k, v in rec.items()
+            if k != "sources"]
+    at["settings"] = r + 1
+    r = X.write_table(ws, r, 1, ["Setting", "Value", "Unit", "Source"], rows)
+    if result.warnings:
+        r = X.section(ws, r + 1, "Warnings")
+        for w in result.warnings:
+            r = X.note(ws, r, w, span=4)
+    r = X.section(ws, r + 1, "Sheets of this workbook")
+    present = set(ws.parent.sheetnames)
+    for name, text in SHEET_GUIDE:
+        if name in present:
+            r = _long_row(ws, r, name, text)
+    X.set_widths(ws, {1: 40, 2: 34, 3: 22, 4: 60})
+    return at
+
+
+# ---------------------------------------------------------------------------------------------
+def _print_setup(ws, fit_width=True):
+    ws.page_margins.top = ws.page_margins.bottom = 0.5
+    ws.page_margins.left = ws.page_margins.right = 0.5
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    if fit_width:
+        ws.sheet_properties.pageSetUpPr.fitToPage = True
+        ws.page_setup.fitToWidth = 1
+        ws.page_setup.fitToHeight = 0
+
+
+def time_span(result, daily=False):
+    """(first, last) local datetime of the month, for the time axes of the charts."""
+    d = result.intervals
+    s = result.settings
+    if daily:
+        days = [pd.Timestamp(x) for x in result.gas_days.index]
+        return (days[0].to_pydatetime(), (days[-1] + pd.Timedelta(days=1)).to_pydatetime()) if days else None
+    if not len(d):
+        return None
+    first = d.index[0] - pd.Timedelta(seconds=float(np.nan_to_num(d["duration"].iat[0])))
+    local = pd.DatetimeIndex([first, d.index[-1]]).tz_convert(s.timezone).tz_localize(None)
+    return local[0].to_pydatetime(), local[1].to_pydatetime()
+
+
+def build_workbook(result, *, interval_csv=None, max_rows=None):
+    """The month workbook as an openpyxl Workbook (not saved), and where things are."""
+    max_rows = MAX_INTERVAL_ROWS if max_rows is None else max_rows
+    du = X.DisplayUnits(result.settings.display_units)
+    wb = Workbook()
+    ov = wb.active
+    ov.title = "Overview"
+    charts = wb.create_sheet("Charts")
+    gd_ws = wb.create_sheet("Gas days")
+    iv_ws = wb.create_sheet("Intervals")
+    an_ws = wb.create_sheet("Analyses")
+    fi_ws = wb.create_sheet("Findings")
+    ed_ws = wb.create_sheet("Edits")
+    un_ws = wb.create_sheet("Uncertainty")
+    layout = {}
+    iv_block = S.write_intervals(iv_ws, result, du, interval_csv=interval_csv, max_rows=max_rows)
+    gd_block = S.write_gas_days(gd_ws, result, du)
+    layout["intervals"] = iv_block
+    layout["gas_days"] = gd_block
+    S.write_analyses(an_ws, result, du)
+    S.write_findings(fi_ws, result, du)
+    S.write_edits(ed_ws, result)
+    layout["uncertainty"] = K.write_uncertainty(un_ws, result)
+    if result.reconciliation is not None:
+        layout["invoice"] = K.write_invoice(wb.create_sheet("Invoice check"), result, du)
+    if result.corrector_check is not None:
+        K.write_corrector(wb.create_sheet("Corrector check"), result, du, iv_ws, iv_block,
+                          span=time_span(result))
+    layout["overview"] = write_overview(ov, result, du, interval_csv=interval_csv,
+                                        intervals_in_sheet=iv_block is not None)
+
+    # the month's charts on one sheet, two to a printed page
+    r = X.section(charts, 1, f"Meter {result.settings.meter}, {_month_label(result)}")
+    daily = iv_block is None
+    src_ws, src_block = (gd_ws, gd_block) if daily else (iv_ws, iv_block)
+    span = time_span(result, daily=daily)
+    x_title = f"Gas day ({_month_label(result)})"
+    step = 16
+    if gd_block.rows:
+        days_err = list(result.gas_days["ideal_gas_error_pct"].astype(float))
+        made = [C.pressure_temperature_chart(src_ws, src_block, du, daily=daily, span=span),
+                C.z_ratio_chart(src_ws, src_block, daily=daily, span=span),
+                C.daily_volume_chart(gd_ws, gd_block, du, x_title),
+                C.daily_error_chart(gd_ws, gd_block, days_err, x_title)]
+        for i, ch in enumerate(made):
+            ch.height = 7.5
+            C.place(charts, ch, f"A{r + 1 + i * step}")
+            if i % 2 == 1:
+                charts.row_breaks.append(Break(id=r + (i + 1) * step - 1))
+    layout["span"] = span
+    for ws in wb.worksheets:
+        _print_setup(ws, fit_width=ws is not iv_ws)
+    if iv_block is not None:
+        iv_ws.print_title_rows = "1:1"
+    X.fix_properties(wb, title=f"meterfix month report {result.settings.meter} {_month_label(result)}",
+                     subject="gas volumes and energy at contract base conditions")
+    return wb, layout
+
+
+def write_workbook(result, path, *, overwrite: bool = False, interval_csv=None, max_rows=None):
+    """Write the month workbook atomically; returns the path.
+
+    Parameters
+    ----------
+    result : MonthResult
+    path : path of the .xlsx
+    overwrite : bool          replace an existing file (never an input)
+    interval_csv : str, optional
+        Name of the interval CSV written beside the workbook; named on the Overview, and where
+        the interval table is when it does not fit in a worksheet.
+    max_rows : int, optional  the row limit of the interval sheet (default 1,048,575)
+    """
+    wb, _ = build_workbook(result, interval_csv=interval_csv, max_rows=max_rows)
+    data = X.repeatable_xlsx_bytes(wb)
+    return write_bytes(path, data, overwrite=overwrite)
+
