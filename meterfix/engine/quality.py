@@ -1,0 +1,321 @@
+"""Data quality of a canonical log: per-row flags, optional substitution, and the edit record.
+
+Flags (boolean ``flag_*`` columns; the reader's own flags are kept)
+-------------------------------------------------------------------
+=========================== ==================================================================
+``flag_gap``                a missing interval. Where the row after a gap holds one interval
+                            (interval-volume and flow-rate logs) the missing intervals are
+                            *inserted* as rows with no values (NaN) and a duration of one
+                            nominal interval, so that every hour of the month is present, the
+                            gas-day hours add up and substitution has a row to fill; the row after
+                            the gap carries the count in ``gap_intervals``. Where the row after
+                            the gap covers the whole gap (a meter-index difference: its volume is
+                            measured, only the readings in between are missing) nothing is
+                            inserted and that row is flagged with the count. Inserted rows carry
+                            no volume unless substituted, so the engine's totals count only what
+                            was logged (plus what was estimated, flagged ``flag_estimated``).
+``flag_duplicate``          (reader) two rows for one interval with different values
+``flag_time_backwards``     (reader) a row earlier than a row above it in its file
+``flag_pressure_range``     pressure outside the plausible limits (``QualityLimits``)
+``flag_temperature_range``  temperature outside the plausible limits
+``flag_stuck``              pressure or temperature unchanged for ``stuck_intervals`` or more
+                            intervals while gas flows (the whole unchanged run is flagged)
+``flag_spike``              pressure, temperature or volume with a robust z-score above
+                            ``spike_z``: the residual from a centred rolling median, scaled by
+                            the median absolute deviation of the residuals (modified z-score,
+                            z = 0.6745 r / MAD, Iglewicz & Hoaglin 1993; threshold 3.5 is their
+                            recommendation)
+``flag_flow_zero_pressure`` volume through the meter while the pressure reads zero
+``flag_rollover``, ``flag_meter_change``, ``flag_negative_delta``, ``flag_implausible_delta``,
+``flag_unparseable``, ``flag_missing``   (reader)
+``flag_estimated``          a value of the row was substituted
+=========================== ==================================================================
+
+Substitution
+------------
+Policies ``none``, ``interpolate`` (linear in time between the valid neighbours; volumes as
+rates), ``hold`` (last valid value; volumes as rates), ``profile`` (the median of the same clock
+time of day over the other days of the log; volumes as rates). Values filled: pressure,
+temperature and interval volume that are missing (empty, unreadable, inserted gap rows, unknown
+after a meter change) or, for pressure and temperature, outside the plausible limits (and a
+pressure reading zero while gas flows). Only runs
+of at most ``max_gap_intervals`` consecutive bad values are filled; longer runs stay NaN
+(and flagged) because an estimate across them would be a guess. Spikes and stuck values are
+flagged for review, not replaced. Raw values are never overwritten: each filled column keeps its
+original in ``<column>_raw``, and every filled value is one row of the edit record (time, what,
+original, new, method, reason), values in SI (Pa, K, m3).
+Substituted volumes are estimates: where they feed billing, the contract's provisions for
+estimated readings apply.
+"""
+
+from __future__ import annotations
+
+from dataclasses import asdict, dataclass
+
+import numpy as np
+import pandas as pd
+
+from ..errors import SettingsError
+
+POLICIES = ("none", "interpolate", "hold", "profile")
+QUALITY_FLAGS = ("flag_gap", "flag_duplicate", "flag_time_backwards", "flag_pressure_range",
+                 "flag_temperature_range", "flag_stuck", "flag_spike", "flag_flow_zero_pressure", "flag_rollover",
+                 "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_unparseable",
+                 "flag_missing", "flag_estimated")
+EDIT_COLUMNS = ["time", "what", "original", "new", "method", "reason"]
+
+
+@dataclass(frozen=True)
+class QualityLimits:
+    """Plausibility limits and detector settings (common practice values, change per site).
+
+    Attributes
+    ----------
+    pressure_line : (float, float) [Pa]      absolute pressure limits
+    pressure_gauge : (float, float) [Pa]     gauge pressure limits
+    temperature : (float, float) [K]         gas temperature limits (-40 degC to 70 degC)
+    stuck_intervals : int                    unchanged this many intervals while flowing → stuck
+    spike_z : float [-]                      modified z-score threshold
+    spike_window : int                       rolling-median window (intervals, odd)
+    zero_pressure_gauge : float [Pa]         gauge pressure at or below this reads as zero
+    zero_pressure_line : float [Pa]          absolute pressure at or below this reads as zero
+    """
+
+    pressure_line: tuple = (50e3, 20e6)
+    pressure_gauge: tuple = (-50e3, 20e6)
+    temperature: tuple = (233.15, 343.15)
+    stuck_intervals: int = 12
+    spike_z: float = 3.5
+    spike_window: int = 5
+    zero_pressure_gauge: float = 1e3
+    zero_pressure_line: float = 10e3
+
+
+def _nominal(frame: pd.DataFrame) -> float:
+    nom = frame.attrs.get("nominal_interval_s")
+    if nom is not None and np.isfinite(nom) and nom > 0:
+        return float(nom)
+    t = frame.index.asi8
+    d = np.diff(t) / 1e9
+    d = d[d > 0]
+    if len(d):
+        return float(np.median(d))
+    dur = frame["duration"].to_numpy(float) if "duration" in frame else np.array([np.nan])
+    return float(np.nanmedian(dur)) if np.isfinite(dur).any() else 3600.0
+
+
+def _insert_gaps(df: pd.DataFrame, nominal: float):
+    """Insert missing intervals; returns (frame, gap_intervals per row)."""
+    t = df.index.asi8
+    n = len(df)
+    gap_n = np.zeros(n, np.int64)
+    if n < 2:
+        df["gap_intervals"] = gap_n
+        df["flag_gap"] = False
+        return df
+    sp = np.diff(t) / 1e9
+    k = np.concatenate([[0], np.maximum(np.round(sp / nominal).astype(np.int64) - 1, 0)])
+    k[1:][sp <= 1.5 * nominal] = 0
+    dur = df["duration"].to_numpy(float)
+    covers = np.isfinite(dur) & (dur > 1.5 * nominal)
+    gap_n[:] = k
+    flag = (k > 0) & covers
+    ins = (k > 0) & ~covers
+    df["gap_intervals"] = gap_n
+    df["flag_gap"] = flag
+    if not ins.any():
+        return df
+    pos = np.flatnonzero(ins)
+    counts = k[pos]
+    total = int(counts.sum())
+    prev_t = np.repeat(t[pos - 1], counts)
+    step = np.arange(total) - np.repeat(np.cumsum(counts) - counts, counts) + 1
+    new_t = prev_t + np.round(step * nominal * 1e9).astype(np.int64)
+    add = pd.DataFrame(index=pd.DatetimeIndex(pd.to_datetime(new_t, unit="ns", utc=True), name=df.index.name))
+    for c in df.columns:
+        col = df[c]
+        if c.startswith("flag_"):
+            add[c] = False
+        elif c == "duration":
+            add[c] = nominal
+        elif c == "gap_intervals":
+            add[c] = 0
+        elif c == "_inserted":
+            add[c] = True
+        elif c in ("source_file", "source_row"):
+            add[c] = -1
+        elif col.dtype == object:
+            add[c] = ""
+        else:
+            add[c] = np.nan
+    add["flag_gap"] = True
+    add["_inserted"] = True
+    out = pd.concat([df, add]).sort_index(kind="stable")
+    for c in ("source_file", "source_row", "gap_intervals"):
+        if c in out:
+            out[c] = out[c].astype(np.int64)
+    out["_inserted"] = out["_inserted"].astype(bool)
+    for c in out.columns:
+        if c.startswith("flag_"):
+            out[c] = out[c].astype(bool)
+    out.attrs = dict(df.attrs)
+    return out
+
+
+def _runs(mask: np.ndarray):
+    """(run id, run length) of each True element's run of consecutive Trues (0 elsewhere)."""
+    m = mask.astype(np.int8)
+    starts = np.diff(np.concatenate([[0], m])) == 1
+    rid = np.cumsum(starts) * mask
+    length = np.bincount(rid)[rid] * mask if len(rid) else rid
+    return rid, length
+
+
+def _stuck(x: np.ndarray, flowing: np.ndarray, n_min: int) -> np.ndarray:
+    finite = np.isfinite(x)
+    same_prev = np.concatenate([[False], (x[1:] == x[:-1]) & finite[1:] & finite[:-1]])
+    new_run = ~same_prev
+    rid = np.cumsum(new_run)
+    flow_count = np.bincount(rid, weights=flowing.astype(float))
+    size = np.bincount(rid)
+    bad_run = (flow_count >= n_min) & (size >= n_min)
+    return bad_run[rid] & finite
+
+
+def _spikes(x: np.ndarray, window: int, z_max: float) -> np.ndarray:
+    s = pd.Series(x)
+    if s.notna().sum() < max(window, 5):
+        return np.zeros(len(x), bool)
+    med = s.rolling(window, center=True, min_periods=3).median().to_numpy()
+    r = x - med
+    a = np.abs(r[np.isfinite(r)])
+    mad = float(np.median(a)) if len(a) else 0.0
+    if mad > 0:
+        z = 0.6745 * r / mad
+    else:
+        mean_ad = float(np.mean(a)) if len(a) else 0.0
+        if mean_ad == 0:
+            return np.zeros(len(x), bool)
+        z = r / (1.253314 * mean_ad)
+    with np.errstate(invalid="ignore"):
+        return np.isfinite(z) & (np.abs(z) > z_max)
+
+
+def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_intervals: int = 3,
+                  limits: QualityLimits | None = None, timezone: str | None = None):
+    """Flag every row of a canonical log and optionally substitute short runs of bad values.
+
+    Parameters
+    ----------
+    frame : DataFrame           canonical log from meterfix.readers.read_log (not modified)
+    policy : {'none', 'interpolate', 'hold', 'profile'}
+    max_gap_intervals : int     longest run of bad values filled [intervals]
+    limits : QualityLimits      plausibility limits [Pa, K] and detector settings
+    timezone : str, optional    IANA zone for the 'profile' time of day (default: the reader's)
+
+    Returns
+    -------
+    (DataFrame, DataFrame)
+        The frame with missing intervals inserted, every ``flag_*`` column of QUALITY_FLAGS,
+        ``gap_intervals`` and, where values were filled, ``<column>_raw``; and the edit record
+        with columns time (UTC interval end), what, original, new (SI), method, reason.
+    """
+    if policy not in POLICIES:
+        raise SettingsError(f"substitution policy '{policy}' is not one of {', '.join(POLICIES)}")
+    if max_gap_intervals < 0:
+        raise SettingsError("max_gap_intervals is negative")
+    lim = limits or QualityLimits()
+    df = frame.copy()
+    df.attrs = dict(frame.attrs)
+    for f in QUALITY_FLAGS:
+        if f not in df.columns:
+            df[f] = False
+    if not len(df):
+        return df, pd.DataFrame(columns=EDIT_COLUMNS)
+    nominal = _nominal(df)
+    if "duration" not in df:
+        df["duration"] = nominal
+    df["_inserted"] = False
+    df = _insert_gaps(df, nominal)
+    inserted = df.pop("_inserted").to_numpy(bool)
+    pcol = "pressure_gauge" if "pressure_gauge" in df else ("pressure_line" if "pressure_line" in df else None)
+    vol = df["volume_line"].to_numpy(float) if "volume_line" in df else np.full(len(df), np.nan)
+    flowing = np.isfinite(vol) & (vol > 0)
+    temp = df["temperature_line"].to_numpy(float) if "temperature_line" in df else np.full(len(df), np.nan)
+    p = df[pcol].to_numpy(float) if pcol else np.full(len(df), np.nan)
+    plo, phi = lim.pressure_gauge if pcol == "pressure_gauge" else lim.pressure_line
+    with np.errstate(invalid="ignore"):
+        p_range = np.isfinite(p) & ((p < plo) | (p > phi))
+        t_range = np.isfinite(temp) & ((temp < lim.temperature[0]) | (temp > lim.temperature[1]))
+        zero = lim.zero_pressure_gauge if pcol == "pressure_gauge" else lim.zero_pressure_line
+        df["flag_flow_zero_pressure"] = flowing & np.isfinite(p) & (p <= zero)
+    df["flag_pressure_range"] = p_range
+    df["flag_temperature_range"] = t_range
+    df["flag_stuck"] = _stuck(p, flowing, lim.stuck_intervals) | _stuck(temp, flowing, lim.stuck_intervals)
+    df["flag_spike"] = (_spikes(np.where(p_range, np.nan, p), lim.spike_window, lim.spike_z)
+                        | _spikes(np.where(t_range, np.nan, temp), lim.spike_window, lim.spike_z)
+                        | _spikes(vol, lim.spike_window, lim.spike_z))
+    edits = []
+    if policy != "none":
+        tz = timezone or df.attrs.get("timezone") or "UTC"
+        dur = df["duration"].to_numpy(float)
+        zero_p = df["flag_flow_zero_pressure"].to_numpy(bool)
+        for col, bad_extra, as_rate in ((pcol, p_range | zero_p, False), ("temperature_line", t_range, False),
+                                        ("volume_line", np.zeros(len(df), bool), True)):
+            if col is None or col not in df:
+                continue
+            x = df[col].to_numpy(float)
+            invalid = ~np.isfinite(x) | bad_extra
+            if not invalid.any():
+                continue
+            _, length = _runs(invalid)
+            fill = invalid & (length <= max_gap_intervals)
+            if not fill.any():
+                continue
+            y = np.where(invalid, np.nan, x / dur if as_rate else x)
+            new = _estimate(y, df.index, policy, tz)
+            if as_rate:
+                new = new * dur
+            fill &= np.isfinite(new)
+            if not fill.any():
+                continue
+            df[col + "_raw"] = x
+            df[col] = np.where(fill, new, x)
+            df["flag_estimated"] = df["flag_estimated"].to_numpy(bool) | fill
+            edits.append(_edit_rows(df, col, fill, x, new, policy, bad_extra, inserted))
+    edit = pd.concat(edits, ignore_index=True) if edits else pd.DataFrame(columns=EDIT_COLUMNS)
+    if len(edit):
+        edit = edit.sort_values(["time", "what"], kind="stable").reset_index(drop=True)
+    df.attrs["quality"] = {"policy": policy, "max_gap_intervals": int(max_gap_intervals), **asdict(lim),
+                           "nominal_interval_s": nominal}
+    return df, edit
+
+
+def _estimate(y: np.ndarray, index: pd.DatetimeIndex, policy: str, tz: str) -> np.ndarray:
+    s = pd.Series(y, index=index.asi8.astype(float))
+    if policy == "interpolate":
+        return s.interpolate(method="index", limit_area="inside").to_numpy()
+    if policy == "hold":
+        return s.ffill().to_numpy()
+    if policy == "profile":
+        local = index.tz_convert(tz)
+        key = local.hour * 60 + local.minute
+        return pd.Series(y).groupby(np.asarray(key)).transform("median").to_numpy()
+    raise SettingsError(f"unknown substitution policy '{policy}'")
+
+
+def _edit_rows(df, col, fill, original, new, policy, out_of_range, inserted) -> pd.DataFrame:
+    idx = np.flatnonzero(fill)
+    reason = np.full(len(idx), "missing value", dtype=object)
+    gap = inserted[idx]
+    unp = df["flag_unparseable"].to_numpy(bool)[idx]
+    mc = df["flag_meter_change"].to_numpy(bool)[idx]
+    rng = out_of_range[idx]
+    zero = df["flag_flow_zero_pressure"].to_numpy(bool)[idx] if col.startswith("pressure") else np.zeros(len(idx), bool)
+    reason[mc] = "meter change: interval volume unknown"
+    reason[unp] = "unparseable cell"
+    reason[rng] = "outside plausible limits"
+    reason[zero] = "zero pressure while gas flows"
+    reason[gap] = "missing interval (gap)"
+    return pd.DataFrame({"time": df.index[idx], "what": col, "original": original[idx], "new": new[idx],
+                         "method": policy, "reason": reason})
