@@ -1,0 +1,552 @@
+"""GUM budget of a month run: the inputs acting on every interval, their sensitivities, and the
+combined uncertainty per interval, gas day and month.
+
+Measurement equation of one interval i (DESIGN.md glossary)::
+
+    V_b,i = V_f,i · (p_i / p_b) · (T_b / T_i) · (Z_b / Z_f,i)        E_i = V_b,i · H
+
+Relative sensitivity coefficients c = ∂ln V_b / ∂ln x:
+
+* analytic: meter (V_f) 1, Z_f −1, Z_b +1, heating value (energy) 1;
+* through the chosen Z method, by central differences in ln p and ln T (step 1e-3, all intervals
+  of an analysis in one vectorized call): pressure c_p = 1 − ∂lnZ/∂lnp, temperature
+  c_T = −1 − ∂lnZ/∂lnT, atmospheric pressure c_p · p_atm / p (gauge logs);
+* composition through Z_f, Z_b and the heating value together: each mole fraction is perturbed
+  by a factor exp(±h) and the analysis renormalised to sum 1 before Z is evaluated (the sum-to-one
+  constraint is kept, the balance component absorbs the change); ∂ln Hm/∂ε_j = x_j (Hm_j/Hm − 1)
+  is analytic. Where the heating value was computed from the analysis at the contract base, H is
+  proportional to 1/Z_b and Z_b cancels from the energy.
+
+Each input is a :class:`Term` with one or more independent sub-sources (rows): a row is either
+*correlated* across intervals (one error shared by every interval it touches; a systematic input,
+or one error per analysis for an analysis-bound input set as random) or *independent* from
+interval to interval (a random per-interval input). For a total over a set S of intervals::
+
+    u²(Σ V) = Σ_correlated rows (Σ_{i∈S} V_i c_ri u_ri)² + Σ_independent rows Σ_{i∈S} (V_i c_ri u_ri)²
+
+References: JCGM 100:2008 (GUM) §5.1 (uncorrelated inputs), §5.2 (correlated inputs).
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+import numpy as np
+import pandas as pd
+
+from ..z import evaluate_z
+from ..z.base import EXTENDED, NORMAL, OUTSIDE
+from ..z.registry import get_method
+from .uncertainty_inputs import ATMOSPHERIC_DEFAULTS, HEATING_VALUE_DEFAULTS, INPUT_KEYS, InputSpec
+
+#: step in ln p and ln T for the central differences of ln Z
+STEP_PT = 1e-3
+#: step in the log-perturbation of one mole fraction
+STEP_COMPOSITION = 1e-2
+
+BUDGET_COLUMNS = ["input", "setting", "value", "unit", "uncertainty", "standard_uncertainty_pct", "distribution",
+                  "type", "correlation", "sensitivity", "contribution_pct", "share_pct", "interval_contribution_pct",
+                  "is_default", "source"]
+
+
+@dataclass
+class Term:
+    """One input of the budget as it acts on the intervals.
+
+    Attributes
+    ----------
+    key : str                 setting key (``pressure``)
+    label : str               name in the budget
+    spec : InputSpec
+    value : float             representative value of the input (volume-weighted mean) [SI]
+    unit : str                SI unit of ``value``
+    u : ndarray (rows, n)     relative standard uncertainty of the input quantity per interval [-]
+    c_volume : ndarray (rows, n)  relative sensitivity ∂ln V_b,i / ∂ln x [-]
+    c_energy : ndarray (rows, n) or None
+    mode : str                ``correlated`` or ``independent`` (see module docstring)
+    applies : ndarray (n,) bool  intervals the input belongs to
+    text : str                the uncertainty as shown in the budget
+    in_volume : bool          listed in the volume budget (the heating value is energy only)
+    """
+
+    key: str
+    label: str
+    spec: InputSpec
+    value: float
+    unit: str
+    u: np.ndarray
+    c_volume: np.ndarray
+    c_energy: np.ndarray | None
+    mode: str
+    applies: np.ndarray
+    text: str
+    in_volume: bool = True
+
+
+@dataclass
+class IntervalModel:
+    """Everything the GUM budget and the Monte Carlo need, over the intervals with a result.
+
+    Attributes
+    ----------
+    used : ndarray (N,) bool      intervals of ``result.intervals`` with a finite base volume
+    volume : ndarray (n,) [m3]    V_b of the used intervals
+    energy : ndarray (n,) or None [J]
+    analysis : ndarray (n,) int   analysis in force
+    n_analyses : int
+    gas_day : ndarray (n,)        gas day of each used interval
+    pressure, pressure_atm, temperature, z : ndarray (n,) [Pa, Pa, K, -]
+    dlnz_dlnp, dlnz_dlnt, d2lnz_dlnp2, d2lnz_dlnt2, d2lnz_dlnpdlnt : ndarray (n,) [-]
+    hv_from_composition : ndarray (A,) bool  H computed from the analysis at base (H ∝ 1/Z_b)
+    terms : list of Term
+    comp_line : ndarray (rows, n)   ∂ln Z_f,i / ∂ε_r of the composition rows (0 outside their analysis)
+    comp_base : ndarray (rows, A)   ∂ln Z_b,a / ∂ε_r
+    comp_hm : ndarray (rows, A)     ∂ln Hm_a / ∂ε_r
+    notes : list of str
+    """
+
+    used: np.ndarray
+    volume: np.ndarray
+    energy: np.ndarray | None
+    analysis: np.ndarray
+    n_analyses: int
+    gas_day: np.ndarray
+    pressure: np.ndarray
+    pressure_atm: np.ndarray
+    temperature: np.ndarray
+    z: np.ndarray
+    dlnz_dlnp: np.ndarray
+    dlnz_dlnt: np.ndarray
+    d2lnz_dlnp2: np.ndarray
+    d2lnz_dlnt2: np.ndarray
+    d2lnz_dlnpdlnt: np.ndarray
+    hv_from_composition: np.ndarray
+    terms: list = field(default_factory=list)
+    comp_line: np.ndarray | None = None
+    comp_base: np.ndarray | None = None
+    comp_hm: np.ndarray | None = None
+    notes: list = field(default_factory=list)
+
+    def term(self, key: str) -> Term | None:
+        for t in self.terms:
+            if t.key == key:
+                return t
+        return None
+
+
+# ---------------------------------------------------------------------------------------------
+def z_log_derivatives(pressure, temperature, gas, method: str, z0=None, step: float = STEP_PT):
+    """First and second derivatives of ln Z in ln p and ln T by central differences.
+
+    Parameters
+    ----------
+    pressure : ndarray [Pa]      absolute
+    temperature : ndarray [K]
+    gas : Composition or GrossCharacterization
+    method : str                 Z method (registry name)
+    z0 : ndarray [-], optional   Z at the points (evaluated when None)
+    step : float [-]             step in ln p and ln T
+
+    Returns
+    -------
+    dict of ndarray [-]: ``p``, ``t`` (first derivatives), ``pp``, ``tt``, ``pt`` (second)
+    """
+    p = np.asarray(pressure, float)
+    t = np.asarray(temperature, float)
+    n = p.size
+    e, f = np.exp(step), np.exp(-step)
+    pp = np.concatenate([p * e, p * f, p, p, p * e, p * e, p * f, p * f])
+    tt = np.concatenate([t, t, t * e, t * f, t * e, t * f, t * e, t * f])
+    z = np.asarray(evaluate_z(pp, tt, gas, method).z, float).reshape(8, n)
+    if z0 is None:
+        z0 = np.asarray(evaluate_z(p, t, gas, method).z, float)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        lz = np.log(z)
+        l0 = np.log(np.asarray(z0, float))
+    h = step
+    return {
+        "p": (lz[0] - lz[1]) / (2 * h),
+        "t": (lz[2] - lz[3]) / (2 * h),
+        "pp": (lz[0] - 2 * l0 + lz[1]) / h**2,
+        "tt": (lz[2] - 2 * l0 + lz[3]) / h**2,
+        "pt": (lz[4] - lz[5] - lz[6] + lz[7]) / (4 * h**2),
+    }
+
+
+def _wmean(x, w, mask=None):
+    x = np.broadcast_to(np.asarray(x, float), np.shape(w))
+    if mask is not None:
+        w = np.where(mask, w, 0.0)
+    s = np.sum(w)
+    if not s > 0:
+        return float(np.nanmean(x)) if np.size(x) and np.isfinite(x).any() else np.nan
+    return float(np.sum(np.where(w > 0, x, 0.0) * w) / s)
+
+
+def _range_text(u_by_class: dict, k: float = 2.0) -> str:
+    parts = [f"{u_by_class[c]:g} % ({name})" for c, name in ((NORMAL, "normal range"), (EXTENDED, "extended range"))
+             if c in u_by_class]
+    return ", ".join(parts) + f" (k = {k:g})" if parts else "0"
+
+
+# ---------------------------------------------------------------------------------------------
+def build_model(result, parsed) -> IntervalModel:
+    """The interval model of a month run: inputs resolved with their defaults, sensitivities.
+
+    Parameters
+    ----------
+    result : MonthResult
+    parsed : UncertaintySettings   from :func:`parse_uncertainty_settings`
+
+    Returns
+    -------
+    IntervalModel
+    """
+    from ..gas.composition import Composition
+
+    df = result.intervals
+    s = result.settings
+    method = get_method(result.method["name"])
+    vb_all = df["volume_base"].to_numpy(float)
+    used = np.isfinite(vb_all)
+    idx = np.flatnonzero(used)
+    n = idx.size
+    vb = vb_all[used]
+    en = df["energy"].to_numpy(float)[used] if "energy" in df else np.full(n, np.nan)
+    energy = en if n and np.isfinite(en).all() else None
+    analysis = df["analysis"].to_numpy(int)[used]
+    n_an = max(len(result.analyses), int(analysis.max()) + 1 if n else 1)
+    p = df["pressure_line"].to_numpy(float)[used]
+    patm = df["pressure_atm"].to_numpy(float)[used] if "pressure_atm" in df else np.full(n, np.nan)
+    t = df["temperature_line"].to_numpy(float)[used]
+    z = df["z_line"].to_numpy(float)[used]
+    vl = df["volume_line"].to_numpy(float)[used]
+    dur = df["duration"].to_numpy(float)[used]
+    est = df["estimated"].to_numpy(bool)[used] if "estimated" in df else np.zeros(n, bool)
+    rng = np.asarray(df["z_range"].cat.codes if hasattr(df["z_range"], "cat") else df["z_range"], int)[used]
+    notes = []
+
+    # ---- derivatives of ln Z in ln p, ln T ------------------------------------------------
+    der = {k: np.zeros(n) for k in ("p", "t", "pp", "tt", "pt")}
+    gases = [a.gas for a in result.analyses]
+    for a in range(len(gases)):
+        sel = analysis == a
+        if not sel.any() or gases[a] is None or method.name == "ideal":
+            continue
+        d = z_log_derivatives(p[sel], t[sel], gases[a], method.name, z0=z[sel])
+        for k in der:
+            der[k][sel] = d[k]
+    bad = ~np.isfinite(der["p"]) | ~np.isfinite(der["t"])
+    if bad.any():
+        notes.append(f"{int(bad.sum())} interval(s) where Z could not be evaluated beside the logged state: "
+                     "their pressure and temperature sensitivities are taken as ideal gas (1, -1)")
+    for k in der:
+        der[k] = np.where(np.isfinite(der[k]), der[k], 0.0)
+
+    hv_comp = np.array([isinstance(a.gas, Composition) and s.heating_value is None for a in result.analyses]
+                       + [False] * (n_an - len(result.analyses)), bool)
+    model = IntervalModel(used=used, volume=vb, energy=energy, analysis=analysis, n_analyses=n_an,
+                          gas_day=np.asarray(df["gas_day"].to_numpy(object))[used], pressure=p, pressure_atm=patm,
+                          temperature=t, z=z, dlnz_dlnp=der["p"], dlnz_dlnt=der["t"], d2lnz_dlnp2=der["pp"],
+                          d2lnz_dlnt2=der["tt"], d2lnz_dlnpdlnt=der["pt"], hv_from_composition=hv_comp, notes=notes)
+    w = vb
+    ones = np.ones(n)
+    c_p = 1.0 - der["p"]
+    c_t = -1.0 - der["t"]
+    E = energy is not None
+
+    def add(key, spec, value, unit, u, cv, ce, applies, text=None, in_volume=True, rows_mode=None):
+        u = np.atleast_2d(np.asarray(u, float))
+        cv = np.atleast_2d(np.broadcast_to(cv, u.shape).astype(float))
+        ce = None if not E or ce is None else np.atleast_2d(np.broadcast_to(ce, u.shape).astype(float))
+        mode = rows_mode or ("independent" if spec.correlation == "random" else "correlated")
+        model.terms.append(Term(key, INPUT_KEYS[key][0], spec, value, unit, u, cv, ce, mode, applies,
+                                text or spec.text, in_volume))
+
+    # ---- meter, by flow range -------------------------------------------------------------
+    m_spec = parsed.resolve("meter")
+    if parsed.meter_qt is not None or parsed.meter_qmax is not None:
+        with np.errstate(invalid="ignore", divide="ignore"):
+            q = vl / dur
+        low = np.zeros(n, bool)
+        if parsed.meter_qt is not None:
+            low |= np.isfinite(q) & (q < parsed.meter_qt)
+        high = np.isfinite(q) & (q > parsed.meter_qmax) if parsed.meter_qmax is not None else np.zeros(n, bool)
+        rated = ~(low | high)
+        lo_spec = parsed.resolve("meter_below_qt")
+        add("meter", m_spec, float(np.sum(vl[rated])), "m3", np.where(rated, m_spec.standard_at(ones), 0.0), 1.0, 1.0,
+            rated)
+        add("meter_below_qt", lo_spec, float(np.sum(vl[~rated])), "m3",
+            np.where(~rated, lo_spec.standard_at(ones), 0.0), 1.0, 1.0, ~rated)
+        if high.any():
+            notes.append(f"{int(high.sum())} interval(s) above Qmax, outside the meter's rated range: the "
+                         "meter_below_qt figure is used there")
+    else:
+        add("meter", m_spec, float(np.sum(vl)), "m3", m_spec.standard_at(ones), 1.0, 1.0, np.ones(n, bool))
+    _relative_only(m_spec)
+
+    # ---- line pressure, atmospheric pressure, temperature --------------------------------------
+    p_spec = parsed.resolve("pressure")
+    add("pressure", p_spec, _wmean(p, w), "Pa", p_spec.standard_at(p), c_p, c_p, np.ones(n, bool))
+    gauge = np.isfinite(patm)
+    if gauge.any():
+        src = str(result.method.get("atmospheric_pressure_source") or "")
+        dflt = ATMOSPHERIC_DEFAULTS["barometer" if src.startswith("barometer") else "fixed"]
+        a_spec = parsed.resolve("atmospheric", *dflt)
+        pa = np.where(gauge, patm, 1.0)
+        add("atmospheric", a_spec, _wmean(patm, w, gauge), "Pa", np.where(gauge, a_spec.standard_at(pa), 0.0),
+            np.where(gauge, c_p * pa / p, 0.0), np.where(gauge, c_p * pa / p, 0.0), gauge)
+    elif "atmospheric" in parsed.given:
+        notes.append("the log's pressure is absolute: the atmospheric-pressure uncertainty does not apply")
+    t_spec = parsed.resolve("temperature")
+    add("temperature", t_spec, _wmean(t, w), "K", t_spec.standard_at(t), c_t, c_t, np.ones(n, bool))
+
+    # ---- Z method at line conditions, by range class -------------------------------------
+    z_given = parsed.given.get("z")
+    outside = rng == OUTSIDE
+    if method.name == "ideal":
+        z_spec = z_given or InputSpec("z", "0", True, 0.0, 0.0, is_default=True, source=method.uncertainty_source)
+        uz = np.full(n, z_spec.standard if z_spec.relative else 0.0)
+        text = z_spec.text
+    elif z_given is not None:
+        z_spec = z_given
+        _relative_only(z_spec)
+        uz = np.full(n, z_spec.standard)
+        text = z_spec.text
+    else:
+        table = {c: float(v) for c, v in (method.uncertainty_pct or {}).items() if v is not None}
+        z_spec = InputSpec("z", _range_text(table), True, table.get(NORMAL, 0.0) / 100, table.get(NORMAL, 0.0) / 200,
+                           is_default=True, source=f"{method.name}: {method.uncertainty_source} (REFERENCES.md §3)")
+        uz = np.array([table.get(int(c), table.get(EXTENDED, table.get(NORMAL, 0.0))) for c in range(3)])[
+            np.clip(rng, 0, 2)] / 200.0
+        text = z_spec.text
+    inside = ~outside
+    add("z", z_spec, _wmean(z, w), "-", np.where(inside, uz, 0.0), -1.0, -1.0, inside, text=text)
+    if outside.any() and method.name != "ideal":
+        base = z_spec.value if z_given is not None else (method.uncertainty_pct or {}).get(EXTENDED, 0.0) / 100
+        zo = parsed.resolve("z_outside", f"{200 * base:g} %",
+                            "assumed: twice the " + ("z setting" if z_given is not None else "method's extended-range "
+                                                     "figure") + "; the method states no uncertainty outside its range")
+        _relative_only(zo)
+        add("z_outside", zo, _wmean(z, w, outside), "-", np.where(outside, zo.standard, 0.0), -1.0, -1.0, outside)
+
+    # ---- base Z, heating value, composition (bound to the analysis in force) -------------------
+    zb = df["z_base"].to_numpy(float)[used]
+    if method.name == "ideal":
+        zb_spec = parsed.given.get("base_z") or InputSpec("base_z", "0", True, 0.0, 0.0, is_default=True,
+                                                          source="Z = 1 by definition with the ideal method")
+    else:
+        zb_spec = parsed.resolve("base_z")
+    _relative_only(zb_spec)
+    hv_of = hv_comp[analysis]
+    _analysis_term(model, add, "base_z", zb_spec, _wmean(zb, w), "-", zb_spec.standard, 1.0,
+                   np.where(hv_of, 0.0, 1.0))
+    if E:
+        h = df["heating_value"].to_numpy(float)[used]
+        dflt = HEATING_VALUE_DEFAULTS["composition" if hv_comp[: len(result.analyses)].all() else "supplied"]
+        h_spec = parsed.resolve("heating_value", *dflt)
+        uh = h_spec.standard_at(h)
+        _analysis_term(model, add, "heating_value", h_spec, _wmean(h, w), "J/m3", uh, 0.0, 1.0, in_volume=False)
+    _composition_term(model, result, parsed, add, method.name)
+
+    # ---- estimated intervals ---------------------------------------------------------------
+    e_spec = parsed.resolve("estimated")
+    _relative_only(e_spec)
+    add("estimated", e_spec, float(np.sum(vl[est])), "m3", np.where(est, e_spec.standard, 0.0), 1.0, 1.0, est)
+    return model
+
+
+def _relative_only(spec: InputSpec):
+    if not spec.relative:
+        from ..errors import SettingsError
+
+        raise SettingsError(f"uncertainty setting '{spec.key}' ({spec.text!r}) must be a percentage",
+                            hint="write e.g. '0.1 %'")
+
+
+def _analysis_term(model, add, key, spec, value, unit, u, cv, ce, in_volume=True):
+    """An input bound to the analysis in force: one shared error (systematic) or one per analysis."""
+    n = model.volume.size
+    u = np.broadcast_to(np.asarray(u, float), (n,))
+    cv = np.broadcast_to(np.asarray(cv, float), (n,))
+    ce = np.broadcast_to(np.asarray(ce, float), (n,))
+    applies = np.ones(n, bool)
+    if spec.correlation == "random" and model.n_analyses > 1:
+        rows = [model.analysis == a for a in range(model.n_analyses)]
+        U = np.array([np.where(r, u, 0.0) for r in rows])
+        add(key, spec, value, unit, U, cv, ce, applies, in_volume=in_volume, rows_mode="correlated")
+    else:
+        add(key, spec, value, unit, u, cv, ce, applies, in_volume=in_volume, rows_mode="correlated")
+
+
+def _composition_term(model, result, parsed, add, method_name):
+    """Composition: every mole fraction perturbed and renormalised; through Z_f, Z_b and H."""
+    from ..gas.composition import Composition
+
+    n = model.volume.size
+    comps = {a: an.gas for a, an in enumerate(result.analyses) if isinstance(an.gas, Composition)}
+    if not comps:
+        if any(an.gas is not None for an in result.analyses):
+            model.notes.append("the gas is a gross characterisation: the uncertainty of its inputs is not in the "
+                               "budget (only the heating value's)")
+        return
+    spec = parsed.resolve("composition")
+    _relative_only(spec)
+    hcomp = _component_heating_values(result.settings)
+    present = sorted({j for g in comps.values() for j in np.flatnonzero(g.fractions > 0)})
+    A = model.n_analyses
+    g_line = np.zeros((len(present), n))
+    g_base = np.zeros((len(present), A))
+    g_hm = np.zeros((len(present), A))
+    s = result.settings
+    h = STEP_COMPOSITION
+    for a, gas in comps.items():
+        sel = model.analysis == a
+        x = gas.fractions
+        hm = float(x @ hcomp) if hcomp is not None else np.nan
+        for r, j in enumerate(present):
+            if x[j] <= 0:
+                continue
+            if hcomp is not None and hm > 0:
+                g_hm[r, a] = x[j] * (hcomp[j] / hm - 1.0)
+            if method_name == "ideal":
+                continue
+            lz = []
+            for sign in (1.0, -1.0):
+                xp = x.copy()
+                xp[j] *= np.exp(sign * h)
+                g = Composition.from_array(xp / xp.sum(), unit="fraction")
+                pts_p = np.concatenate([[s.pressure_base], model.pressure[sel]])
+                pts_t = np.concatenate([[s.temperature_base], model.temperature[sel]])
+                with np.errstate(invalid="ignore", divide="ignore"):
+                    lz.append(np.log(np.asarray(evaluate_z(pts_p, pts_t, g, method_name).z, float)))
+            d = (lz[0] - lz[1]) / (2 * h)
+            g_base[r, a] = d[0] if np.isfinite(d[0]) else 0.0
+            g_line[r, sel] = np.where(np.isfinite(d[1:]), d[1:], 0.0)
+    rows_a = np.ones((len(present), 1), bool)
+    if spec.correlation == "random" and A > 1:
+        # one independent error per analysis and component: rows (component, analysis)
+        rows_a = np.eye(A, dtype=bool)[None, :, :].repeat(len(present), 0).reshape(-1, A)
+        g_line = np.repeat(g_line, A, 0) * (model.analysis[None, :] == np.tile(np.arange(A), len(present))[:, None])
+        g_base = np.repeat(g_base, A, 0) * rows_a
+        g_hm = np.repeat(g_hm, A, 0) * rows_a
+    R = g_line.shape[0]
+    cv = g_base[:, model.analysis] - g_line
+    hv_of = model.hv_from_composition[model.analysis]
+    ce = np.where(hv_of[None, :], g_hm[:, model.analysis], g_base[:, model.analysis]) - g_line
+    applies = np.isin(model.analysis, list(comps))
+    u = np.where(applies[None, :], spec.standard, 0.0) * np.ones((R, 1))
+    if spec.correlation == "random" and A > 1:
+        u = u * (model.analysis[None, :] == np.tile(np.arange(A), len(present))[:, None])
+    model.comp_line, model.comp_base, model.comp_hm = g_line, g_base, g_hm
+    add("composition", spec, np.nan, "mol/mol", u, cv, ce, applies,
+        text=f"{spec.text} of each mole fraction, renormalised", rows_mode="correlated")
+    if method_name == "ideal":
+        model.notes.append("ideal method: Z does not depend on the composition; the composition acts on the "
+                           "heating value only")
+
+
+def _component_heating_values(settings):
+    try:
+        from .. import energy as E
+    except ImportError:
+        return None
+    f = getattr(E, "component_heating_values", None)
+    if f is not None:
+        return np.asarray(f(settings.temperature_combustion), float)
+    return np.asarray(getattr(E, "GROSS_MOLAR_25C"), float)
+
+
+# ---------------------------------------------------------------------------------------------
+def term_variance(term: Term, weights: np.ndarray, sensitivity: np.ndarray, groups=None):
+    """Variance of Σ weights·(relative deviation) from one term, in total or by group.
+
+    Parameters
+    ----------
+    term : Term
+    weights : ndarray (n,) [m3 or J]   V_b,i or E_i
+    sensitivity : ndarray (rows, n) [-]
+    groups : ndarray (n,) of int, optional   group code per interval (codes 0..G-1)
+
+    Returns
+    -------
+    float or ndarray (G,) [m6 or J2]
+    """
+    a = weights[None, :] * sensitivity * term.u  # (rows, n)
+    if groups is None:
+        if term.mode == "correlated":
+            return float(np.sum(np.sum(a, axis=1) ** 2))
+        return float(np.sum(a**2))
+    G = int(groups.max()) + 1 if groups.size else 0
+    out = np.zeros(G)
+    for r in range(a.shape[0]):
+        if term.mode == "correlated":
+            out += np.bincount(groups, weights=a[r], minlength=G) ** 2
+        else:
+            out += np.bincount(groups, weights=a[r] ** 2, minlength=G)
+    return out
+
+
+def interval_variance(model: IntervalModel, energy: bool = False) -> np.ndarray:
+    """Relative variance of each interval's base volume (or energy) [-] (k = 1, squared)."""
+    v = np.zeros(model.volume.size)
+    for t in model.terms:
+        c = t.c_energy if energy else t.c_volume
+        if c is None or (not energy and not t.in_volume):
+            continue
+        v += np.sum((c * t.u) ** 2, axis=0)
+    return v
+
+
+def budget_frame(model: IntervalModel, energy: bool = False) -> pd.DataFrame:
+    """One row per input: value, uncertainty, distribution, sensitivity, contribution, share."""
+    w = model.energy if energy else model.volume
+    total = float(np.sum(w))
+    rows = []
+    for t in model.terms:
+        c = t.c_energy if energy else t.c_volume
+        if c is None or (not energy and not t.in_volume):
+            continue
+        var = term_variance(t, w, c)
+        contrib = np.sqrt(var) / total if total else np.nan
+        wa = np.where(t.applies, np.abs(w), 0.0)
+        u_row = np.sqrt(np.sum(t.u**2, axis=0))  # the input's relative u per interval (all rows)
+        u_mean = _wmean(u_row, wa) if t.applies.any() else (t.spec.standard if t.spec.relative else np.nan)
+        if t.c_volume.shape[0] == 1:
+            sens = _wmean(c[0], wa) if t.applies.any() else np.nan
+        else:
+            sens = contrib / u_mean if u_mean else 0.0
+        per_interval = np.sqrt(np.sum((c * t.u) ** 2, axis=0))
+        rows.append({
+            "input": t.label, "setting": t.key, "value": t.value, "unit": t.unit, "uncertainty": t.text,
+            "standard_uncertainty_pct": 100.0 * u_mean if np.isfinite(u_mean) else np.nan,
+            "distribution": t.spec.distribution, "type": t.spec.type, "correlation": t.spec.correlation,
+            "sensitivity": sens, "contribution_pct": 100.0 * contrib,
+            "interval_contribution_pct": 100.0 * np.sqrt(_wmean(per_interval**2, wa)) if t.applies.any() else 0.0,
+            "is_default": bool(t.spec.is_default), "source": t.spec.source,
+        })
+    out = pd.DataFrame(rows, columns=[c for c in BUDGET_COLUMNS if c != "share_pct"])
+    var = out["contribution_pct"].to_numpy(float) ** 2
+    tot = var.sum()
+    out.insert(BUDGET_COLUMNS.index("share_pct"), "share_pct", 100.0 * var / tot if tot > 0 else 0.0)
+    return out[BUDGET_COLUMNS]
+
+
+def combined_relative(model: IntervalModel, energy: bool = False, groups=None):
+    """Combined relative standard uncertainty (k = 1) of the month total, or of each group's total."""
+    w = model.energy if energy else model.volume
+    if groups is None:
+        var = 0.0
+    else:
+        var = np.zeros(int(groups.max()) + 1 if groups.size else 0)
+    for t in model.terms:
+        c = t.c_energy if energy else t.c_volume
+        if c is None or (not energy and not t.in_volume):
+            continue
+        var = var + term_variance(t, w, c, groups)
+    if groups is None:
+        tot = float(np.sum(w))
+        return np.sqrt(var) / tot if tot else np.nan
+    tot = np.bincount(groups, weights=w, minlength=var.size)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        return np.sqrt(var) / tot
