@@ -17,9 +17,19 @@ BUDGET_HEADERS = (
     ("distribution", "Distribution", None, 13), ("type", "Type (A/B)", None, 9),
     ("correlation", "Correlation", None, 13), ("sensitivity", "Sensitivity coefficient [-]", "0.0000", 13),
     ("contribution_pct", "Contribution to u(V) [%]", "0.0000", 13),
-    ("share_pct", "Share of the variance [%]", "0.0", 12), ("is_default", "Default value", None, 9),
-    ("source", "Source", None, 36),
+    ("share_pct", "Share of the variance [%]", "0.0", 12),
+    ("interval_contribution_pct", "Contribution, one interval [%]", "0.0000", 13),
+    ("is_default", "Default value", None, 9), ("setting", "Setting name", None, 13), ("source", "Source", None, 60),
 )
+_UNIT_KINDS = {"Pa": "pressure", "K": "temperature", "m3": "volume", "J": "energy", "J/m3": "heating_value"}
+
+
+def _budget_value(du, value, unit):
+    """An SI budget value in the display unit of its kind: (value, unit label)."""
+    kind = _UNIT_KINDS.get(str(unit))
+    if kind is None or value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return value, unit
+    return du.scalar(kind, value), du.label(kind)
 
 
 def _kv(ws, r, label, value, unit="", fmt=None):
@@ -55,13 +65,13 @@ def write_uncertainty(ws, result) -> dict:
     r = _kv(ws, r, "Expanded uncertainty, base volume", getattr(unc, "expanded_pct", None), "%", "0.000")
     r = _kv(ws, r, "Expanded uncertainty, energy", getattr(unc, "expanded_energy_pct", None), "%", "0.000")
     r = _kv(ws, r, "Coverage factor k", k, "", "0.00")
+    du = X.DisplayUnits(result.settings.display_units)
     mc = getattr(unc, "monte_carlo", None) or {}
     if mc:
         r = _kv(ws, r, "Monte Carlo check: draws", mc.get("draws"), "", X.FMT_INT)
         r = _kv(ws, r, "Monte Carlo expanded uncertainty", mc.get("expanded_pct"), "%", "0.000")
         ci = mc.get("coverage_interval_m3")
         if ci is not None and len(ci) == 2:
-            du = X.DisplayUnits(result.settings.display_units)
             r = _kv(ws, r, "Monte Carlo coverage interval, low", du.scalar("volume", ci[0]),
                     f"{du.label('volume')} at base", X.FMT_VOLUME)
             r = _kv(ws, r, "Monte Carlo coverage interval, high", du.scalar("volume", ci[1]),
@@ -77,10 +87,15 @@ def write_uncertainty(ws, result) -> dict:
         headers = [h[1] for h in cols] + extra
         fmts = [h[2] for h in cols] + [None] * len(extra)
         rows = []
+        du = X.DisplayUnits(result.settings.display_units)
+        keys = [h[0] for h in cols] + extra
         for _, x in b.iterrows():
-            row = [x[h[0]] for h in cols] + [x[c] for c in extra]
-            rows.append(["yes" if (h == "is_default" and v is True) else ("no" if h == "is_default" and v is False else v)
-                         for h, v in zip([h[0] for h in cols] + extra, row)])
+            rec = {k: x[k] for k in keys}
+            if "value" in rec and "unit" in rec:
+                rec["value"], rec["unit"] = _budget_value(du, rec["value"], rec["unit"])
+            if "is_default" in rec and isinstance(rec["is_default"], (bool, np.bool_)):
+                rec["is_default"] = "yes" if rec["is_default"] else "no"
+            rows.append([rec[k] for k in keys])
         first = r + 1
         end = X.write_table(ws, r, 1, headers, rows, fmts)
         where = {"first": first, "last": end - 1}
