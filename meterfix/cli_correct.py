@@ -32,7 +32,7 @@ def _column_map(items):
 
 @app.command("correct")
 def correct_command(
-    logs: List[Path] = typer.Argument(..., help="Log file(s) of one meter (CSV, TXT, XLSX, XLSM, XLS, ODS); several files are joined in time order."),
+    logs: Optional[List[Path]] = typer.Argument(None, help="Log file(s) of one meter (CSV, TXT, XLSX, XLSM, XLS, ODS); several files are joined in time order. Not needed with --manifest."),
     out: Path = typer.Option(..., "--out", help="Folder for the outputs (created if missing)."),
     site_file: Optional[Path] = typer.Option(None, "--site", help="Site settings TOML; options given here override it."),
     composition: Optional[Path] = typer.Option(None, "--composition", help="Gas-analysis file (one analysis, or a table with effective-from times)."),
@@ -82,7 +82,12 @@ def correct_command(
 def _correct(a: dict) -> int:
     from .engine.run import run_files
     from .engine.settings import build_settings
+    from .errors import SettingsError
 
+    if a.get("manifest") is not None:
+        return _correct_from_manifest(a)
+    if not a.get("logs"):
+        raise SettingsError("no log file given", hint="meterfix correct LOG... --out DIR, or --manifest FILE --out DIR")
     options = {k: a.get(k) for k in _OPTION_SETTINGS}
     options["column_map"] = _column_map(a.get("column")) or None
     unc = {k: a.get(f"{k}_uncertainty") for k in ("meter", "pressure", "temperature", "atmospheric", "z")}
@@ -96,12 +101,45 @@ def _correct(a: dict) -> int:
                        invoice=a.get("invoice"))
     from .writers import write_outputs
 
-    written = write_outputs(result, a["out"], overwrite=a.get("overwrite", False), json_file=a.get("json_file"))
+    run = {"logs": list(a["logs"]), "composition": a.get("composition"), "gas": a.get("gas"),
+           "invoice": a.get("invoice"), "site_file": a.get("site_file"), "uncertainty": True,
+           "options": {k: v for k, v in options.items() if v is not None}}
+    written = write_outputs(result, a["out"], overwrite=a.get("overwrite", False), json_file=a.get("json_file"),
+                            run=run)
     if not a.get("quiet"):
         from .console import print_summary
 
         print_summary(result, written)
     return _exit_code(result, settings.fail_on)
+
+
+#: options that may go with --manifest (everything else is fixed by the manifest)
+_WITH_MANIFEST = {"manifest", "out", "overwrite", "json_file", "quiet"}
+
+
+def _correct_from_manifest(a: dict) -> int:
+    """Run a month again exactly as a manifest records it."""
+    from .errors import SettingsError
+    from .writers import write_outputs
+    from .writers.atomic import protect_inputs
+    from .writers.manifest import rerun
+
+    extra = [k for k, v in a.items() if k not in _WITH_MANIFEST and v not in (None, False, [], ())]
+    if extra:
+        special = {"logs": "LOGS", "site_file": "--site", "site": "--site-name"}
+        names = ", ".join(special.get(k, "--" + k.replace("_", "-")) for k in sorted(extra))
+        raise SettingsError(f"--manifest re-runs the month exactly as recorded; drop {names}",
+                            hint="only --out, --overwrite, --json and --quiet go with --manifest")
+    protect_inputs([a["manifest"]])
+    result, run, man = rerun(a["manifest"])
+    protect_inputs([p for p in (run["logs"] + [run.get("composition"), run.get("invoice"), run.get("site_file")]) if p])
+    written = write_outputs(result, a["out"], overwrite=a.get("overwrite", False), json_file=a.get("json_file"),
+                            run=run)
+    if not a.get("quiet"):
+        from .console import print_summary
+
+        print_summary(result, written)
+    return _exit_code(result, result.settings.fail_on)
 
 
 def _exit_code(result, fail_on) -> int:

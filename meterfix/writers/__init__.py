@@ -16,8 +16,12 @@ def output_stem(result) -> str:
     return f"{safe_name(result.settings.meter)}_{span}"
 
 
-def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None) -> dict:
+def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, run=None) -> dict:
     """Write every output of a month run into ``out_dir``; returns {kind: path}.
+
+    ``run`` describes how the month was run from files (see meterfix.writers.manifest); the run
+    manifest ``<stem>_manifest.json`` records it with the settings and input sha256, so that
+    ``meterfix correct --manifest`` can run the month again exactly.
 
     Everything is computed before the first file is written, and every file is written to a
     temporary name and renamed, so a failed or killed run leaves no partial output.
@@ -36,13 +40,17 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None) -
             raise
         write_workbook = None
     targets = {"summary": out / f"{stem}_summary.json", "intervals": out / f"{stem}_intervals.csv",
-               "gas_days": out / f"{stem}_gas_days.csv"}
+               "gas_days": out / f"{stem}_gas_days.csv", "manifest": out / f"{stem}_manifest.json"}
     if write_workbook is not None:
         targets["workbook"] = out / f"{stem}.xlsx"
     from .atomic import check_target
 
     for p in targets.values():
         check_target(p, overwrite=overwrite)
+    from .manifest import build_manifest, manifest_json
+
+    manifest_text = manifest_json(build_manifest(result, run, targets["manifest"], outputs=targets,
+                                                 summary_text=summary))
     out.mkdir(parents=True, exist_ok=True)
     written["intervals"] = write_interval_csv(result, targets["intervals"], overwrite=overwrite)
     written["gas_days"] = write_gas_day_csv(result, targets["gas_days"], overwrite=overwrite)
@@ -50,6 +58,7 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None) -
         written["workbook"] = write_workbook(result, targets["workbook"], overwrite=overwrite,
                                              interval_csv=targets["intervals"].name)
     written["summary"] = write_text(targets["summary"], summary, overwrite=overwrite)
+    written["manifest"] = write_text(targets["manifest"], manifest_text, overwrite=overwrite)
     if json_file is not None:
         written["json"] = write_text(json_file, summary, overwrite=True)
     return written
