@@ -58,9 +58,11 @@ class MonthUncertainty:
     intervals : DataFrame           index as result.intervals; u_volume_base_pct, u_energy_pct (k = 1)
                                     [%], sensitivity_pressure, sensitivity_temperature [-]
     monte_carlo : dict              draws, seed, expanded_pct (half-width of the 95 % probabilistically
-                                    symmetric interval / month total) [%], coverage_interval_m3, shortest_
-                                    interval_m3, gum_interval_m3 (k_p = 1.96), gum_agrees, tolerance_pct
-                                    (JCGM 101 §7.9.2 with n_dig digits), numerically_stable, energy, ...
+                                    symmetric interval / month total) [%], coverage_interval_m3,
+                                    shortest_interval_m3, gum_interval_m3 (y ± 1.96 u), d_low, d_high [m3],
+                                    gum_agrees, validation (text), tolerance_pct (JCGM 101 §7.9.2 with
+                                    n_dig digits), numerically_stable, endpoint_standard_error,
+                                    evaluation (grouping check), energy (the same in J, or None), ...
     standard_uncertainty_m3 : float  month base volume, k = 1 [m3]
     notes : list of str
     """
@@ -102,7 +104,7 @@ class MonthUncertainty:
 
 
 def month_uncertainty(result, *, draws: int = 100_000, seed: int = 2026, progress=None,
-                      n_dig: int = 2) -> MonthUncertainty:
+                      n_dig: int = 2, max_draws: int | None = None) -> MonthUncertainty:
     """GUM budget and Monte Carlo check of a month run.
 
     Parameters
@@ -110,7 +112,10 @@ def month_uncertainty(result, *, draws: int = 100_000, seed: int = 2026, progres
     result : MonthResult
         ``result.settings.uncertainty`` holds the inputs as strings (``[uncertainty]`` table or CLI
         options), see :func:`parse_uncertainty_settings`.
-    draws : int            Monte Carlo trials (JCGM 101 M) [-]
+    draws : int            Monte Carlo trials of the first stage (JCGM 101 M) [-]
+    max_draws : int, optional  further stages of ``draws`` trials until the month base volume's
+                           results are numerically stable to the tolerance (JCGM 101 §7.9), up to
+                           this many [-] (default 10·draws; give ``draws`` for a fixed M)
     seed : int             seed of the generator [-]
     progress : callable(done, total), optional   Monte Carlo progress [trials]
     n_dig : int            significant digits of u for the JCGM 101 numerical tolerance [-]
@@ -165,7 +170,7 @@ def month_uncertainty(result, *, draws: int = 100_000, seed: int = 2026, progres
                      "in the month total and not in its uncertainty")
     if total_v and model.volume.size:
         mc = monte_carlo(model, gum_u_volume=u_v, gum_u_energy=u_e, draws=draws, seed=seed, progress=progress,
-                         n_dig=n_dig)
+                         n_dig=n_dig, max_draws=max_draws)
         mc["coverage_interval_m3"] = mc["coverage_interval"]
         mc["shortest_interval_m3"] = mc["shortest_interval"]
         mc["gum_interval_m3"] = mc["gum_interval"]
