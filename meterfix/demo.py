@@ -44,6 +44,7 @@ def run_demo(out_dir, overwrite: bool = False):
     """Run the demo month and write its outputs; returns (result, {kind: path})."""
     from .engine.pipeline import run_month
     from .engine.settings import build_settings
+    from .engine.uncertainty import month_uncertainty
     from .writers import write_outputs
 
     settings = build_settings(None, {"meter": "FV-M1", "site": "Fennick Valley kiln works (invented)",
@@ -51,4 +52,5 @@ def run_demo(out_dir, overwrite: bool = False):
                                      "elevation": "240 m", "method": "gerg-2008"})
     frame, analyses = demo_month()
     result = run_month(frame, analyses, settings)
+    result.uncertainty = month_uncertainty(result)
     return result, write_outputs(result, out_dir, overwrite=overwrite)

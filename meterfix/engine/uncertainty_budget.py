@@ -510,10 +510,12 @@ def budget_frame(model: IntervalModel, energy: bool = False) -> pd.DataFrame:
         var = term_variance(t, w, c)
         contrib = np.sqrt(var) / total if total else np.nan
         wa = np.where(t.applies, np.abs(w), 0.0)
-        u_row = np.sqrt(np.sum(t.u**2, axis=0))  # the input's relative u per interval (all rows)
+        # the input's relative u per interval: rows are components of one analysis, or one row per
+        # analysis, each with the input's own figure
+        u_row = np.max(np.abs(t.u), axis=0)
         u_mean = _wmean(u_row, wa) if t.applies.any() else (t.spec.standard if t.spec.relative else np.nan)
         if t.c_volume.shape[0] == 1:
-            sens = _wmean(c[0], wa) if t.applies.any() else np.nan
+            sens = _wmean(c[0], wa) if t.applies.any() else _wmean(c[0], np.abs(w))
         else:
             sens = contrib / u_mean if u_mean else 0.0
         per_interval = np.sqrt(np.sum((c * t.u) ** 2, axis=0))
