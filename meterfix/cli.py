@@ -190,6 +190,43 @@ def methods_command():
             typer.echo(f"{'':<16} range: {m.range_text}")
 
 
+#: the blank templates shipped in meterfix.templates, in the order they are written
+TEMPLATE_FILES = ("log.xlsx", "analyses.xlsx", "invoice.xlsx", "site.toml")
+
+
+@app.command("template")
+def template_command(
+    folder: Path = typer.Argument(..., help="Folder to write the blank templates into (created if missing)."),
+    overwrite: bool = typer.Option(False, "--overwrite", help="Replace template files already in the folder."),
+):
+    """Write blank templates: a log workbook, a gas-analysis workbook, an invoice workbook and a site file."""
+    try:
+        for path in write_templates(folder, overwrite=overwrite):
+            typer.echo(str(path))
+    except MeterfixError as exc:
+        _fail(exc)
+
+
+def write_templates(folder, *, overwrite: bool = False) -> list:
+    """Copy the shipped templates into ``folder``; every file checked before the first is written."""
+    import importlib.resources
+
+    from .errors import InputError
+    from .writers.atomic import check_target, write_bytes
+
+    out = Path(folder)
+    if out.exists() and not out.is_dir():
+        raise InputError("is a file, not a folder", file=out, hint="give a folder for the templates")
+    src = importlib.resources.files("meterfix.templates")
+    targets = [out / name for name in TEMPLATE_FILES]
+    for t in targets:
+        try:
+            check_target(t, overwrite=overwrite)
+        except InputError as exc:
+            raise InputError(exc.message, file=t, hint="pass --overwrite or choose another folder") from None
+    return [write_bytes(t, src.joinpath(t.name).read_bytes(), overwrite=overwrite) for t in targets]
+
+
 # ---------------------------------------------------------------------------------------------
 def main(argv: Optional[List[str]] = None) -> int:
     """Console entry point; never lets a traceback reach the user for our own errors."""

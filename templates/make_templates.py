@@ -1,0 +1,241 @@
+"""Generate the blank templates shipped in meterfix.templates (run from the repository root):
+
+    python templates/make_templates.py
+
+Writes log.xlsx, analyses.xlsx, invoice.xlsx and site.toml beside this script. The output is
+deterministic (fixed workbook timestamps and zip dates): running it again gives the same bytes,
+so the committed files only change when this script does. Headers follow the file conventions
+the readers read (meterfix/readers: logs.py, analyses.py, invoices.py); setting names and their
+descriptions come from meterfix.engine.settings.SETTING_KINDS.
+"""
+
+from __future__ import annotations
+
+import sys
+import textwrap
+from pathlib import Path
+
+from openpyxl import Workbook
+from openpyxl.styles import Alignment
+
+HERE = Path(__file__).resolve().parent
+sys.path.insert(0, str(HERE.parent))
+
+from meterfix.engine.settings import BASE_PRESETS, SETTING_KINDS  # noqa: E402
+from meterfix.engine.uncertainty_inputs import DEFAULTS as UNC_DEFAULTS  # noqa: E402
+from meterfix.engine.uncertainty_inputs import FLOW_KEYS, INPUT_KEYS  # noqa: E402
+from meterfix.gas.components import NAMES  # noqa: E402
+from meterfix.writers import xlsx_common as X  # noqa: E402
+from meterfix.z.registry import method_names  # noqa: E402
+
+# (header, required, unit choices, what it holds, example)
+LOG_COLUMNS = [
+    ("Interval end", "yes", "local clock time of the site",
+     "Clock time at the END of the interval (06:00-07:00 is written 07:00), as text '2026-10-01 07:00' or a "
+     "spreadsheet date-time. The time zone is the site file's 'timezone'; during the autumn clock change the "
+     "repeated hour is told apart by the order of the rows.", "2026-10-01 07:00"),
+    ("Line pressure [bar(g)]", "yes", "gauge: bar(g), kPa(g), psig; absolute: bar(a), kPa(a), psia, MPa(a)",
+     "Static pressure at the meter during the interval. A gauge reading needs the atmospheric pressure: the "
+     "'Barometric pressure' column, or atmospheric_pressure or elevation in the site file.", "39.52"),
+    ("Line temperature [degC]", "yes", "degC, degF, K", "Gas temperature at the meter during the interval.", "11.8"),
+    ("Uncorrected volume [m3]", "yes (or one of the two below)", "m3, ft3, Mcf, L",
+     "Volume through the meter in the interval at line conditions (not corrected). Instead of it a log may "
+     "carry 'Meter index [m3]' (the cumulative register reading) or 'Flow rate [m3/h]'.", "1150.4"),
+    ("Barometric pressure [kPa]", "no", "kPa, hPa, mbar, psia (absolute)",
+     "Atmospheric pressure logged at the site; used for gauge pressure when the site file allows "
+     "(use_barometer, default true). Empty cells fall back to the fixed value or the elevation.", "98.47"),
+    ("Site corrected volume [m3]", "no", "m3, ft3, Mcf at the corrector's own base",
+     "The site corrector's own corrected volume for the interval, at ITS base conditions. meterfix compares it "
+     "with its own correction and names the likely misconfiguration (ideal gas, fixed Z, wrong base ...).",
+     "40125.7"),
+    ("Status", "no", "text", "Free text from the logger (alarms, notes). Kept with the data, not used in the "
+                             "calculation.", "ok"),
+]
+
+ANALYSIS_COLUMNS = [
+    ("Effective from", "yes", "local clock time of the site",
+     "From when the analysis applies; it holds until the next row's time. The earliest row also covers any "
+     "interval before it.", "2026-10-15 06:00"),
+] + [(f"{n} [mol%]", "methane: yes; others as measured", "mol%, or [-] for mole fractions, [ppm]",
+      f"Amount of {n.replace('_', '-')} in the gas. Leave a component empty or 0 when it was not measured; the "
+      "analysis must sum to 100 % within 2 %.", "93.12" if n == "methane" else "0.0")
+     for n in NAMES]
+
+INVOICE_COLUMNS = [
+    ("Period start", "yes", "date (gas day)", "First gas day of the billing period.", "2026-10-01"),
+    ("Period end", "yes", "date (gas day), inclusive", "Last gas day of the billing period.", "2026-10-31"),
+    ("Billed volume [Sm3]", "yes", "Sm3, Nm3, m3, scf, Mcf (at the invoice's base)",
+     "Volume billed, at the base conditions stated in the next two columns.", "36095283"),
+    ("Base pressure [kPa]", "no, if given to the reader", "kPa, psia, bar (absolute)",
+     "Base pressure of the billed volume; a cell may carry its own unit ('14.73 psia').", "101.325"),
+    ("Base temperature [degC]", "no, if given to the reader", "degC, degF, K", "Base temperature of the billed "
+                                                                              "volume.", "0"),
+    ("Heating value [MJ/m3]", "no", "MJ/m3, kWh/m3, Btu/scf (gross, at the billed base)",
+     "Gross heating value the supplier applied.", "40.9"),
+    ("Billed energy [GJ]", "no", "GJ, MWh, kWh, MMBtu, therm", "Energy billed for the period.", "1476297"),
+    ("Price [EUR/MWh]", "no", "currency per energy unit", "Energy price of the period.", "35.00"),
+    ("Amount [EUR]", "no", "currency", "Amount billed for the period.", "14352888.55"),
+]
+
+
+def _columns_sheet(ws, title: str, intro: str, columns) -> None:
+    ws.cell(row=1, column=1, value=title).font = X.TITLE_FONT
+    c = ws.cell(row=2, column=1, value=intro)
+    c.alignment = Alignment(wrap_text=True, vertical="top")
+    c.font = X.NOTE_FONT
+    c.fill = X.NOTE_FILL
+    ws.merge_cells("A2:E2")
+    ws.row_dimensions[2].height = 62
+    X.write_header(ws, 4, 1, ["Column header (write it exactly)", "Required", "Units accepted", "What it holds",
+                              "Example value"])
+    for i, (h, req, units, what, ex) in enumerate(columns, start=5):
+        for j, v in enumerate((h, req, units, what, ex), start=1):
+            cell = ws.cell(row=i, column=j, value=v)
+            cell.alignment = Alignment(wrap_text=True, vertical="top")
+            cell.border = X.CELL_BORDER
+        ws.cell(row=i, column=1).font = X.LABEL_FONT
+        ws.row_dimensions[i].height = 15 * max(1, -(-len(what) // 62)) + 3
+    X.set_widths(ws, {1: 30, 2: 16, 3: 30, 4: 70, 5: 18})
+    ws.freeze_panes = "A5"
+
+
+def _data_sheet(ws, columns, formats) -> None:
+    X.write_header(ws, 1, 1, [c[0] for c in columns], height=36)
+    for j, (h, *_rest) in enumerate(columns, start=1):
+        letter = X.get_column_letter(j)
+        ws.column_dimensions[letter].width = max(14, min(30, len(h) + 2))
+        fmt = formats.get(h)
+        if fmt:
+            ws.column_dimensions[letter].number_format = fmt
+    ws.freeze_panes = "A2"
+
+
+def log_workbook() -> Workbook:
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Log"
+    _data_sheet(ws, LOG_COLUMNS, {"Interval end": X.FMT_DATETIME})
+    _columns_sheet(wb.create_sheet("Columns"), "meterfix log: the columns",
+                   "Fill the sheet 'Log': one row per interval, below the header row; keep the headers as they are "
+                   "or change only the unit in brackets to one of the units accepted. Optional columns may be "
+                   "deleted. Save as .xlsx (or export the Log sheet as CSV). meterfix reads the sheet named 'Log'.",
+                   LOG_COLUMNS)
+    X.fix_properties(wb, title="meterfix log template")
+    return wb
+
+
+def analyses_workbook() -> Workbook:
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Analyses"
+    _data_sheet(ws, ANALYSIS_COLUMNS, {"Effective from": X.FMT_DATETIME})
+    _columns_sheet(wb.create_sheet("Columns"), "meterfix gas analyses: the columns",
+                   "Fill the sheet 'Analyses': one row per gas analysis, in time order, with the time it takes effect "
+                   "and the amount of each component. Component columns not measured may be deleted. A single "
+                   "analysis may instead be given as two columns 'Component' and 'Mole percent [mol%]'.",
+                   ANALYSIS_COLUMNS)
+    X.fix_properties(wb, title="meterfix gas analysis template")
+    return wb
+
+
+def invoice_workbook() -> Workbook:
+    wb = Workbook()
+    ws = wb.active
+    ws.title = "Invoice"
+    _data_sheet(ws, INVOICE_COLUMNS, {"Period start": X.FMT_DATE, "Period end": X.FMT_DATE})
+    _columns_sheet(wb.create_sheet("Columns"), "meterfix invoice: the columns",
+                   "Copy the supplier's invoice into the sheet 'Invoice': one row per billing period. Dates are gas "
+                   "days; the end date is inclusive. Change the unit in brackets to the invoice's own. A row whose "
+                   "first cell starts with 'Total' is skipped.", INVOICE_COLUMNS)
+    X.fix_properties(wb, title="meterfix invoice template")
+    return wb
+
+
+# ---------------------------------------------------------------------------------------------
+# example value of each setting (invented demo scenario); None: written without an example
+SETTING_EXAMPLES = {
+    "meter": '"FV-M1"', "site": '"Fennick Valley kiln works (invented)"', "base": '"normal-0c"',
+    "base_pressure": '"101.325 kPa"', "base_temperature": '"0 degC"', "atmospheric_pressure": '"98.5 kPa"',
+    "elevation": '"240 m"', "use_barometer": "true", "timezone": '"Europe/Berlin"', "gas_day_start": '"06:00"',
+    "interval_label": '"end"', "method": '"gerg-2008"', "heating_value": '"40.5 MJ/m3"',
+    "heating_value_reference_temperature": '"0 degC"', "heating_value_reference_pressure": '"101.325 kPa"',
+    "combustion_temperature": '"25 degC"', "ideal_gas_threshold": "0.5", "substitution": '"none"',
+    "max_gap_intervals": "3", "price": '"35 EUR/MWh"', "invoice_tolerance": "1.0", "fail_on": "1.0",
+    "register_digits": "8",
+}
+#: settings set in the template (the rest are commented out)
+ACTIVE = ("meter", "site", "base", "elevation", "timezone", "gas_day_start", "method")
+GROUPS = [
+    ("The meter", ("meter", "site")),
+    ("Contract base conditions (the contract says which)", ("base", "base_pressure", "base_temperature")),
+    ("Atmospheric pressure for gauge pressure", ("atmospheric_pressure", "elevation", "use_barometer")),
+    ("Clock and gas day", ("timezone", "gas_day_start", "interval_label")),
+    ("Compressibility and energy", ("method", "heating_value", "heating_value_reference_temperature",
+                                    "heating_value_reference_pressure", "combustion_temperature")),
+    ("Findings and data quality", ("ideal_gas_threshold", "substitution", "max_gap_intervals", "register_digits",
+                                   "fail_on")),
+    ("Invoice", ("price", "invoice_tolerance")),
+]
+UNC_EXAMPLES = {"meter": '"1 %"', "meter_below_qt": '"2 %"', "pressure": '"0.25 %"', "atmospheric": '"0.5 kPa"',
+                "temperature": '"0.5 K"', "z": '"0.1 %"', "z_outside": '"0.5 %"', "base_z": '"0.05 %"',
+                "composition": '"2 %"', "heating_value": '"0.1 %"', "estimated": '"10 % random"',
+                "meter_qt": '"65 m3/h"', "meter_qmax": '"1000 m3/h"'}
+
+
+def site_toml() -> str:
+    grouped = [k for _, keys in GROUPS for k in keys]
+    missing = [k for k in SETTING_KINDS if k not in grouped]
+    if missing:
+        raise SystemExit(f"settings not placed in a group of the site template: {missing}")
+    out = [
+        "# meterfix site file: the settings of one meter.",
+        "#",
+        "# Every setting can also be given as a command-line option of the same name",
+        "# (base_pressure <-> --base-pressure); an option given on the command line wins.",
+        "# Quantities are text with a unit: \"14.73 psia\", \"101.325 kPa\", \"15 degC\", \"180 m\".",
+        "# A line starting with '#' is a comment: remove the '#' in front of a setting to use it.",
+        "# The example values describe an invented meter.",
+    ]
+    for title, keys in GROUPS:
+        out += ["", f"# --- {title} " + "-" * max(3, 92 - len(title)), ""]
+        for k in keys:
+            desc = SETTING_KINDS[k][1]
+            if k == "method":
+                desc += ": " + ", ".join(method_names())
+            if k == "base":
+                desc = "named base conditions: " + "; ".join(f"{n} ({v[2]})" for n, v in BASE_PRESETS.items())
+            out += textwrap.wrap(f"{k}: {desc}", 96, initial_indent="#   ", subsequent_indent="#     ")
+            line = f"{k} = {SETTING_EXAMPLES[k]}"
+            out.append(line if k in ACTIVE else "# " + line)
+    out += ["", "# --- Uncertainty inputs " + "-" * 70,
+            "# Expanded uncertainty with k = 2 unless the text says otherwise: \"1 %\", \"2 kPa\", \"mpe 1 %\"",
+            "# (rectangular), \"0.3 K k=1\", \"0.25 % random\". Each input left out takes its default, stated in",
+            "# the workbook's Uncertainty sheet. meter_qt and meter_qmax are flow rates at line conditions.",
+            "# invoice_meter_pct: the supplier's meter, expanded [%]; corrector_check_pct: threshold [%].",
+            "# [uncertainty]"]
+    for k in list(INPUT_KEYS) + list(FLOW_KEYS):
+        label = INPUT_KEYS[k][0] if k in INPUT_KEYS else "flow rate of the meter"
+        default = UNC_DEFAULTS.get(k, (None,))[0]
+        note = f"{label}" + (f"; default {default}" if default else "")
+        out.append(f"# {k} = {UNC_EXAMPLES[k]}".ljust(40) + f"  # {note}")
+    out += ["# invoice_meter_pct = 1.0", "# corrector_check_pct = 0.15",
+            "", "# --- Columns of the logs: source header -> canonical name (when not recognised) " + "-" * 14,
+            "# [columns]", '# "P1 (barg)" = "pressure_gauge"', '# "TT-101 degC" = "temperature_line"',
+            "", "# --- Display units of the workbook (the JSON summary is always SI) " + "-" * 27,
+            "# [display_units]", '# pressure = "bar"', '# temperature = "degC"', '# volume = "m3"',
+            '# energy = "MWh"', '# heating_value = "MJ/m3"', '# mass = "t"',
+            "", "# --- Input files, for 'meterfix fleet' (paths relative to this file) " + "-" * 25,
+            "# [files]", '# logs = ["logs/*.csv"]', '# composition = "analyses.xlsx"', '# invoice = "invoice.xlsx"',
+            ""]
+    return "\n".join(out)
+
+
+def main() -> None:
+    for name, make in (("log.xlsx", log_workbook), ("analyses.xlsx", analyses_workbook),
+                       ("invoice.xlsx", invoice_workbook)):
+        (HERE / name).write_bytes(X.repeatable_xlsx_bytes(make()))
+    (HERE / "site.toml").write_text(site_toml(), encoding="utf-8", newline="\n")
+
+
+if __name__ == "__main__":
+    main()
