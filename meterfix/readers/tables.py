@@ -557,30 +557,45 @@ def to_numbers(values, decimal: str = ".") -> tuple[np.ndarray, np.ndarray, np.n
     """
     s = pd.Series(np.asarray(values, dtype=object))
     n = len(s)
-    is_str = s.map(type).to_numpy() == str
-    num = pd.to_numeric(s.where(~is_str), errors="coerce").to_numpy(float) if (~is_str).any() else np.full(n, np.nan)
-    out = num.copy()
-    non_str_nan = ~is_str & pd.isna(s).to_numpy()
-    bool_cells = s.map(lambda v: isinstance(v, bool)).to_numpy() if (~is_str).any() else np.zeros(n, bool)
-    bad = (~is_str & ~non_str_nan & np.isnan(num)) | bool_cells
-    out[bool_cells] = np.nan
-    empty = non_str_nan.copy()
+    all_str = n > 0 and pd.api.types.infer_dtype(s, skipna=False) == "string"
+    is_str = np.ones(n, bool) if all_str else (s.map(type).to_numpy() == str)
+    out = np.full(n, np.nan)
+    bad = np.zeros(n, bool)
+    empty = np.zeros(n, bool)
+    if (~is_str).any():
+        other = s[~is_str]
+        num = pd.to_numeric(other.where(other.map(lambda v: not isinstance(v, bool))), errors="coerce").to_numpy(float)
+        na = pd.isna(other).to_numpy()
+        out[~is_str] = num
+        empty[~is_str] = na
+        bad[~is_str] = ~na & np.isnan(num)
     if is_str.any():
-        t = s[is_str].str.strip()
-        low = t.str.lower()
-        emp = low.isin(_EMPTY_TEXT).to_numpy()
-        cleaned = t.str.replace(r"[\s\u00a0\u202f']", "", regex=True)
-        if decimal == ",":
-            grouped = cleaned.str.fullmatch(r"[-+]?\d{1,3}(?:\.\d{3})+(?:,\d*)?")
-            cleaned = cleaned.where(~grouped, cleaned.str.replace(".", "", regex=False))
-            cleaned = cleaned.str.replace(",", ".", regex=False)
-        else:
-            # a comma is a thousands separator only in groups of three digits; '2,5' stays bad
-            grouped = cleaned.str.fullmatch(r"[-+]?\d{1,3}(?:,\d{3})+(?:\.\d*)?")
-            cleaned = cleaned.where(~grouped, cleaned.str.replace(",", "", regex=False))
-        v = pd.to_numeric(cleaned.where(~emp, None), errors="coerce").to_numpy(float)
         idx = np.flatnonzero(is_str)
-        out[idx] = v
-        empty[idx] = emp
-        bad[idx] = ~emp & np.isnan(v)
+        st = s[is_str] if not all_str else s
+        if decimal == ",":
+            plain = ~st.str.contains(".", regex=False).to_numpy()
+            fast = np.full(len(st), np.nan)
+            if plain.any():
+                fast[plain] = pd.to_numeric(st[plain].str.replace(",", ".", regex=False), errors="coerce").to_numpy(float)
+        else:
+            fast = pd.to_numeric(st, errors="coerce").to_numpy(float)
+        out[idx] = fast
+        slow = np.isnan(fast)
+        if slow.any():
+            t = st[slow].str.strip()
+            emp = t.str.lower().isin(_EMPTY_TEXT).to_numpy()
+            cleaned = t.str.replace(r"[\s\u00a0\u202f']", "", regex=True)
+            if decimal == ",":
+                grouped = cleaned.str.fullmatch(r"[-+]?\d{1,3}(?:\.\d{3})+(?:,\d*)?")
+                cleaned = cleaned.where(~grouped, cleaned.str.replace(".", "", regex=False))
+                cleaned = cleaned.str.replace(",", ".", regex=False)
+            else:
+                # a comma is a thousands separator only in groups of three digits; '2,5' stays bad
+                grouped = cleaned.str.fullmatch(r"[-+]?\d{1,3}(?:,\d{3})+(?:\.\d*)?")
+                cleaned = cleaned.where(~grouped, cleaned.str.replace(",", "", regex=False))
+            v = pd.to_numeric(cleaned.where(~emp, None), errors="coerce").to_numpy(float)
+            j = idx[slow]
+            out[j] = v
+            empty[j] = emp
+            bad[j] = ~emp & np.isnan(v)
     return out, empty, bad

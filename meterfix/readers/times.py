@@ -35,6 +35,8 @@ _DATE_FORMATS = ["%d.%m.%Y", "%d.%m.%y", "%d/%m/%Y", "%m/%d/%Y", "%d-%m-%Y", "%Y
 
 
 def _types(s: pd.Series) -> np.ndarray:
+    if len(s) and pd.api.types.infer_dtype(s, skipna=False) == "string":
+        return np.full(len(s), "s", dtype=object)
     return s.map(lambda v: "s" if isinstance(v, str) else (
         "b" if isinstance(v, bool) else
         "n" if isinstance(v, (int, float, np.integer, np.floating)) else
@@ -132,37 +134,67 @@ def parse_datetimes(values, where: dict, *, what: str = "time"):
         bad[np.flatnonzero(m)[~ok]] = True
     m = kinds == "s"
     if m.any():
-        st = s[m].str.strip().str.replace(r"\s+", " ", regex=True)
-        empty = st.str.lower().isin(["", "-", "n/a", "na", "null", "none"]).to_numpy()
         idx = np.flatnonzero(m)
-        numeric = st.str.fullmatch(r"\d{5}(?:[.,]\d+)?").fillna(False).to_numpy()
-        if numeric.any():
-            v = st[numeric].str.replace(",", ".").astype(float).to_numpy()
-            out[idx[numeric]] = (_EPOCH_1900.to_datetime64()
-                                 + pd.to_timedelta(np.round(v * 86400.0) * 1e9, unit="ns").to_numpy())
-        rest = ~empty & ~numeric
-        if rest.any():
-            txt = st[rest]
-            fmt, has_off = _pick_format(txt, _DATETIME_FORMATS + _DATE_FORMATS, where, what)
-            if fmt == "ISO8601":
-                off = txt.str.contains(_OFFSET).to_numpy()
-                vals = np.full(len(txt), np.datetime64("NaT"), dtype="datetime64[ns]")
-                if off.any():
-                    u = pd.to_datetime(txt[off], format="ISO8601", utc=True, errors="coerce")
-                    vals[off] = u.dt.tz_localize(None).to_numpy("datetime64[ns]")
-                    is_utc = True
-                if (~off).any():
-                    if off.any():
-                        raise InputError(f"the {what} column mixes times with and without a UTC offset", **where,
-                                         hint="write every time with its offset, or none of them")
-                    vals[~off] = pd.to_datetime(txt[~off], format="ISO8601", errors="coerce").to_numpy("datetime64[ns]")
-            else:
-                vals = pd.to_datetime(txt, format=fmt, errors="coerce").to_numpy("datetime64[ns]")
-            j = idx[rest]
-            out[j] = vals
-            bad[j] = np.isnat(vals)
+        st = s[m]
+        fmt = None
+        done = np.zeros(len(st), bool)
+        if len(st) > 2000:
+            # fast path: the format from a sample, then one vectorized parse of the raw text
+            sample = st.iloc[:: max(1, len(st) // 500)].str.strip()
+            sample = sample[~sample.str.lower().isin(["", "-", "n/a", "na", "null", "none"])]
+            if len(sample) and not sample.str.fullmatch(r"\d{5}(?:[.,]\d+)?").any():
+                fmt, has_off = _pick_format(sample, _DATETIME_FORMATS + _DATE_FORMATS, where, what)
+                if not has_off:
+                    try:
+                        fast = pd.to_datetime(st, format=fmt, errors="coerce").to_numpy("datetime64[ns]")
+                    except (ValueError, TypeError):
+                        fast = np.full(len(st), np.datetime64("NaT"), dtype="datetime64[ns]")
+                    done = ~np.isnat(fast)
+                    out[idx[done]] = fast[done]
+        if (~done).any():
+            vals, b_, utc_ = _strings(st[~done], where, what, fmt)
+            out[idx[~done]] = vals
+            bad[idx[~done]] = b_
+            is_utc |= utc_
     other = (kinds == "x") | (kinds == "b") | (kinds == "c") | (kinds == "e")
     bad |= other & ~pd.isna(s).to_numpy()
+    return out, bad, is_utc
+
+
+def _strings(st_raw: pd.Series, where, what, fmt=None):
+    """Text cells → (naive or UTC datetime64[ns], bad, is_utc)."""
+    st = st_raw.str.strip().str.replace(r"\s+", " ", regex=True)
+    n = len(st)
+    out = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
+    bad = np.zeros(n, bool)
+    is_utc = False
+    empty = st.str.lower().isin(["", "-", "n/a", "na", "null", "none"]).to_numpy()
+    numeric = st.str.fullmatch(r"\d{5}(?:[.,]\d+)?").fillna(False).to_numpy()
+    if numeric.any():
+        v = st[numeric].str.replace(",", ".").astype(float).to_numpy()
+        out[numeric] = (_EPOCH_1900.to_datetime64()
+                        + pd.to_timedelta(np.round(v * 86400.0) * 1e9, unit="ns").to_numpy())
+    rest = ~empty & ~numeric
+    if rest.any():
+        txt = st[rest]
+        if fmt is None:
+            fmt, _ = _pick_format(txt, _DATETIME_FORMATS + _DATE_FORMATS, where, what)
+        if fmt == "ISO8601":
+            off = txt.str.contains(_OFFSET).to_numpy()
+            vals = np.full(len(txt), np.datetime64("NaT"), dtype="datetime64[ns]")
+            if off.any():
+                u = pd.to_datetime(txt[off], format="ISO8601", utc=True, errors="coerce")
+                vals[off] = u.dt.tz_localize(None).to_numpy("datetime64[ns]")
+                is_utc = True
+            if (~off).any():
+                if off.any():
+                    raise InputError(f"the {what} column mixes times with and without a UTC offset", **where,
+                                     hint="write every time with its offset, or none of them")
+                vals[~off] = pd.to_datetime(txt[~off], format="ISO8601", errors="coerce").to_numpy("datetime64[ns]")
+        else:
+            vals = pd.to_datetime(txt, format=fmt, errors="coerce").to_numpy("datetime64[ns]")
+        out[rest] = vals
+        bad[rest] = np.isnat(vals)
     return out, bad, is_utc
 
 
