@@ -263,3 +263,12 @@ def test_one_bad_cell_in_a_long_log_is_a_flagged_row():
     lines[778] = lines[778].replace('x1,2', '"x1,2"')
     f, m = parse_log(io.BytesIO("\n".join(lines).encode()), name="long.csv")
     assert len(f) == 2000 and f["flag_unparseable"].sum() == 1 and m.unparseable[0]["row"] == 779
+
+
+def test_ods_date_and_time_cells():
+    f, m = read_log(FIX / "tallow_bridge_b2_log.ods", timezone="Europe/Berlin")
+    assert m.sources[0]["sheet"] == "Log" and len(f) == 12
+    # 14.10.2026 01:00 CEST (date cell + time cell) = 13.10.2026 23:00 UTC
+    assert f.index[0] == utc("2026-10-13 23:00") and f["source_row"].iat[0] == 3
+    assert f["pressure_gauge"].iat[0] == pytest.approx(420e3)  # kPa(g): 1E+03 Pa (NIST SP 811)
+    assert f["volume_corrected_site"].iat[11] == 71.0 and f["volume_line"].sum() == sum(40 + i for i in range(12))
