@@ -110,6 +110,12 @@ def _data_sheet(ws, columns, formats) -> None:
     ws.freeze_panes = "A2"
 
 
+def _finish(wb) -> None:
+    for ws in wb.worksheets:
+        X.print_setup(ws)
+        ws.print_area = f"A1:{X.get_column_letter(ws.max_column)}{max(ws.max_row, 40)}"
+
+
 def log_workbook() -> Workbook:
     wb = Workbook()
     ws = wb.active
@@ -120,6 +126,7 @@ def log_workbook() -> Workbook:
                    "or change only the unit in brackets to one of the units accepted. Optional columns may be "
                    "deleted. Save as .xlsx (or export the Log sheet as CSV). meterfix reads the sheet named 'Log'.",
                    LOG_COLUMNS)
+    _finish(wb)
     X.fix_properties(wb, title="meterfix log template")
     return wb
 
@@ -134,6 +141,7 @@ def analyses_workbook() -> Workbook:
                    "and the amount of each component. Component columns not measured may be deleted. A single "
                    "analysis may instead be given as two columns 'Component' and 'Mole percent [mol%]'.",
                    ANALYSIS_COLUMNS)
+    _finish(wb)
     X.fix_properties(wb, title="meterfix gas analysis template")
     return wb
 
@@ -147,6 +155,7 @@ def invoice_workbook() -> Workbook:
                    "Copy the supplier's invoice into the sheet 'Invoice': one row per billing period. Dates are gas "
                    "days; the end date is inclusive. Change the unit in brackets to the invoice's own. A row whose "
                    "first cell starts with 'Total' is skipped.", INVOICE_COLUMNS)
+    _finish(wb)
     X.fix_properties(wb, title="meterfix invoice template")
     return wb
 

@@ -254,17 +254,6 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
 
 
 # ---------------------------------------------------------------------------------------------
-def _print_setup(ws, fit_width=True):
-    ws.page_margins.top = ws.page_margins.bottom = 0.5
-    ws.page_margins.left = ws.page_margins.right = 0.5
-    ws.page_setup.orientation = "landscape"
-    ws.page_setup.paperSize = ws.PAPERSIZE_A4
-    if fit_width:
-        ws.sheet_properties.pageSetUpPr.fitToPage = True
-        ws.page_setup.fitToWidth = 1
-        ws.page_setup.fitToHeight = 0
-
-
 def time_span(result, daily=False):
     """(first, last) local datetime of the month, for the time axes of the charts."""
     d = result.intervals
@@ -330,7 +319,7 @@ def build_workbook(result, *, interval_csv=None, max_rows=None):
                 charts.row_breaks.append(Break(id=r + (i + 1) * step - 1))
     layout["span"] = span
     for ws in wb.worksheets:
-        _print_setup(ws, fit_width=ws is not iv_ws)
+        X.print_setup(ws, fit_width=ws is not iv_ws)
     if iv_block is not None:
         iv_ws.print_title_rows = "1:1"
     X.fix_properties(wb, title=f"meterfix month report {result.settings.meter} {_month_label(result)}",

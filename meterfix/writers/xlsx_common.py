@@ -207,6 +207,18 @@ def set_widths(ws, widths: dict) -> None:
         ws.column_dimensions[key].width = w
 
 
+def print_setup(ws, fit_width: bool = True) -> None:
+    """A4 landscape, narrow margins; fit the columns to the page width unless told not to."""
+    ws.page_margins.top = ws.page_margins.bottom = 0.5
+    ws.page_margins.left = ws.page_margins.right = 0.5
+    ws.page_setup.orientation = "landscape"
+    ws.page_setup.paperSize = ws.PAPERSIZE_A4
+    if fit_width:
+        ws.sheet_properties.pageSetUpPr.fitToPage = True
+        ws.page_setup.fitToWidth = 1
+        ws.page_setup.fitToHeight = 0
+
+
 # ---------------------------------------------------------------------------------------------
 def fix_properties(wb, title: str = "", subject: str = "") -> None:
     """Fixed creator and timestamps, so the same result gives the same file."""
