@@ -27,7 +27,8 @@ HEADER = ["Interval end", "Line pressure [bar(g)]", "Line temperature [degC]", "
 
 
 def make_frame(rows: int) -> pd.DataFrame:
-    idx = pd.date_range("2026-01-01 00:01", periods=rows, freq="min")
+    # one-minute steps of real time shown as Europe/Berlin wall-clock time (both clock changes of 2026)
+    idx = pd.date_range("2026-01-01 00:01", periods=rows, freq="min", tz="UTC").tz_convert("Europe/Berlin")
     rng = np.random.default_rng(4)
     return pd.DataFrame({HEADER[0]: idx.strftime("%Y-%m-%d %H:%M"),
                          HEADER[1]: np.round(38 + rng.standard_normal(rows), 3),
@@ -42,7 +43,7 @@ def write_xlsx(path: Path, df: pd.DataFrame) -> None:
     ws = wb.create_sheet("Log")
     ws.append(["FV-M1 one-minute log (invented, generated)"])
     ws.append(HEADER)
-    t = pd.to_datetime(df[HEADER[0]]).dt.to_pydatetime()
+    t = pd.to_datetime(df[HEADER[0]]).dt.to_pydatetime()  # naive wall-clock times, as a logger writes them
     for row in zip(t, df[HEADER[1]].tolist(), df[HEADER[2]].tolist(), df[HEADER[3]].tolist()):
         ws.append(list(row))
     wb.save(path)
