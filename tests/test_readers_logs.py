@@ -272,3 +272,11 @@ def test_ods_date_and_time_cells():
     assert f.index[0] == utc("2026-10-13 23:00") and f["source_row"].iat[0] == 3
     assert f["pressure_gauge"].iat[0] == pytest.approx(420e3)  # kPa(g): 1E+03 Pa (NIST SP 811)
     assert f["volume_corrected_site"].iat[11] == 71.0 and f["volume_line"].sum() == sum(40 + i for i in range(12))
+
+
+def test_time_column_alone_with_dates_and_bad_zone():
+    text = "Time,P [bar(g)],T [degC],Volume [m3]\n2026-10-01 07:00,1,10,5\n2026-10-01 08:00,1,10,5\n"
+    f, _ = parse_log(io.BytesIO(text.encode()), name="t.csv")
+    assert list(f.index.hour) == [7, 8]
+    with pytest.raises(SettingsError, match="unknown time zone"):
+        parse_log(io.BytesIO(text.encode()), name="t.csv", timezone="Mars/Olympus")

@@ -47,7 +47,7 @@ from pathlib import Path
 import numpy as np
 import pandas as pd
 
-from ..errors import InputError
+from ..errors import InputError, SettingsError
 from .columns import ColumnMapping, _key, map_columns, require_log_columns
 from .tables import DEFAULT_LIMITS, Limits, RawTable, parse_table, to_numbers
 from .times import localize, parse_clock, parse_datetimes, parse_dates
@@ -199,6 +199,8 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     tcol = next((c[x] for x in ("interval_end", "interval_start", "time") if x in c), None)
     if tcol is None and "date" in c and "clock" not in c:
         tcol = c["date"]
+    if tcol is None and "clock" in c and "date" not in c:
+        tcol = c["clock"]  # a 'Time' column alone holds the date too
     if tcol is not None:
         naive, bad_t, is_utc = parse_datetimes(t.cells[tcol.index].to_numpy(), {**where, "row": None, "column": tcol.header})
         zone = "utc" if is_utc else tcol.zone
@@ -320,7 +322,14 @@ def _index_deltas(reading: np.ndarray, scale: np.ndarray, dur: np.ndarray, digit
 
 def _assemble(tables, timezone, interval_label, column_map, register_digits):
     if interval_label not in ("end", "start"):
-        raise InputError(f"interval label '{interval_label}' is not 'end' or 'start'")
+        raise SettingsError(f"interval label '{interval_label}' is not 'end' or 'start'")
+    try:
+        from zoneinfo import ZoneInfo
+
+        ZoneInfo(timezone)
+    except Exception:  # noqa: BLE001 - zoneinfo raises several types for a bad key
+        raise SettingsError(f"unknown time zone '{timezone}'",
+                            hint="use an IANA name such as 'Europe/Berlin' or 'America/Chicago'") from None
     meta = LogMetadata(timezone=timezone, interval_label=interval_label)
     parts = []
     for k, t in enumerate(tables):
@@ -332,8 +341,6 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits):
         seen = {_key(h) for t in tables for h in t.header}
         unknown = [h for h in column_map if _key(h) not in seen]
         if unknown:
-            from ..errors import SettingsError
-
             raise SettingsError("column map names header(s) not found in any log file: " + ", ".join(unknown),
                                 hint="headers found: " + ", ".join(dict.fromkeys(str(h) for t in tables for h in t.header if str(h).strip())))
     kinds = {("pressure_gauge" if "pressure_gauge" in p.columns else "pressure_line") for p in parts}
