@@ -204,9 +204,10 @@ def demo_command(
     """Run an invented month (a 40-bar industrial meter) and print where the outputs are."""
     try:
         from .console import print_summary
-        from .demo import run_demo
+        from .demo import demo_folder, run_demo
 
         result, written = run_demo(folder, overwrite=overwrite)
         print_summary(result, written)
+        typer.echo(f"  inputs (invented)  {demo_folder()}")
     except MeterfixError as exc:
         _fail(exc)
