@@ -401,3 +401,49 @@ def test_demo_json_carries_the_uncertainty(tmp_path):
     assert isinstance(unc["budget"], list) and {"input", "share_pct", "is_default"} <= set(unc["budget"][0])
     assert unc["monte_carlo_expanded_pct"] is not None
     assert len(unc["gas_days"]) == 31
+
+
+def _log_csv(path, n=48):
+    idx = pd.date_range("2026-10-20 01:00", periods=n, freq="h")
+    rng = np.random.default_rng(8)
+    pd.DataFrame({"Interval end": idx.strftime("%Y-%m-%d %H:%M"),
+                  "Line pressure [bar(g)]": [f"{x:.6f}" for x in 32.0 + rng.standard_normal(n)],
+                  "Line temperature [degC]": [f"{x:.4f}" for x in 9.0 + rng.standard_normal(n)],
+                  "Uncorrected volume [m3]": [f"{x:.3f}" for x in 700.0 + 50 * rng.standard_normal(n)]}
+                 ).to_csv(path, index=False)
+
+
+CLI_ARGS = ["--gas", "methane=0.93,ethane=0.035,propane=0.008,nitrogen=0.015,carbon_dioxide=0.012",
+            "--base", "normal-0c", "--atmospheric-pressure", "100.9 kPa", "--quiet"]
+
+
+def test_cli_options_set_the_inputs_and_bad_ones_exit_2(tmp_path):
+    pytest.importorskip("meterfix.readers.logs")
+    from typer.testing import CliRunner
+
+    from meterfix.cli import app
+
+    log = tmp_path / "log.csv"
+    _log_csv(log)
+    res = CliRunner().invoke(app, ["correct", str(log), *CLI_ARGS, "--meter-uncertainty", "mpe 1 %",
+                                   "--z-uncertainty", "0", "--out", str(tmp_path / "a")])
+    assert res.exit_code == 0, res.output
+    d = json.loads(next((tmp_path / "a").glob("*_summary.json")).read_text())
+    rows = {r["setting"]: r for r in d["uncertainty"]["budget"]}
+    assert rows["meter"]["is_default"] is False and rows["meter"]["distribution"] == "rectangular"
+    assert rows["meter"]["contribution_pct"] == pytest.approx(100 * 0.01 / math.sqrt(3))
+    assert rows["z"]["contribution_pct"] == 0.0 and rows["atmospheric"]["is_default"] is True
+    res = CliRunner().invoke(app, ["correct", str(log), *CLI_ARGS, "--pressure-uncertainty", "abc",
+                                   "--out", str(tmp_path / "b")])
+    assert res.exit_code == 2 and "'pressure'" in res.output
+
+
+def test_site_file_uncertainty_table(tmp_path):
+    site = tmp_path / "site.toml"
+    site.write_text('base = "iso-15c"\nmethod = "ideal"\n[uncertainty]\nmeter = "mpe 1.5 %"\n'
+                    'temperature = "0.3 K k=1"\ninvoice_meter_pct = 1.0\n', encoding="utf-8")
+    s = build_settings(site)
+    r = run_month(_frame(n=6, spread=False), [(None, GAS)], s)
+    u = month_uncertainty(r, draws=2000, max_draws=2000)
+    assert _row(u.budget, "meter")["standard_uncertainty_pct"] == pytest.approx(1.5 / math.sqrt(3))
+    assert _row(u.budget, "temperature")["standard_uncertainty_pct"] == pytest.approx(100 * 0.3 / 283.15)
