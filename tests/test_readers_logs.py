@@ -205,8 +205,20 @@ def test_time_going_backwards_and_unreadable_time():
     f, m = parse_log(io.BytesIO(text.encode()), name="b.csv")
     assert list(f.index.hour) == [7, 8, 9, 10]
     assert f["flag_time_backwards"].tolist() == [False, True, False, False]
+    # 'not a time' sits between 08:00 and 10:00 but 09:00 is taken: it cannot be placed; the next row
+    # of the file carries the flag so that the month's counts show it
     assert m.dropped_rows == [{"file": "b.csv", "sheet": None, "row": 5, "reason": "the time cannot be read",
                                "value": "not a time"}]
+    assert f["flag_unparseable"].tolist() == [False, False, False, True]
+
+
+def test_unreadable_time_placed_between_regular_neighbours():
+    text = ("Interval end,P [bar(g)],T [degC],Volume [m3]\n2026-10-01 06:00,1,10,5\n2026-10-01 07:00,1,10,5\n"
+            "31/02/2026 25:61,1,10,6\n2026-10-01 09:00,1,10,5\n2026-10-01 10:00,1,10,5\n")
+    f, m = parse_log(io.BytesIO(text.encode()), name="b.csv")
+    assert list(f.index.hour) == [6, 7, 8, 9, 10] and f["volume_line"].tolist() == [5, 5, 6, 5, 5]
+    assert f["flag_unparseable"].tolist() == [False, False, True, False, False] and m.dropped_rows == []
+    assert m.unparseable[0]["row"] == 4 and m.unparseable[0]["column"] == "Interval end"
 
 
 def test_nonexistent_spring_hour_dropped_with_reason():
@@ -214,6 +226,7 @@ def test_nonexistent_spring_hour_dropped_with_reason():
             "2026-03-29 03:00,1,10,5\n")
     f, m = parse_log(io.BytesIO(text.encode()), name="s.csv", timezone="Europe/Berlin")
     assert len(f) == 2 and "does not exist" in m.dropped_rows[0]["reason"] and m.dropped_rows[0]["row"] == 3
+    assert f["flag_unparseable"].tolist() == [False, True]
 
 
 def test_spreadsheet_serial_times_in_text():

@@ -33,8 +33,12 @@ Quirks handled
   silently, differing ones flagged ``flag_duplicate`` and listed in the metadata.
 - **Bad cells**: a number that cannot be read is NaN with ``flag_unparseable`` and the cell (file,
   sheet, row, column, text) recorded in the metadata; an empty required cell is NaN with
-  ``flag_missing``. A row whose time cannot be read cannot be placed: it is left out and recorded
-  in ``metadata.dropped_rows`` (the quality step then sees the missing interval).
+  ``flag_missing``. A row whose time cannot be read (or does not exist on the clock) is placed
+  between its neighbours when they leave exactly the right number of regular slots, and flagged
+  ``flag_unparseable``; otherwise it cannot be placed: it is left out, recorded in
+  ``metadata.dropped_rows``, and the next row of its file is flagged ``flag_unparseable`` (the
+  quality step sees the missing interval). A required column in which no value can be read is
+  an error naming the file, row and column.
   ``flag_time_backwards`` marks a row whose time is earlier than a row above it in its file.
 """
 
@@ -223,14 +227,29 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     if own_label != label:
         meta.notes.append(f"{fname}: header '{tcol.header}' says interval {own_label}; read as such "
                           f"(setting was '{label}')")
-    part["time"] = utc
     part["label"] = own_label
     drop = np.isnat(utc) | bad_t
+    utc, inferred = _infer_times(utc, drop)
+    raw_t = t.cells[tcol.index]
+    for i in np.flatnonzero(inferred)[:_MAX_RECORDED]:
+        meta.unparseable.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "column": tcol.header,
+                                 "value": str(raw_t.iat[i]),
+                                 "note": f"time placed between its neighbours at {pd.Timestamp(utc[i]).isoformat()}Z"})
+    meta.unparseable_count += int(inferred.sum())
+    drop &= ~inferred
+    part["time"] = utc
     for i in np.flatnonzero(drop)[:_MAX_RECORDED]:
         reason = ("the local time does not exist (skipped by the clock change)" if nonexist[i]
                   else "the time cannot be read")
         meta.dropped_rows.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "reason": reason,
-                                  "value": str(t.cells[tcol.index].iat[i])})
+                                  "value": str(raw_t.iat[i])})
+    # the kept row below a row that could not be placed carries the flag, so the month's counts show it
+    after_dropped = np.zeros(n, bool)
+    if drop.any() and (~drop).any():
+        kept = np.flatnonzero(~drop)
+        nxt = np.searchsorted(kept, np.flatnonzero(drop))
+        nxt = nxt[nxt < len(kept)]
+        after_dropped[kept[nxt]] = True
 
     # -- numbers
     unparseable = np.zeros(n, bool)
@@ -255,7 +274,13 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
                                          "value": str(raw[i])})
         if name in required:
             missing |= empty
-    part["flag_unparseable"] = unparseable
+            if bad.any() and not np.isfinite(v).any():
+                i = int(np.flatnonzero(bad)[0])
+                raise InputError(f"no value in column '{s.header}' can be read as a number (e.g. '{raw[i]}')",
+                                 file=t.file, sheet=t.sheet, row=int(rows[i]), column=s.header,
+                                 hint="write plain numbers in this column (the unit goes in the header), "
+                                      "or map another column to it")
+    part["flag_unparseable"] = unparseable | inferred | after_dropped
     part["flag_missing"] = missing
     if "status" in c:
         st = t.cells[c["status"].index].astype(str).str.strip()
@@ -265,6 +290,38 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     prev_max = np.maximum.accumulate(np.concatenate([[np.iinfo(np.int64).min], ti[:-1]]))
     part["flag_time_backwards"] = (ti < prev_max) & ~drop
     return part[~drop].reset_index(drop=True)
+
+
+def _infer_times(utc: np.ndarray, bad: np.ndarray):
+    """Place rows with an unreadable time where their neighbours leave exactly that many slots.
+
+    A run of k such rows between readable rows at t_a and t_b (file order) is placed at
+    t_a + j (t_b - t_a)/(k + 1) when that step equals the log's median spacing.
+    Returns (times, inferred mask).
+    """
+    out = utc.copy()
+    inferred = np.zeros(len(utc), bool)
+    if not bad.any() or bad.all():
+        return out, inferred
+    good_t = np.sort(utc[~bad].astype(np.int64))
+    d = np.diff(good_t)
+    d = d[d > 0]
+    if not len(d):
+        return out, inferred
+    nominal = int(np.median(d))
+    edges = np.diff(np.concatenate([[0], bad.astype(np.int8), [0]]))
+    for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)):  # runs of bad rows (few)
+        if a == 0 or b >= len(utc):
+            continue
+        ta, tb = int(utc[a - 1].astype(np.int64)), int(utc[b].astype(np.int64))
+        k = b - a
+        if abs((tb - ta) - (k + 1) * nominal) <= 10**9:
+            slots = ta + nominal * np.arange(1, k + 1)
+            if np.isin(slots, good_t).any():
+                continue  # the slots are taken (rows out of order): cannot tell where these belong
+            out[a:b] = slots.astype("datetime64[ns]")
+            inferred[a:b] = True
+    return out, inferred
 
 
 def _spacing_durations(t_ns: np.ndarray, nominal: float, covers_span: np.ndarray, backward: bool) -> np.ndarray:

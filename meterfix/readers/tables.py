@@ -25,7 +25,8 @@ Safety
   ``Limits.max_unpacked_bytes`` (500 MiB by default), no member above 1 MiB packed more densely
   than ``Limits.max_ratio`` : 1; then every member is inflated once in streaming fashion, which
   never produces more than the declared size and fails on a CRC mismatch, so a member lying about
-  its size is caught (zip bombs).
+  its size is caught (zip bombs). An XML part that declares a DTD or entities is refused (no
+  workbook needs one; it is the shape of the "billion laughs" entity expansion).
 - At most ``Limits.max_rows`` rows; binary garbage is "not a text table"; an empty file and a
   file with a header but no data rows are errors naming the file.
 
@@ -55,6 +56,7 @@ WORKBOOK_SUFFIXES = ZIP_SUFFIXES + (".xls",)
 _ZIP_MAGIC = b"PK\x03\x04"
 _OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
 _ENCRYPTED = "EncryptedPackage".encode("utf-16-le")
+_DTD_MARKS = (b"<!DOCTYPE", b"<!ENTITY", "<!DOCTYPE".encode("utf-16-le"), "<!ENTITY".encode("utf-16-le"))
 _EMPTY_TEXT = ("", "-", "--", "---", "n/a", "na", "null", "none", "nan", "#n/a")
 
 
@@ -239,19 +241,26 @@ def check_zip(fileobj, name, limits: Limits = DEFAULT_LIMITS) -> None:
                 raise InputError(f"workbook part '{i.filename}' is packed {i.file_size / max(i.compress_size, 1):.0f}:1, "
                                  f"more than the limit of {limits.max_ratio:.0f}:1 (a zip bomb?)", file=name,
                                  hint="do not open this file; ask the sender for a plain export")
-        if limits.verify_zip:
-            buf = bytearray(2**20)
-            for i in infos:
-                try:
-                    with zf.open(i) as fh:
+        buf = bytearray(2**20)
+        for i in infos:
+            try:
+                with zf.open(i) as fh:
+                    head = fh.read(65536)
+                    if i.filename.lower().endswith((".xml", ".rels")) and any(m in head for m in _DTD_MARKS):
+                        raise InputError(f"workbook part '{i.filename}' declares a DTD or entities, which no "
+                                         "workbook needs (an XML entity attack?)", file=name,
+                                         hint="do not open this file; ask the sender for a plain export")
+                    if limits.verify_zip:
                         while fh.readinto(buf):
                             pass
-                except (zipfile.BadZipFile, NotImplementedError, RuntimeError, OSError, EOFError) as exc:
-                    raise InputError(f"the workbook is damaged or encrypted (part '{i.filename}': {exc})", file=name,
-                                     hint="open it in the spreadsheet program and save it again") from None
-                except Exception as exc:  # noqa: BLE001 - zlib.error and friends
-                    raise InputError(f"the workbook is damaged (part '{i.filename}': {exc})", file=name,
-                                     hint="open it in the spreadsheet program and save it again") from None
+            except InputError:
+                raise
+            except (zipfile.BadZipFile, NotImplementedError, RuntimeError, OSError, EOFError) as exc:
+                raise InputError(f"the workbook is damaged or encrypted (part '{i.filename}': {exc})", file=name,
+                                 hint="open it in the spreadsheet program and save it again") from None
+            except Exception as exc:  # noqa: BLE001 - zlib.error and friends
+                raise InputError(f"the workbook is damaged (part '{i.filename}': {exc})", file=name,
+                                 hint="open it in the spreadsheet program and save it again") from None
 
 
 # ---------------------------------------------------------------------------------------------
