@@ -12,7 +12,8 @@ sensitivities and correlation classes: :mod:`meterfix.engine.uncertainty_budget`
 :mod:`meterfix.engine.uncertainty_mc`.
 
 What the figures cover, and what they do not: the inputs listed in the budget, within the ranges
-of their stated distributions. Not covered: an error in the base conditions or the gas-day
+of their stated distributions. An estimated interval carries the meter's figure and the estimated
+figure together. Not covered: an error in the base conditions or the gas-day
 convention (those are settings, checked elsewhere), a meter or transmitter out of calibration
 beyond its stated figure, substituted data beyond the ``estimated`` figure, intervals without a
 result (reported by the run, not in the total). The figures support review and queries; the
@@ -52,7 +53,10 @@ class MonthUncertainty:
                                     contribution_pct (to the month total, k = 1; for a systematic
                                     input |c|·u, for a random one after averaging over the
                                     intervals), share_pct (of the variance), interval_contribution_pct
-                                    (|c|·u on one interval, volume-weighted rms), is_default, source
+                                    (|c|·u on one interval, volume-weighted rms), is_default, source.
+                                    value and sensitivity are volume-weighted means over the intervals
+                                    the input applies to; for the composition (independent components)
+                                    the sensitivity is the effective one, contribution / u
     energy_budget : DataFrame or None   the same for the month's energy
     gas_days : DataFrame            index gas_day; volume_base [m3], expanded_pct, expanded_energy_pct [%]
     intervals : DataFrame           index as result.intervals; u_volume_base_pct, u_energy_pct (k = 1)

@@ -214,6 +214,9 @@ def build_model(result, parsed) -> IntervalModel:
     vb = vb_all[used]
     en = df["energy"].to_numpy(float)[used] if "energy" in df else np.full(n, np.nan)
     energy = en if n and np.isfinite(en).all() else None
+    notes = []
+    if n and energy is None and np.isfinite(en).any():
+        notes.append("the heating value is not known for every interval: no energy uncertainty is stated")
     analysis = df["analysis"].to_numpy(int)[used]
     n_an = max(len(result.analyses), int(analysis.max()) + 1 if n else 1)
     p = df["pressure_line"].to_numpy(float)[used]
@@ -224,7 +227,6 @@ def build_model(result, parsed) -> IntervalModel:
     dur = df["duration"].to_numpy(float)[used]
     est = df["estimated"].to_numpy(bool)[used] if "estimated" in df else np.zeros(n, bool)
     rng = np.asarray(df["z_range"].cat.codes if hasattr(df["z_range"], "cat") else df["z_range"], int)[used]
-    notes = []
 
     # ---- derivatives of ln Z in ln p, ln T ------------------------------------------------
     der = {k: np.zeros(n) for k in ("p", "t", "pp", "tt", "pt")}
@@ -255,12 +257,12 @@ def build_model(result, parsed) -> IntervalModel:
     c_t = -1.0 - der["t"]
     E = energy is not None
 
-    def add(key, spec, value, unit, u, cv, ce, applies, text=None, in_volume=True, rows_mode=None):
+    def add(key, spec, value, unit, u, cv, ce, applies, text=None, in_volume=True, rows_mode=None, label=None):
         u = np.atleast_2d(np.asarray(u, float))
         cv = np.atleast_2d(np.broadcast_to(cv, u.shape).astype(float))
         ce = None if not E or ce is None else np.atleast_2d(np.broadcast_to(ce, u.shape).astype(float))
         mode = rows_mode or ("independent" if spec.correlation == "random" else "correlated")
-        model.terms.append(Term(key, INPUT_KEYS[key][0], spec, value, unit, u, cv, ce, mode, applies,
+        model.terms.append(Term(key, label or INPUT_KEYS[key][0], spec, value, unit, u, cv, ce, mode, applies,
                                 text or spec.text, in_volume))
 
     # ---- meter, by flow range -------------------------------------------------------------
@@ -275,7 +277,7 @@ def build_model(result, parsed) -> IntervalModel:
         rated = ~(low | high)
         lo_spec = parsed.resolve("meter_below_qt")
         add("meter", m_spec, float(np.sum(vl[rated])), "m3", np.where(rated, m_spec.standard_at(ones), 0.0), 1.0, 1.0,
-            rated)
+            rated, label="meter, Qt to Qmax")
         add("meter_below_qt", lo_spec, float(np.sum(vl[~rated])), "m3",
             np.where(~rated, lo_spec.standard_at(ones), 0.0), 1.0, 1.0, ~rated)
         if high.any():
@@ -323,7 +325,8 @@ def build_model(result, parsed) -> IntervalModel:
     inside = ~outside
     add("z", z_spec, _wmean(z, w), "-", np.where(inside, uz, 0.0), -1.0, -1.0, inside, text=text)
     if outside.any() and method.name != "ideal":
-        base = z_spec.value if z_given is not None else (method.uncertainty_pct or {}).get(EXTENDED, 0.0) / 100
+        table = method.uncertainty_pct or {}
+        base = z_spec.value if z_given is not None else float(table.get(EXTENDED, table.get(NORMAL, 0.0))) / 100
         zo = parsed.resolve("z_outside", f"{200 * base:g} %",
                             "assumed: twice the " + ("z setting" if z_given is not None else "method's extended-range "
                                                      "figure") + "; the method states no uncertainty outside its range")
