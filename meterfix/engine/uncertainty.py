@@ -185,7 +185,8 @@ def month_uncertainty(result, *, draws: int = 100_000, seed: int = 2026, progres
         mc = {"draws": 0, "seed": seed, "expanded_pct": None, "coverage_interval_m3": None, "gum_agrees": None,
               "tolerance_pct": None}
     return MonthUncertainty(
-        expanded_pct=100.0 * COVERAGE_FACTOR * u_v, expanded_energy_pct=100.0 * COVERAGE_FACTOR * u_e if has_e else None,
+        expanded_pct=100.0 * COVERAGE_FACTOR * u_v,
+        expanded_energy_pct=100.0 * COVERAGE_FACTOR * u_e if has_e else None,
         coverage_factor=COVERAGE_FACTOR, budget=budget, energy_budget=ebudget, gas_days=gd, intervals=iv,
         monte_carlo=mc, standard_uncertainty_m3=u_v * total_v, notes=notes)
 
