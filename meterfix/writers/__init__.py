@@ -57,8 +57,9 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     if write_workbook is not None:
         written["workbook"] = write_workbook(result, targets["workbook"], overwrite=overwrite,
                                              interval_csv=targets["intervals"].name)
-    written["summary"] = write_text(targets["summary"], summary, overwrite=overwrite)
     written["manifest"] = write_text(targets["manifest"], manifest_text, overwrite=overwrite)
+    # the summary is written last: its presence marks a complete set of outputs
+    written["summary"] = write_text(targets["summary"], summary, overwrite=overwrite)
     if json_file is not None:
         written["json"] = write_text(json_file, summary, overwrite=True)
     return written

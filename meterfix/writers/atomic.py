@@ -7,6 +7,7 @@ an input file, and an existing output is refused unless ``overwrite`` is set.
 from __future__ import annotations
 
 import contextlib
+import glob
 import os
 import re
 import tempfile
@@ -39,9 +40,17 @@ def check_target(path, *, overwrite: bool = False) -> Path:
 
 @contextlib.contextmanager
 def atomic_path(path, *, overwrite: bool = False):
-    """Yield a temporary path beside ``path``; rename it onto ``path`` on success only."""
+    """Yield a temporary path beside ``path``; rename it onto ``path`` on success only.
+
+    The temporary name is ``.<name>.<random>.part``; such files left by a killed run are removed
+    the next time the same output is written.
+    """
     path = check_target(path, overwrite=overwrite)
     path.parent.mkdir(parents=True, exist_ok=True)
+    # temporary files of the same output left by an earlier run that was killed while writing
+    for stale in path.parent.glob(f".{glob.escape(path.name)}.*.part"):
+        with contextlib.suppress(OSError):
+            stale.unlink()
     fd, tmp = tempfile.mkstemp(prefix=f".{path.name}.", suffix=".part", dir=path.parent)
     os.close(fd)
     try:

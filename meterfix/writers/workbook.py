@@ -220,19 +220,27 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         r = _row(ws, r, "Interval table file", interval_csv, "", None, csv_text)
 
     r = X.section(ws, r + 1, "Input files")
-    keys = []
-    for rec in result.inputs or []:
-        for k in (rec if isinstance(rec, dict) else {}):
-            if k not in keys:
-                keys.append(k)
-    if keys:
-        order = [k for k in ("file", "role", "sha256") if k in keys] + [k for k in keys if k not in ("file", "role", "sha256")]
-        rows = [[_setting_text(rec.get(k)) for k in order] for rec in result.inputs if isinstance(rec, dict)]
+    recs = [rec for rec in (result.inputs or []) if isinstance(rec, dict)]
+    if recs:
+        X.write_header(ws, r, 1, ["File", "Role and how it was read", "sha256", ""], height=None)
+        ws.merge_cells(start_row=r, start_column=3, end_row=r, end_column=4)
         at["inputs"] = r + 1
-        r = X.write_table(ws, r, 1, [k.replace("_", " ").capitalize() for k in order], rows)
+        r += 1
+        for rec in recs:
+            details = "; ".join(f"{k.replace('_', ' ')} {_setting_text(v)!s}" for k, v in rec.items()
+                                if k not in ("file", "role", "sha256") and v not in (None, ""))
+            ws.cell(row=r, column=1, value=X.cell_value(rec.get("file")))
+            ws.cell(row=r, column=2, value=X.cell_value(str(rec.get("role", "")) + (f" ({details})" if details else "")))
+            ws.cell(row=r, column=3, value=X.cell_value(rec.get("sha256")))
+            ws.merge_cells(start_row=r, start_column=3, end_row=r, end_column=4)
+            for j in range(1, 5):
+                ws.cell(row=r, column=j).border = X.CELL_BORDER
+            r += 1
+        first_input = at["inputs"]
     else:
         ws.cell(row=r, column=1, value="No input files (data given in memory).").font = X.NOTE_FONT
         r += 1
+        first_input = None
 
     r = X.section(ws, r + 1, "Settings of this run (SI values)")
     rec = s.to_record()
@@ -240,6 +248,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
             if k != "sources"]
     at["settings"] = r + 1
     r = X.write_table(ws, r, 1, ["Setting", "Value", "Unit", "Source"], rows)
+    settings_rows = (at["settings"], r - 1)
     if result.warnings:
         r = X.section(ws, r + 1, "Warnings")
         for w in result.warnings:
@@ -250,6 +259,9 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         if name in present:
             r = _long_row(ws, r, name, text)
     X.set_widths(ws, {1: 40, 2: 34, 3: 22, 4: 60})
+    if first_input is not None:
+        X.wrap_rows(ws, first_input, first_input + len(recs) - 1, [1, 2])
+    X.wrap_rows(ws, *settings_rows, [2])
     return at
 
 
@@ -289,7 +301,7 @@ def build_workbook(result, *, interval_csv=None, max_rows=None):
     layout["gas_days"] = gd_block
     S.write_analyses(an_ws, result, du)
     S.write_findings(fi_ws, result, du)
-    S.write_edits(ed_ws, result)
+    S.write_edits(ed_ws, result, du)
     layout["uncertainty"] = K.write_uncertainty(un_ws, result)
     if result.reconciliation is not None:
         layout["invoice"] = K.write_invoice(wb.create_sheet("Invoice check"), result, du)

@@ -221,6 +221,7 @@ def waterfall_chart(ws, first_row, last_row, cols, title, y_title, y_min=None):
         else:
             _colour(s, colours[part])
     ch.set_categories(_ref(ws, cols["label"], first_row, last_row))
+    ch.y_axis.number_format = "#,##0"
     if y_min is not None:
         ch.y_axis.scaling.min = y_min
     ch.legend = None

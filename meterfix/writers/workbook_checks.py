@@ -98,9 +98,13 @@ def write_uncertainty(ws, result) -> dict:
             rows.append([rec[k] for k in keys])
         first = r + 1
         end = X.write_table(ws, r, 1, headers, rows, fmts)
+        ws.row_dimensions[r].height = 48
         where = {"first": first, "last": end - 1}
         for j, h in enumerate(cols, start=1):
             ws.column_dimensions[X.get_column_letter(j)].width = h[3]
+        ws.column_dimensions["A"].width = 34
+        X.wrap_rows(ws, first, end - 1, [j for j, h in enumerate(cols, start=1) if h[0] in ("source", "uncertainty",
+                                                                                          "input")])
         if "share_pct" in b.columns and "input" in b.columns:
             share_col = X.get_column_letter([h[0] for h in cols].index("share_pct") + 1)
             ch = C.share_chart(ws, first, end - 1, "A", share_col)
@@ -206,8 +210,9 @@ def write_invoice(ws, result, du) -> dict:
     ch = C.waterfall_chart(ws, first, end - 1, cols, "From our figure to the invoice, step by step",
                            f"{'Energy' if on_energy else 'Volume'} [{kind_unit[1]}]", y_min=y_min)
     C.place(ws, ch, f"A{end + 2}")
-    X.set_widths(ws, {1: 30, 2: 18, 3: 14, 4: 16, 5: 16, 6: 16, 7: 44, 8: 14, 9: 24, 10: 14, 11: 14, 12: 12,
+    X.set_widths(ws, {1: 34, 2: 18, 3: 15, 4: 15, 5: 16, 6: 16, 7: 30, 8: 14, 9: 24, 10: 14, 11: 14, 12: 12,
                       13: 14, 14: 12, 15: 14, 16: 12})
+    X.wrap_rows(ws, first, end - 1, [7])
     return {"first": first, "last": end - 1, "columns": cols, "y_min": y_min}
 
 
@@ -273,11 +278,8 @@ def write_corrector(ws, result, du, data_ws=None, interval_block=None, span=None
     rows = [[_cause_text(c["cause"]) if c["cause"] != "none" else "no misconfiguration", c["cause"], c["size_pct"],
              c["score"], None, c["r2"], c["rms_residual_pct"], _params_text(c.get("parameters"))] for c in cc.candidates]
     r = X.write_table(ws, r, 1, head, rows, [None, None, X.FMT_PCT, "0.0", None, "0.0000", "0.0000", None])
-    for row in ws.iter_rows(min_row=1, max_row=r, min_col=1, max_col=1):
-        for cell in row:
-            if isinstance(cell.value, str) and len(cell.value) > 46:
-                cell.alignment = X.Alignment(wrap_text=True, vertical="top")
     if data_ws is not None and interval_block is not None and "ratio" in interval_block.columns:
         C.place(ws, C.corrector_ratio_chart(data_ws, interval_block, span), f"A{r + 2}")
     X.set_widths(ws, {1: 48, 2: 30, 3: 14, 4: 16, 5: 16, 6: 9, 7: 13, 8: 70})
+    X.wrap_rows(ws, 3, r - 1, [1, 2, 8])
     return r

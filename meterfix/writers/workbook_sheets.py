@@ -282,6 +282,7 @@ def write_analyses(ws, result, du) -> None:
                 c.number_format = X.FMT_DATETIME
         rr += 1
     X.set_widths(ws, {1: 32, 2: 12, **{j: 22 for j in range(3, 3 + len(an))}})
+    X.wrap_rows(ws, r + 1, rr - 1, range(3, 3 + len(an)))
 
 
 # ---------------------------------------------------------------------------------------------
@@ -374,27 +375,55 @@ def write_findings(ws, result, du) -> int:
     return r
 
 
-def write_edits(ws, result) -> int:
+#: edit record column → (label, kind of quantity for the display unit)
+EDIT_WHAT = {"pressure_gauge": ("line pressure, gauge", "pressure_gauge"), "pressure_line": ("line pressure", "pressure"),
+             "pressure_atm": ("atmospheric pressure", "pressure"), "temperature_line": ("line temperature", "temperature"),
+             "volume_line": ("uncorrected volume", "volume")}
+
+
+def _edit_value(du, kind, v):
+    if v is None or isinstance(v, str) or kind is None:
+        return v
+    try:
+        f = float(v)
+    except (TypeError, ValueError):
+        return v
+    if not np.isfinite(f):
+        return None
+    return float(du.convert("pressure" if kind == "pressure_gauge" else kind, f))
+
+
+def _edit_unit(du, kind):
+    if kind is None:
+        return ""
+    if kind == "pressure_gauge":
+        return du.label("pressure").replace(" abs", " gauge").replace("psia", "psig")
+    return du.label(kind)
+
+
+def write_edits(ws, result, du=None) -> int:
+    du = du or X.DisplayUnits(result.settings.display_units)
     r = X.section(ws, 1, "Edits: values substituted by the run")
     r = X.note(ws, r, f"Substitution policy: {result.settings.substitution}. Raw values are never overwritten; "
-                      "every substituted value is listed here with its original.", span=6)
+                      "every substituted value is listed here with its original (empty: there was none). Times are "
+                      f"interval ends, local time ({result.settings.timezone}).", span=7)
     e = result.edits
-    headers = ["Time", "What", "Original", "New", "Method", "Reason"]
+    headers = ["Interval end", "What", "Original", "New", "Unit", "Method", "Reason"]
     cols = ["time", "what", "original", "new", "method", "reason"]
+    extra = [c for c in e.columns if c not in cols]
+    headers += extra
     rows = []
     for _, x in e.iterrows():
-        vals = [x.get(c) for c in cols]
-        t = vals[0]
+        t = x.get("time")
         if isinstance(t, pd.Timestamp):
-            vals[0] = (t.tz_convert(result.settings.timezone).tz_localize(None) if t.tzinfo else t).to_pydatetime()
-        rows.append(vals)
-    extra = [c for c in e.columns if c not in cols]
-    if extra:
-        headers += extra
-        rows = [row + [x.get(c) for c in extra] for row, (_, x) in zip(rows, e.iterrows())]
-    r = X.write_table(ws, r + 1, 1, headers, rows, [X.FMT_DATETIME] + [None] * (len(headers) - 1))
+            t = (t.tz_convert(result.settings.timezone).tz_localize(None) if t.tzinfo else t).to_pydatetime()
+        label, kind = EDIT_WHAT.get(str(x.get("what")), (x.get("what"), None))
+        rows.append([t, label, _edit_value(du, kind, x.get("original")), _edit_value(du, kind, x.get("new")),
+                     _edit_unit(du, kind), x.get("method"), x.get("reason")] + [x.get(c) for c in extra])
+    r = X.write_table(ws, r + 1, 1, headers, rows,
+                      [X.FMT_DATETIME, None, "#,##0.000", "#,##0.000"] + [None] * (len(headers) - 4))
     if not rows:
         ws.cell(row=r, column=1, value="No values were substituted.").font = X.NOTE_FONT
         r += 1
-    X.set_widths(ws, {1: 18, 2: 22, 3: 14, 4: 14, 5: 14, 6: 40})
+    X.set_widths(ws, {1: 18, 2: 24, 3: 14, 4: 14, 5: 12, 6: 14, 7: 40})
     return r

@@ -201,6 +201,26 @@ def note(ws, row: int, text: str, col: int = 1, span: int = 6) -> int:
     return row + 1
 
 
+def wrap_rows(ws, first_row: int, last_row: int, columns) -> None:
+    """Wrap long text in ``columns`` (1-based) and give each row the height its lines need.
+
+    Call after the column widths are set. A column is about 1.1 characters per width unit wide.
+    """
+    for r in range(first_row, last_row + 1):
+        lines = 1
+        for j in columns:
+            c = ws.cell(row=r, column=j)
+            if not isinstance(c.value, str):
+                continue
+            width = ws.column_dimensions[get_column_letter(j)].width or 8.43
+            n = max(1, math.ceil(len(c.value) / max(1.0, 1.1 * width)))
+            if n > 1:
+                c.alignment = Alignment(wrap_text=True, vertical="top")
+                lines = max(lines, n)
+        if lines > 1:
+            ws.row_dimensions[r].height = 15 * lines + 1
+
+
 def set_widths(ws, widths: dict) -> None:
     for col, w in widths.items():
         key = get_column_letter(col) if isinstance(col, int) else col
