@@ -182,15 +182,17 @@ def ideal_cv(t, x):
 
 
 def properties(p_pa, t, x):
-    """{'z', 'rho' [mol/m3], 'w' [m/s]} at p [Pa], T [K]; NaN where there is no gas root."""
+    """{'z', 'rho' [mol/m3], 'w' [m/s], 'cv' [J/(mol K)]} at p [Pa], T [K]; NaN where there is
+    no gas root (w also NaN where the equation gives no real speed of sound)."""
     d = density(p_pa / 1000.0, t, x)
     if not math.isfinite(d):
-        return {"z": math.nan, "rho": math.nan, "w": math.nan}
+        return {"z": math.nan, "rho": math.nan, "w": math.nan, "cv": math.nan}
     a, a1, a2, at, atd, att = derivatives(t, d, x, mixture_parameters(x))
     z = 1 + a1
     slope = 1 + 2 * a1 + a2  # (dP/dD) / (R T)
     dpdt = 1 + atd  # (dP/dT) / (D R)
     cv = ideal_cv(t, x) - att
     cp = cv + dpdt ** 2 / slope
-    w = math.sqrt(cp / cv * slope * R * t / molar_mass(x))
-    return {"z": z, "rho": d * 1000.0, "w": w}
+    w2 = cp / cv * slope * R * t / molar_mass(x)
+    w = math.sqrt(w2) if w2 > 0 and cv > 0 else math.nan
+    return {"z": z, "rho": d * 1000.0, "w": w, "cv": cv * R}

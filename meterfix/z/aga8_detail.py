@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import contextlib
 import os
+from functools import lru_cache
 
 import numpy as np
 
@@ -67,6 +68,8 @@ DELTA_MAX = 5.0
 STEP_TOL_HALLEY = 1e-5
 STEP_TOL_NEWTON = 1e-8
 MAX_ITER = 80
+#: Halley steps of the unguarded first pass (pipeline states converge in two or three)
+FAST_STEPS = 4
 _REASON_DTYPE = "<U16"
 #: at most this many threads by default
 MAX_WORKERS = 4
@@ -142,15 +145,16 @@ def _z_functions(ws: _Workspace, w: np.ndarray, delta: np.ndarray, parts: int):
 
 
 def _initial_delta(virial: np.ndarray, pi: np.ndarray) -> np.ndarray:
-    """Start from the low-density series Z = 1 + b1 delta + b2 delta^2 (falls back to ideal gas)."""
+    """Start from the low-density series Z = 1 + b1 delta + b2 delta^2 (falls back to ideal gas):
+    the root of the quadratic truncation, then two Newton steps on the cubic."""
     b1, b2 = virial[0], virial[1]
-    d = pi.copy()
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        for _ in range(6):
+        d = 2.0 * pi / (1.0 + np.sqrt(1.0 + 4.0 * b1 * pi))
+        for _ in range(2):
             f = d * (1.0 + d * (b1 + b2 * d)) - pi
             fp = 1.0 + d * (2.0 * b1 + 3.0 * b2 * d)
-            d = d - f / np.where(fp > 0.05, fp, np.nan)
-        ok = np.isfinite(d) & (d > 0.25 * pi) & (d < 4.0 * pi) & (d < DELTA_MAX)
+            d = d - f / fp
+        ok = (d > 0.25 * pi) & (d < 4.0 * pi) & (d < DELTA_MAX) & (fp > 0.05)
     return np.where(ok, d, pi)
 
 
@@ -160,62 +164,127 @@ def _t_powers(t_u: np.ndarray) -> np.ndarray:
     return np.exp(out, out=out)
 
 
-def _solve_block(mix: DetailMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray, sound: bool):
-    """Gas-phase root and properties for one block of valid points (p in Pa, t in K)."""
-    n = p.size
+def _distinct_temperatures(t: np.ndarray):
+    """(distinct temperatures, inverse index) where temperatures repeat a lot, else (t, None).
+
+    Sorting costs about as much as the per-point temperature terms, so a sample of the block
+    decides first whether the repeats are worth it (logged temperatures often repeat)."""
+    sample = t[:256]
+    if np.unique(sample).size > 0.25 * sample.size:
+        return t, None
     t_u, inv = np.unique(t, return_inverse=True)
-    spread = t_u.size <= 0.75 * n
-    if not spread:
-        t_u, inv = t, None
-    tp = _t_powers(t_u)
-    w_all = mix.coef.T @ tp  # (25, m)
-    virial = mix.virial.T @ tp
-    if spread:
-        w_all = np.take(w_all, inv, axis=1)
-        virial = np.take(virial, inv, axis=1)
-    pi = mix.k3 * p / (1000.0 * R_DETAIL * t)  # delta of an ideal gas
-    delta = _initial_delta(virial, pi)
+    if t_u.size > 0.25 * t.size:
+        return t, None
+    return t_u, inv
+
+
+def _fast_solve(ws: _Workspace, w_all: np.ndarray, d0: np.ndarray, lnpi: np.ndarray):
+    """Unguarded Halley steps in ln(delta) from the low-density start, for every point.
+
+    From the second step on, a point whose step is below the tolerance at a valid state is done
+    (the error of the result is ~ step^3 < 1e-15) and leaves the active set; a point at an
+    invalid state (Z <= 0 or dp/drho <= 0) leaves it unconverged. Returns the reduced densities
+    and the mask of converged points; the others go to the safeguarded solve.
+    """
+    n = d0.size
+    delta = d0.copy()
+    conv_all = np.zeros(n, dtype=bool)
     act = np.arange(n)
-    d, lo, hi, lnpi = delta.copy(), np.zeros(n), np.full(n, DELTA_MAX), np.log(pi)
+    d, w, lp = d0, w_all, lnpi
+    for it in range(FAST_STEPS):
+        zm1, dz, d2z = _z_functions(ws, w, d, 3)
+        z = 1.0 + zm1
+        rz = 1.0 / z
+        f = np.log(d * z) - lp  # ln(p / p_target)
+        f1 = 1.0 + dz * rz  # d f / d ln(delta) = (dp/drho) / (rho R T Z)
+        dzr = dz * rz
+        corr = 1.0 - 0.5 * f * (d2z * rz - dzr * dzr) / (f1 * f1)
+        step = -f / (f1 * corr)
+        new = d * np.exp(step)
+        if it == 0:
+            d = new
+            continue
+        valid = (z > 0) & (f1 > 0) & (corr > 0.5) & (corr < 2.0)
+        conv = valid & (np.abs(step) < STEP_TOL_HALLEY * np.minimum(1.0, f1))
+        delta[act] = new
+        conv_all[act] = conv
+        keep = valid & ~conv
+        if not keep.any():
+            break
+        act, d, lp = act[keep], new[keep], lp[keep]
+        w = np.take(w_all, act, axis=1)
+    return delta, conv_all
+
+
+def _safe_solve(ws: _Workspace, w_all: np.ndarray, delta: np.ndarray, lnpi: np.ndarray):
+    """Safeguarded solve: Halley (or Newton) steps in ln(delta) kept inside a bracket
+    [lo, hi] of the root, bisection where a step leaves it. ``delta`` holds the start and
+    receives the roots. Returns the masks (converged, no root in the bracket); the rest did
+    not converge."""
+    n = delta.size
+    act = np.arange(n)
+    d, lo, hi = delta.copy(), np.zeros(n), np.full(n, DELTA_MAX)
     w = w_all
     done = np.zeros(n, dtype=bool)
     failed = np.zeros(n, dtype=bool)
+    for _ in range(MAX_ITER):
+        if act.size == 0:
+            break
+        zm1, dz, d2z = _z_functions(ws, w, d, 3)
+        z = 1.0 + zm1
+        s = z + dz  # (dp/drho)_T / (R T)
+        good = np.isfinite(s) & np.isfinite(d2z) & (z > 0) & (s > 0)
+        f = np.where(good, np.log(np.where(good, d * z, 1.0)) - lnpi, 0.0)  # ln(p / p_target)
+        f1 = s / z
+        f2 = d2z / z - (dz / z) ** 2
+        newton = np.where(good, -f / f1, 0.0)
+        corr = 1.0 - 0.5 * f * f2 / (f1 * f1)
+        halley = (corr > 0.5) & (corr < 2.0)
+        step = np.where(halley, newton / corr, newton)
+        hi = np.where(~good | (f > 0), np.minimum(hi, d), hi)
+        lo = np.where(good & (f < 0), np.maximum(lo, d), lo)
+        new = d * np.exp(step)
+        tol = np.where(halley, STEP_TOL_HALLEY, STEP_TOL_NEWTON) * np.minimum(1.0, f1)
+        # a converged step may round onto a bracket end: accept it there too
+        conv = good & (np.abs(step) < tol) & (new >= lo) & (new <= hi)
+        bisect = ~conv & (~good | ~(new > lo) | ~(new < hi))
+        new = np.where(bisect, 0.5 * (lo + hi), new)
+        collapsed = ~conv & (hi - lo < 1e-13 * hi)
+        delta[act] = new
+        done[act[conv]] = True
+        failed[act[collapsed]] = True
+        keep = ~(conv | collapsed)
+        if not keep.all():
+            act, d, lo, hi, lnpi = act[keep], new[keep], lo[keep], hi[keep], lnpi[keep]
+            w = np.take(w_all, act, axis=1)
+        else:
+            d = new
+    return done, failed
+
+
+def _solve_block(mix: DetailMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray, sound: bool):
+    """Gas-phase root and properties for one block of valid points (p in Pa, t in K)."""
+    n = p.size
+    t_u, inv = _distinct_temperatures(t)
+    tp = _t_powers(t_u)
+    wv = mix.coef_virial_t @ tp  # (27, m): the 25 column coefficients, then b1 and b2
+    if inv is not None:
+        wv = np.take(wv, inv, axis=1)
+    w_all, virial = wv[:N_COL], wv[N_COL:]
+    pi = mix.k3 * p / (1000.0 * R_DETAIL * t)  # delta of an ideal gas
+    lnpi = np.log(pi)
     with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        for _ in range(MAX_ITER):
-            if act.size == 0:
-                break
-            zm1, dz, d2z = _z_functions(ws, w, d, 3)
-            z = 1.0 + zm1
-            s = z + dz  # (dp/drho)_T / (R T)
-            good = np.isfinite(s) & np.isfinite(d2z) & (z > 0) & (s > 0)
-            f = np.where(good, np.log(np.where(good, d * z, 1.0)) - lnpi, 0.0)  # ln(p / p_target)
-            f1 = s / z
-            f2 = d2z / z - (dz / z) ** 2
-            newton = np.where(good, -f / f1, 0.0)
-            corr = 1.0 - 0.5 * f * f2 / (f1 * f1)
-            halley = (corr > 0.5) & (corr < 2.0)
-            step = np.where(halley, newton / corr, newton)
-            hi = np.where(~good | (f > 0), np.minimum(hi, d), hi)
-            lo = np.where(good & (f < 0), np.maximum(lo, d), lo)
-            new = d * np.exp(step)
-            tol = np.where(halley, STEP_TOL_HALLEY, STEP_TOL_NEWTON) * np.minimum(1.0, f1)
-            conv = good & (np.abs(step) < tol) & (new >= lo) & (new <= hi)
-            bisect = ~conv & (~good | ~(new > lo) | ~(new < hi))
-            new = np.where(bisect, 0.5 * (lo + hi), new)
-            collapsed = ~conv & (hi - lo < 1e-13 * hi)
-            delta[act] = new
-            done[act[conv]] = True
-            failed[act[collapsed]] = True
-            keep = ~(conv | collapsed)
-            if not keep.all():
-                act, d, lo, hi, lnpi = act[keep], new[keep], lo[keep], hi[keep], lnpi[keep]
-                w = np.take(w_all, act, axis=1)
-            else:
-                d = new
-    reason = np.full(n, "", dtype=_REASON_DTYPE)
-    reason[failed] = REASON_NO_GAS_ROOT
-    reason[act] = REASON_NO_CONVERGENCE
-    ok = done
+        d0 = _initial_delta(virial, pi)
+        delta, ok = _fast_solve(ws, w_all, d0, lnpi)
+        rest = np.flatnonzero(~ok)
+        reason = np.full(n, "", dtype=_REASON_DTYPE)
+        if rest.size:
+            sub = d0[rest]
+            done, failed = _safe_solve(ws, w_all[:, rest], sub, lnpi[rest])
+            delta[rest] = sub
+            ok[rest] = done
+            reason[rest[failed]] = REASON_NO_GAS_ROOT
+            reason[rest[~done & ~failed]] = REASON_NO_CONVERGENCE
     _reject_dense_roots(mix, ws, w_all, delta, t, ok, reason)
     z = np.full(n, np.nan)
     snd = np.full(n, np.nan)
@@ -223,12 +292,12 @@ def _solve_block(mix: DetailMixture, ws: _Workspace, p: np.ndarray, t: np.ndarra
     if i.size and not sound:
         z[i] = pi[i] / delta[i]
     elif i.size:
-        if spread:
+        if inv is not None:
             ideal = _ideal_cv(mix, t_u)[inv[i]]
             tsel = tp[:, inv[i]]
         else:
             ideal = _ideal_cv(mix, t[i])
-            tsel = tp[:, i]
+            tsel = tp if i.size == n else tp[:, i]
         w_i = w_all if i.size == n else w_all[:, i]
         z[i], snd[i] = _properties(mix, ws, w_i, mix.coef_t1.T @ tsel, mix.coef_t2.T @ tsel, ideal, delta[i], t[i])
         bad = ~np.isfinite(z[i]) | (z[i] <= 0)
@@ -304,7 +373,12 @@ def _properties(mix: DetailMixture, ws: _Workspace, w, w1, w2, ideal, delta, t):
 
 def composition_range(fractions) -> int:
     """Range class (0 normal, 1 extended, 2 outside) of a composition by the DETAIL limits."""
-    x = np.asarray(fractions, dtype=float)
+    return _composition_range(np.ascontiguousarray(fractions, dtype=float).tobytes())
+
+
+@lru_cache(maxsize=512)
+def _composition_range(key: bytes) -> int:
+    x = np.frombuffer(key, dtype=float)
     groups = {g: float(sum(x[INDEX[c]] for c in comps)) for g, comps in _GROUPS.items()}
     for cls, limits in ((NORMAL, NORMAL_COMPOSITION), (EXTENDED, EXTENDED_COMPOSITION)):
         if all(lo - _LIMIT_SLACK <= groups[g] <= hi + _LIMIT_SLACK for g, (lo, hi) in limits.items()):
@@ -330,23 +404,35 @@ def _worker_count(workers, n_blocks: int) -> int:
     return max(1, min(int(workers), n_blocks))
 
 
-def run_blocks(run, blocks, n_work: int) -> None:
-    """Run ``run(list_of_blocks)`` on ``n_work`` threads (numpy releases the GIL in its loops);
-    BLAS is held to one thread per worker meanwhile."""
-    if n_work <= 1:
-        if blocks:
-            run(blocks)
-        return
-    from concurrent.futures import ThreadPoolExecutor
+_CONTROLLER = []
 
+
+def _blas_single_thread():
+    """Context holding the BLAS library to one thread: the matrix products here are small
+    (inner size 25-27), so BLAS threads only add hand-over costs, and on a busy machine a lot."""
     try:
-        from threadpoolctl import threadpool_limits
-        limits = threadpool_limits(limits=1, user_api="blas")
+        from threadpoolctl import ThreadpoolController
     except ImportError:  # pragma: no cover - threadpoolctl is a dependency
-        limits = contextlib.nullcontext()
-    with limits, ThreadPoolExecutor(max_workers=n_work) as ex:
-        for f in [ex.submit(run, blocks[k::n_work]) for k in range(n_work)]:
-            f.result()
+        return contextlib.nullcontext()
+    if not _CONTROLLER:
+        _CONTROLLER.append(ThreadpoolController())
+    return _CONTROLLER[0].limit(limits=1, user_api="blas")
+
+
+def run_blocks(run, blocks, n_work: int) -> None:
+    """Run ``run(list_of_blocks)`` on ``n_work`` threads (numpy releases the GIL in its loops),
+    with BLAS held to one thread meanwhile."""
+    if not blocks:
+        return
+    with _blas_single_thread():
+        if n_work <= 1:
+            run(blocks)
+            return
+        from concurrent.futures import ThreadPoolExecutor
+
+        with ThreadPoolExecutor(max_workers=n_work) as ex:
+            for f in [ex.submit(run, blocks[k::n_work]) for k in range(n_work)]:
+                f.result()
 
 
 def z_aga8_detail(pressure, temperature, composition, *, speed_of_sound: bool = True,

@@ -108,6 +108,7 @@ class DetailMixture:
     coef_t1 : ndarray (26, 25)       (1 - u) coef: W + T dW/dT
     coef_t2 : ndarray (26, 25)       u (u - 1) coef: T^2 d2(T W)/dT2 / T
     virial : ndarray (26, 2)         T^-u @ virial = (b1, b2) of Z = 1 + b1 delta + b2 delta^2 + ...
+    coef_virial_t : ndarray (27, 26) [coef, virial] transposed, for one matrix product per block
     ideal_const : float              sum x_i (n3_i - 1): constant part of cv0 / R
     ideal_sinh_coef, ideal_sinh_theta, ideal_cosh_coef, ideal_cosh_theta : ndarray
         x_i n_k and theta_k [K] of the hyperbolic terms of cv0 / R
@@ -121,6 +122,7 @@ class DetailMixture:
     coef_t1: np.ndarray
     coef_t2: np.ndarray
     virial: np.ndarray
+    coef_virial_t: np.ndarray
     ideal_const: float
     ideal_sinh_coef: np.ndarray
     ideal_sinh_theta: np.ndarray
@@ -169,6 +171,7 @@ def _build(fractions: np.ndarray) -> DetailMixture:
                 t_list.append(th)
     arrays = dict(fractions=x.copy(), coef=coef, coef_t1=coef * (1.0 - ue), coef_t2=coef * (ue * (ue - 1.0)),
                   virial=coef @ np.stack([v1, v2], axis=1),
+                  coef_virial_t=np.ascontiguousarray(np.concatenate([coef, coef @ np.stack([v1, v2], axis=1)], axis=1).T),
                   ideal_sinh_coef=np.array(sinh_c), ideal_sinh_theta=np.array(sinh_t),
                   ideal_cosh_coef=np.array(cosh_c), ideal_cosh_theta=np.array(cosh_t))
     for a in arrays.values():

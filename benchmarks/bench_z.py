@@ -1,0 +1,169 @@
+"""Speed and peak memory of every registered Z method, and the ratio to the plain scalar code.
+
+For each method in the registry: points per second and peak memory (tracemalloc, a separate run
+so that tracing does not slow the timed one) at 10^3, 10^5 and 10^6 points (--quick: 10^3 and
+10^5), for one composition and for 100 compositions (the points split into 100 equal groups,
+one call per group, as the month pipeline calls a method once per analysis period). Then the
+equations of state against their scalar test versions (tests/scalar_*.py) on a small sample in
+the same run, and the DETAIL / GERG-2008 variants (Z only, distinct temperatures).
+
+Points: pressure uniform 0.1-12 MPa, temperature uniform 263-313 K rounded to 0.01 K (a
+logger's resolution); a lean pipeline gas, and 100 variations of it. Speed is never asserted:
+the machine is shared, so the load average is printed with the figures.
+
+    python benchmarks/bench_z.py [--quick] [--methods aga8-detail,gerg-2008]
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import sys
+import time
+import tracemalloc
+from pathlib import Path
+
+import numpy as np
+
+sys.path.insert(0, str(Path(__file__).resolve().parents[1] / "tests"))
+
+from meterfix.gas.composition import Composition  # noqa: E402
+from meterfix.z import get_method, method_names  # noqa: E402
+from meterfix.z.aga8_gross import characterize  # noqa: E402
+
+BASE_GAS = {"methane": 0.93, "ethane": 0.035, "propane": 0.008, "nitrogen": 0.015, "carbon_dioxide": 0.012}
+#: targets of the issue at 10^6 points, one composition [points/s]
+TARGETS = {"aga8-detail": 2.0e6, "gerg-2008": 5.0e5}
+PEAK_TARGET_MB = 1024.0
+
+
+def points(n: int, rng, distinct: bool = False):
+    p = rng.uniform(0.1e6, 12e6, n)
+    t = rng.uniform(263.0, 313.0, n)
+    return p, (t if distinct else np.round(t, 2))
+
+
+def compositions(k: int, rng) -> list[Composition]:
+    """The base gas and k - 1 variations (methane 88-96 %, the rest scaled)."""
+    out = [Composition.from_mapping(BASE_GAS)]
+    others = {c: v for c, v in BASE_GAS.items() if c != "methane"}
+    for _ in range(k - 1):
+        ch4 = rng.uniform(0.88, 0.96)
+        scale = rng.uniform(0.5, 1.5, len(others))
+        rest = np.array(list(others.values())) * scale
+        rest *= (1.0 - ch4) / rest.sum()
+        out.append(Composition.from_mapping({"methane": ch4, **dict(zip(others, rest))}))
+    return out
+
+
+def gas_for(method, comp: Composition):
+    """What the method takes: the composition, or its GROSS characterisation."""
+    if method.gas_input == "gross":
+        return characterize(comp).characterization
+    return comp
+
+
+def run_groups(method, p, t, gases, **options):
+    groups = np.array_split(np.arange(p.size), len(gases))
+    for g, gas in zip(groups, gases):
+        method.evaluate(p[g], t[g], gas, **options)
+
+
+def measure(fn, n: int):
+    """(points per second, peak traced memory [MB])."""
+    fn()  # warm up (caches per composition, imports)
+    repeats = max(1, min(20, int(3e5 // n)))
+    best = np.inf
+    for _ in range(repeats):
+        t0 = time.perf_counter()
+        fn()
+        best = min(best, time.perf_counter() - t0)
+    tracemalloc.start()
+    tracemalloc.reset_peak()
+    fn()
+    peak = tracemalloc.get_traced_memory()[1] / 2 ** 20
+    tracemalloc.stop()
+    return n / best, peak
+
+
+def scalar_rate(module, comp: Composition, rng, n: int = 20) -> float:
+    """Points per second of a scalar test implementation on a small sample."""
+    p, t = points(n, rng)
+    x = list(comp.fractions)
+    t0 = time.perf_counter()
+    for k in range(n):
+        module.properties(float(p[k]), float(t[k]), x)
+    return n / (time.perf_counter() - t0)
+
+
+def fmt_rate(r: float) -> str:
+    return f"{r / 1e6:8.3f} M/s" if r >= 1e5 else f"{r / 1e3:8.1f} k/s"
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--quick", action="store_true", help="10^3 and 10^5 points only")
+    ap.add_argument("--methods", default="", help="comma-separated registry names (default: all)")
+    args = ap.parse_args()
+    sizes = [10 ** 3, 10 ** 5] if args.quick else [10 ** 3, 10 ** 5, 10 ** 6]
+    names = [m.strip() for m in args.methods.split(",") if m.strip()] or method_names()
+    rng = np.random.default_rng(2026)
+    gases = compositions(100, rng)
+    data = {n: points(n, rng) for n in sizes}
+    load = os.getloadavg()
+    print(f"meterfix Z methods: {os.cpu_count()} CPU(s), load average {load[0]:.2f} {load[1]:.2f} {load[2]:.2f}")
+    print(f"{'method':18s} {'points':>9s} {'one composition':>16s} {'peak MB':>8s} {'100 compositions':>17s} {'peak MB':>8s}")
+    rates: dict[tuple[str, int], float] = {}
+    peaks: dict[tuple[str, int], float] = {}
+    for name in names:
+        m = get_method(name)
+        one = gas_for(m, gases[0])
+        many = [gas_for(m, g) for g in gases]
+        for n in sizes:
+            p, t = data[n]
+            r1, m1 = measure(lambda: m.evaluate(p, t, one), n)
+            r100, m100 = measure(lambda: run_groups(m, p, t, many), n)
+            rates[(name, n)], peaks[(name, n)] = r1, m1
+            print(f"{name:18s} {n:9d} {fmt_rate(r1):>16s} {m1:8.1f} {fmt_rate(r100):>17s} {m100:8.1f}")
+
+    # the equations of state against their plain scalar test versions, same run
+    import scalar_aga8_detail
+    import scalar_gerg2008
+
+    print("\nvectorized / scalar test implementation (scalar timed on 20 points)")
+    for name, module in (("aga8-detail", scalar_aga8_detail), ("gerg-2008", scalar_gerg2008)):
+        if name not in names:
+            continue
+        s = scalar_rate(module, gases[0], rng)
+        cells = "  ".join(f"10^{int(np.log10(n))}: {rates[(name, n)] / s:9.0f} x" for n in sizes)
+        print(f"{name:18s} scalar {fmt_rate(s)}   {cells}")
+
+    # variants of the two equations of state at the largest size
+    n = sizes[-1]
+    p, t = data[n]
+    _, t_distinct = points(n, rng, distinct=True)
+    print(f"\nvariants at {n} points, one composition")
+    for name in ("aga8-detail", "gerg-2008"):
+        if name not in names:
+            continue
+        m = get_method(name)
+        for label, tt, opts in (("logged T, Z only", t, {"speed_of_sound": False}),
+                                ("distinct T, with speed of sound", t_distinct, {}),
+                                ("distinct T, Z only", t_distinct, {"speed_of_sound": False}),
+                                ("logged T, one thread", t, {"workers": 1})):
+            r, mem = measure(lambda: m.evaluate(p, tt, gases[0], **opts), n)
+            print(f"{name:18s} {label:34s} {fmt_rate(r):>12s} {mem:8.1f} MB")
+
+    print("\ntargets at 10^6 points, one composition (with speed of sound, logged temperatures)")
+    for name, target in TARGETS.items():
+        key = (name, 10 ** 6)
+        if key not in rates:
+            print(f"{name:18s} not measured (run without --quick)")
+            continue
+        ok = rates[key] >= target and peaks[key] <= PEAK_TARGET_MB
+        print(f"{name:18s} {fmt_rate(rates[key])} (target {fmt_rate(target)}), peak {peaks[key]:.0f} MB "
+              f"(target {PEAK_TARGET_MB:.0f} MB): {'met' if ok else 'NOT met'}")
+
+
+if __name__ == "__main__":
+    main()
