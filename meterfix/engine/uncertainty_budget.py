@@ -284,7 +284,8 @@ def build_model(result, parsed) -> IntervalModel:
             notes.append(f"{int(high.sum())} interval(s) above Qmax, outside the meter's rated range: the "
                          "meter_below_qt figure is used there")
     else:
-        add("meter", m_spec, float(np.sum(vl)), "m3", m_spec.standard_at(ones), 1.0, 1.0, np.ones(n, bool))
+        add("meter", m_spec, float(np.sum(vl)), "m3", m_spec.standard_at(ones), 1.0, 1.0, np.ones(n, bool),
+            label="meter")
     _relative_only(m_spec)
 
     # ---- line pressure, atmospheric pressure, temperature --------------------------------------

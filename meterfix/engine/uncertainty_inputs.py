@@ -37,7 +37,7 @@ SQRT6 = math.sqrt(6.0)
 
 #: setting key -> (label in the budget, kind of absolute value accepted or None, default correlation)
 INPUT_KEYS = {
-    "meter": ("meter", None, "systematic"),
+    "meter": ("meter, rated flow range", None, "systematic"),
     "meter_below_qt": ("meter, below Qt or above Qmax", None, "systematic"),
     "pressure": ("line pressure", "pressure", "systematic"),
     "atmospheric": ("atmospheric pressure", "pressure", "systematic"),
