@@ -337,9 +337,12 @@ def test_coverage_interval_indices_and_tolerance():
     # JCGM 101 §7.7.1: q = pM, r = (M - q)/2; y_low = y_(r), y_high = y_(r+q) (1-based)
     vals = np.arange(1.0, 1001.0)
     assert coverage_interval(vals, 0.95) == (25.0, 975.0)
-    # JCGM 101 §7.9.2 example: u = 0.35 with n_dig = 2 gives delta = 0.005 (= ½·10^-2)
+    # JCGM 101 §7.9.2 rule: u = c·10^l with c an integer of n_dig digits, delta = ½·10^l. Worked by
+    # hand: u = 0.35 → c = 35, l = -2 → 0.005; one digit: c = 4, l = -1 → 0.05; u = 0.0996 rounds
+    # to 0.10 = 10·10^-2 at two digits → 0.005
     assert numerical_tolerance(0.35, 2) == pytest.approx(0.005)
     assert numerical_tolerance(0.35, 1) == pytest.approx(0.05)
+    assert numerical_tolerance(0.0996, 2) == pytest.approx(0.005)
 
 
 # ---------------------------------------------------------------------------------------------
@@ -370,7 +373,7 @@ def test_random_components_shrink_systematic_do_not(volumes, frac, k):
     assert sys3 == pytest.approx(sysm, rel=1e-12)
 
 
-def test_gas_day_random_part_larger_than_month():
+def test_gas_day_and_month_by_hand():
     _, _, model = _budget([100.0] * 72)
     days = np.repeat(np.arange(3), 24)
     u_days = combined_relative(model, groups=days)
