@@ -492,7 +492,17 @@ def term_variance(term: Term, weights: np.ndarray, sensitivity: np.ndarray, grou
 
 
 def interval_variance(model: IntervalModel, energy: bool = False) -> np.ndarray:
-    """Relative variance of each interval's base volume (or energy) [-] (k = 1, squared)."""
+    """Relative variance of each interval's base volume (or energy), k = 1, squared.
+
+    Parameters
+    ----------
+    model : IntervalModel
+    energy : bool    the energy instead of the base volume
+
+    Returns
+    -------
+    ndarray (n,) [-]
+    """
     v = np.zeros(model.volume.size)
     for t in model.terms:
         c = t.c_energy if energy else t.c_volume
@@ -503,7 +513,17 @@ def interval_variance(model: IntervalModel, energy: bool = False) -> np.ndarray:
 
 
 def budget_frame(model: IntervalModel, energy: bool = False) -> pd.DataFrame:
-    """One row per input: value, uncertainty, distribution, sensitivity, contribution, share."""
+    """One row per input: value, uncertainty, distribution, sensitivity, contribution, share.
+
+    Parameters
+    ----------
+    model : IntervalModel
+    energy : bool    the budget of the month's energy instead of its base volume
+
+    Returns
+    -------
+    DataFrame   columns :data:`BUDGET_COLUMNS` (values SI, uncertainties and contributions in %)
+    """
     w = model.energy if energy else model.volume
     total = float(np.sum(w))
     rows = []
@@ -539,7 +559,18 @@ def budget_frame(model: IntervalModel, energy: bool = False) -> pd.DataFrame:
 
 
 def combined_relative(model: IntervalModel, energy: bool = False, groups=None):
-    """Combined relative standard uncertainty (k = 1) of the month total, or of each group's total."""
+    """Combined relative standard uncertainty (k = 1) of the month total, or of each group's total.
+
+    Parameters
+    ----------
+    model : IntervalModel
+    energy : bool                    the energy instead of the base volume
+    groups : ndarray (n,) of int, optional   group code per used interval (e.g. gas day), 0..G-1
+
+    Returns
+    -------
+    float or ndarray (G,) [-]
+    """
     w = model.energy if energy else model.volume
     if groups is None:
         var = 0.0

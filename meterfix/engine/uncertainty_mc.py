@@ -85,7 +85,17 @@ def numerical_tolerance(u: float, n_dig: int = 2) -> float:
 
 
 def coverage_interval(sorted_values: np.ndarray, p: float = 0.95):
-    """Probabilistically symmetric coverage interval from sorted draws (JCGM 101 §7.7.1)."""
+    """Probabilistically symmetric coverage interval from sorted draws (JCGM 101 §7.7.1).
+
+    Parameters
+    ----------
+    sorted_values : ndarray [unit of the result]   model values, ascending
+    p : float [-]                                  coverage probability
+
+    Returns
+    -------
+    (low, high) [unit of the result]
+    """
     M = sorted_values.size
     q = int(p * M + 0.5)
     r = (M - q) // 2 if (M - q) % 2 == 0 else (M - q + 1) // 2
@@ -94,7 +104,17 @@ def coverage_interval(sorted_values: np.ndarray, p: float = 0.95):
 
 
 def shortest_interval(sorted_values: np.ndarray, p: float = 0.95):
-    """Shortest coverage interval from sorted draws (JCGM 101 §7.7.2)."""
+    """Shortest coverage interval from sorted draws (JCGM 101 §7.7.2).
+
+    Parameters
+    ----------
+    sorted_values : ndarray [unit of the result]   model values, ascending
+    p : float [-]                                  coverage probability
+
+    Returns
+    -------
+    (low, high) [unit of the result]
+    """
     M = sorted_values.size
     q = int(p * M + 0.5)
     if q >= M:
