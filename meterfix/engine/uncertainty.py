@@ -8,8 +8,8 @@ whether the figure is a default and where it comes from), the same per gas day a
 and a Monte Carlo propagation (JCGM 101) that validates the GUM result.
 
 Inputs and their settings: see :mod:`meterfix.engine.uncertainty_inputs`; the measurement model,
-sensitivities and correlation classes: :mod:`meterfix.engine.uncertainty_budget`; the Monte Carlo:
-:mod:`meterfix.engine.uncertainty_mc`.
+sensitivities and correlation classes: :mod:`meterfix.engine.uncertainty_budget` (the composition:
+:mod:`meterfix.engine.uncertainty_composition`); the Monte Carlo: :mod:`meterfix.engine.uncertainty_mc`.
 
 What the figures cover, and what they do not: the inputs listed in the budget, within the ranges
 of their stated distributions. An estimated interval carries the meter's figure and the estimated

@@ -14,8 +14,8 @@ Relative sensitivity coefficients c = ∂ln V_b / ∂ln x:
 * composition through Z_f, Z_b and the heating value together: each mole fraction is perturbed
   by a factor exp(±h) and the analysis renormalised to sum 1 before Z is evaluated (the sum-to-one
   constraint is kept, the balance component absorbs the change); ∂ln Hm/∂ε_j = x_j (Hm_j/Hm − 1)
-  is analytic. Where the heating value was computed from the analysis at the contract base, H is
-  proportional to 1/Z_b and Z_b cancels from the energy.
+  is analytic (:mod:`meterfix.engine.uncertainty_composition`). Where the heating value was computed
+  from the analysis at the contract base, H is proportional to 1/Z_b and Z_b cancels from the energy.
 
 Each input is a :class:`Term` with one or more independent sub-sources (rows): a row is either
 *correlated* across intervals (one error shared by every interval it touches; a systematic input,
@@ -41,8 +41,6 @@ from .uncertainty_inputs import ATMOSPHERIC_DEFAULTS, HEATING_VALUE_DEFAULTS, IN
 
 #: step in ln p and ln T for the central differences of ln Z
 STEP_PT = 1e-3
-#: step in the log-perturbation of one mole fraction
-STEP_COMPOSITION = 1e-2
 
 BUDGET_COLUMNS = ["input", "setting", "value", "unit", "uncertainty", "standard_uncertainty_pct", "distribution",
                   "type", "correlation", "sensitivity", "contribution_pct", "share_pct", "interval_contribution_pct",
@@ -351,7 +349,9 @@ def build_model(result, parsed) -> IntervalModel:
         h_spec = parsed.resolve("heating_value", *dflt)
         uh = h_spec.standard_at(h)
         _analysis_term(model, add, "heating_value", h_spec, _wmean(h, w), "J/m3", uh, 0.0, 1.0, in_volume=False)
-    _composition_term(model, result, parsed, add, method.name)
+    from .uncertainty_composition import composition_term
+
+    composition_term(model, result, parsed, add, method.name)
 
     # ---- estimated intervals ---------------------------------------------------------------
     e_spec = parsed.resolve("estimated")
@@ -381,84 +381,6 @@ def _analysis_term(model, add, key, spec, value, unit, u, cv, ce, in_volume=True
         add(key, spec, value, unit, U, cv, ce, applies, in_volume=in_volume, rows_mode="correlated")
     else:
         add(key, spec, value, unit, u, cv, ce, applies, in_volume=in_volume, rows_mode="correlated")
-
-
-def _composition_term(model, result, parsed, add, method_name):
-    """Composition: every mole fraction perturbed and renormalised; through Z_f, Z_b and H."""
-    from ..gas.composition import Composition
-
-    n = model.volume.size
-    comps = {a: an.gas for a, an in enumerate(result.analyses) if isinstance(an.gas, Composition)}
-    if not comps:
-        if any(an.gas is not None for an in result.analyses):
-            model.notes.append("the gas is a gross characterisation: the uncertainty of its inputs is not in the "
-                               "budget (only the heating value's)")
-        return
-    spec = parsed.resolve("composition")
-    _relative_only(spec)
-    hcomp = _component_heating_values(result.settings)
-    present = sorted({j for g in comps.values() for j in np.flatnonzero(g.fractions > 0)})
-    A = model.n_analyses
-    g_line = np.zeros((len(present), n))
-    g_base = np.zeros((len(present), A))
-    g_hm = np.zeros((len(present), A))
-    s = result.settings
-    h = STEP_COMPOSITION
-    for a, gas in comps.items():
-        sel = model.analysis == a
-        x = gas.fractions
-        hm = float(x @ hcomp) if hcomp is not None else np.nan
-        for r, j in enumerate(present):
-            if x[j] <= 0:
-                continue
-            if hcomp is not None and hm > 0:
-                g_hm[r, a] = x[j] * (hcomp[j] / hm - 1.0)
-            if method_name == "ideal":
-                continue
-            lz = []
-            for sign in (1.0, -1.0):
-                xp = x.copy()
-                xp[j] *= np.exp(sign * h)
-                g = Composition.from_array(xp / xp.sum(), unit="fraction")
-                pts_p = np.concatenate([[s.pressure_base], model.pressure[sel]])
-                pts_t = np.concatenate([[s.temperature_base], model.temperature[sel]])
-                with np.errstate(invalid="ignore", divide="ignore"):
-                    lz.append(np.log(np.asarray(evaluate_z(pts_p, pts_t, g, method_name).z, float)))
-            d = (lz[0] - lz[1]) / (2 * h)
-            g_base[r, a] = d[0] if np.isfinite(d[0]) else 0.0
-            g_line[r, sel] = np.where(np.isfinite(d[1:]), d[1:], 0.0)
-    rows_a = np.ones((len(present), 1), bool)
-    if spec.correlation == "random" and A > 1:
-        # one independent error per analysis and component: rows (component, analysis)
-        rows_a = np.eye(A, dtype=bool)[None, :, :].repeat(len(present), 0).reshape(-1, A)
-        g_line = np.repeat(g_line, A, 0) * (model.analysis[None, :] == np.tile(np.arange(A), len(present))[:, None])
-        g_base = np.repeat(g_base, A, 0) * rows_a
-        g_hm = np.repeat(g_hm, A, 0) * rows_a
-    R = g_line.shape[0]
-    cv = g_base[:, model.analysis] - g_line
-    hv_of = model.hv_from_composition[model.analysis]
-    ce = np.where(hv_of[None, :], g_hm[:, model.analysis], g_base[:, model.analysis]) - g_line
-    applies = np.isin(model.analysis, list(comps))
-    u = np.where(applies[None, :], spec.standard, 0.0) * np.ones((R, 1))
-    if spec.correlation == "random" and A > 1:
-        u = u * (model.analysis[None, :] == np.tile(np.arange(A), len(present))[:, None])
-    model.comp_line, model.comp_base, model.comp_hm = g_line, g_base, g_hm
-    add("composition", spec, np.nan, "mol/mol", u, cv, ce, applies,
-        text=f"{spec.text} of each mole fraction, renormalised", rows_mode="correlated")
-    if method_name == "ideal":
-        model.notes.append("ideal method: Z does not depend on the composition; the composition acts on the "
-                           "heating value only")
-
-
-def _component_heating_values(settings):
-    try:
-        from .. import energy as E
-    except ImportError:
-        return None
-    f = getattr(E, "component_heating_values", None)
-    if f is not None:
-        return np.asarray(f(settings.temperature_combustion), float)
-    return np.asarray(getattr(E, "GROSS_MOLAR_25C"), float)
 
 
 # ---------------------------------------------------------------------------------------------
