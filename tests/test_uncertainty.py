@@ -180,6 +180,12 @@ def test_atmospheric_pressure_for_gauge_logs_by_hand():
     row = _row(u.budget, "atmospheric")
     assert row["is_default"] and "kPa" in row["uncertainty"]
     assert u.expanded_pct == pytest.approx(200 * 1000.0 / (5e5 + 98e3), rel=1e-9)
+    # a logged barometer: its own default, 0.2 kPa (k = 2) (common practice, from memory)
+    fb = f.assign(pressure_atm=98e3)
+    rb = _run(fb, unc, method="ideal")
+    ub = month_uncertainty(rb, draws=2000, max_draws=2000)
+    assert _row(ub.budget, "atmospheric")["uncertainty"] == "0.2 kPa"
+    assert ub.expanded_pct == pytest.approx(200 * 100.0 / (5e5 + 98e3), rel=1e-9)
     # an absolute log has no atmospheric row
     r2 = _run(_frame(n=12), {}, method="ideal")
     assert "atmospheric" not in set(month_uncertainty(r2, draws=2000, max_draws=2000).budget["setting"])
@@ -296,6 +302,10 @@ def test_monte_carlo_agrees_with_gum_on_the_demo_month():
     assert mc["d_low"] <= mc["tolerance"] and mc["d_high"] <= mc["tolerance"]
     # the standard deviation of M normal-ish draws scatters by about 1/sqrt(2M) = 0.5 %
     assert mc["standard_uncertainty_pct"] == pytest.approx(u.expanded_pct / 2, rel=0.02)
+    # energy from the same trials: heating value from the analysis, Z_b cancels, composition enters
+    # through Z_f and the molar heating value
+    assert mc["energy"]["standard_uncertainty_pct"] == pytest.approx(u.expanded_energy_pct / 2, rel=0.02)
+    assert _row(u.energy_budget, "base_z")["contribution_pct"] == 0.0
     assert mc["gum_agrees"] is True and mc["validation"] == "agrees"
     assert mc["coverage_interval_m3"][0] < y < mc["coverage_interval_m3"][1]
     assert abs(mc["expanded_pct"] - 1.96 / 2 * u.expanded_pct) <= mc["tolerance_pct"]
