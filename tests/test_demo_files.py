@@ -57,7 +57,12 @@ def test_demo_runs_the_whole_job(demo_run):
     wb = load_workbook(out / "FV-M1_2026-10.xlsx")
     assert {"Invoice check", "Corrector check", "Edits"} <= set(wb.sheetnames)
     ws = wb["Edits"]
-    assert sum(1 for row in ws.iter_rows(values_only=True) if row[5] and "interpolate" in str(row[4])) == d["edits"]
+    edits = [row for row in ws.iter_rows(values_only=True) if row[5] == "interpolate"]
+    assert len(edits) == d["edits"]
+    # edits in display units: an interpolated line temperature in degC lies between its neighbours' values
+    temps = [row[3] for row in edits if row[1] == "line temperature"]
+    assert [row[4] for row in edits if row[1] == "line temperature"] == ["°C"] * 6
+    assert all(0.0 < t < 30.0 for t in temps)
 
 
 def test_demo_manifest_reruns_byte_identically(demo_run, tmp_path):
