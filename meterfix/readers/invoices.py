@@ -29,10 +29,8 @@ an unreadable value raise :class:`meterfix.errors.InputError` naming file, sheet
 
 from __future__ import annotations
 
-import csv
 import datetime as _dt
 import hashlib
-import io
 import re
 from dataclasses import dataclass, field
 from pathlib import Path
@@ -98,42 +96,15 @@ class InvoiceMetadata:
 
 # ---------------------------------------------------------------------------------------------
 def _raw_rows(path: Path):
-    """The file as a list of rows of cell values, and the sheet name (None for CSV)."""
-    suffix = path.suffix.lower()
-    if suffix in (".xlsx", ".xlsm"):
-        import openpyxl
+    """The file as a list of rows of cell values, and the sheet name (None for CSV).
 
-        try:
-            wb = openpyxl.load_workbook(path, read_only=True, data_only=True)
-        except Exception as exc:  # noqa: BLE001 - openpyxl raises several types for a bad file
-            raise InputError(f"cannot open the workbook: {exc}", file=path,
-                             hint="save it as .xlsx or .csv and try again") from None
-        try:
-            ws = wb.worksheets[0]
-            for name in wb.sheetnames:
-                if "invoice" in name.lower() or "billing" in name.lower():
-                    ws = wb[name]
-                    break
-            rows = [list(r) for r in ws.iter_rows(values_only=True)]
-            return rows, ws.title
-        finally:
-            wb.close()
-    if suffix in (".csv", ".txt", ".tsv"):
-        raw = path.read_bytes()
-        try:
-            text = raw.decode("utf-8-sig")
-        except UnicodeDecodeError:
-            text = raw.decode("cp1252", errors="replace")
-        sample = text[:4096]
-        try:
-            dialect = csv.Sniffer().sniff(sample, delimiters=",;\t")
-            delim = dialect.delimiter
-        except csv.Error:
-            delim = ","
-        rows = [r for r in csv.reader(io.StringIO(text), delimiter=delim)]
-        return [[c if c.strip() != "" else None for c in r] for r in rows], None
-    raise InputError(f"unsupported invoice file type '{path.suffix}'", file=path,
-                     hint="give a .csv or .xlsx file in the invoice template layout")
+    Read through :func:`meterfix.readers.tables.read_rows`: the shared file checks (magic bytes,
+    zip limits, encodings, delimiter sniffing); a workbook's sheet named like 'invoice' or
+    'billing' is used, else its first sheet.
+    """
+    from .tables import read_rows
+
+    return read_rows(path, sheet_words=("invoice", "billing"))
 
 
 def _split_header(cell) -> tuple[str, str]:

@@ -40,7 +40,6 @@ import csv
 import hashlib
 import io
 import re
-import zipfile
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
@@ -49,42 +48,10 @@ import numpy as np
 import pandas as pd
 
 from ..errors import InputError
+from .filecheck import (DEFAULT_LIMITS, TEXT_SUFFIXES, WORKBOOK_SUFFIXES, ZIP_SUFFIXES,  # noqa: F401
+                        Limits, check_zip, sniff_format)
 
-TEXT_SUFFIXES = (".csv", ".txt", ".tsv", ".dat")
-ZIP_SUFFIXES = (".xlsx", ".xlsm", ".ods")
-WORKBOOK_SUFFIXES = ZIP_SUFFIXES + (".xls",)
-_ZIP_MAGIC = b"PK\x03\x04"
-_OLE_MAGIC = b"\xd0\xcf\x11\xe0\xa1\xb1\x1a\xe1"
-_ENCRYPTED = "EncryptedPackage".encode("utf-16-le")
-_DTD_MARKS = (b"<!DOCTYPE", b"<!ENTITY", "<!DOCTYPE".encode("utf-16-le"), "<!ENTITY".encode("utf-16-le"))
 _EMPTY_TEXT = ("", "-", "--", "---", "n/a", "na", "null", "none", "nan", "#n/a")
-
-
-@dataclass(frozen=True)
-class Limits:
-    """Safety limits of the table reader.
-
-    Attributes
-    ----------
-    max_unpacked_bytes : int [byte]   declared unpacked size of all members of a zip workbook
-    max_ratio : float [-]             largest packing ratio of a member above 1 MiB unpacked
-    max_members : int                 members of a zip workbook
-    max_rows : int                    rows of one table
-    max_text_bytes : int [byte]       size of a text table
-    header_scan_rows : int            rows searched for the header
-    verify_zip : bool                 inflate every member once to check its declared size
-    """
-
-    max_unpacked_bytes: int = 500 * 2**20
-    max_ratio: float = 200.0
-    max_members: int = 10_000
-    max_rows: int = 5_000_000
-    max_text_bytes: int = 1 * 2**30
-    header_scan_rows: int = 40
-    verify_zip: bool = True
-
-
-DEFAULT_LIMITS = Limits()
 
 
 @dataclass
@@ -164,104 +131,6 @@ def _find_header(rows, score: Callable, scan: int) -> tuple[int, float]:
     return best_i, best_s
 
 
-# ---------------------------------------------------------------------------------------------
-def sniff_format(head: bytes, suffix: str, name) -> str:
-    """'zip', 'ole', 'text' from the first bytes, checked against the extension."""
-    suffix = suffix.lower()
-    if not head:
-        raise InputError("the file is empty", file=name, hint="export the log again; the file has no bytes")
-    is_zip = head.startswith(_ZIP_MAGIC)
-    is_ole = head.startswith(_OLE_MAGIC)
-    if suffix in ZIP_SUFFIXES:
-        if is_zip:
-            return "zip"
-        if is_ole:
-            if _ENCRYPTED in head:
-                raise InputError("the workbook is password-protected (encrypted)", file=name,
-                                 hint="open it in the spreadsheet program, remove the password and save a copy")
-            raise InputError(f"the file is an old binary .xls workbook saved with the '{suffix}' extension",
-                             file=name, hint="rename it to .xls, or save it again as .xlsx")
-        if _text_like(head):
-            raise InputError(f"the file is text (CSV?) saved with the '{suffix}' extension", file=name,
-                             hint="rename it to .csv, or open it and save it as a workbook")
-        raise InputError(f"the file is not a '{suffix}' workbook (its first bytes do not match)", file=name,
-                         hint="the file may be damaged: export it again")
-    if suffix == ".xls":
-        if is_ole:
-            return "ole"
-        if is_zip:
-            raise InputError("the file is an .xlsx/.ods workbook saved with the '.xls' extension", file=name,
-                             hint="rename it to .xlsx")
-        if _text_like(head):
-            raise InputError("the file is text (CSV?) saved with the '.xls' extension", file=name,
-                             hint="rename it to .csv")
-        raise InputError("the file is not an .xls workbook (its first bytes do not match)", file=name,
-                         hint="the file may be damaged: export it again")
-    if suffix in TEXT_SUFFIXES:
-        if is_zip or is_ole:
-            kind = "an .xlsx/.ods" if is_zip else "an .xls"
-            raise InputError(f"the file is {kind} workbook saved with the '{suffix}' extension", file=name,
-                             hint="rename it to " + (".xlsx" if is_zip else ".xls"))
-        if not _text_like(head):
-            raise InputError("not a text table (the file holds binary data)", file=name,
-                             hint="give a CSV/TXT export or a workbook (.xlsx, .xls, .ods)")
-        return "text"
-    raise InputError(f"unsupported file type '{suffix or '(none)'}'", file=name,
-                     hint="give a .csv, .txt, .tsv, .xlsx, .xlsm, .xls or .ods file")
-
-
-def _text_like(head: bytes) -> bool:
-    if head.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
-        return True
-    if b"\x00" in head:
-        return False
-    ctrl = sum(1 for b in head if b < 32 and b not in (9, 10, 13, 12))
-    return ctrl <= max(2, len(head) // 200)
-
-
-def check_zip(fileobj, name, limits: Limits = DEFAULT_LIMITS) -> None:
-    """Refuse a zip workbook that is corrupt or would unpack to more than the limits allow."""
-    try:
-        zf = zipfile.ZipFile(fileobj)
-    except (zipfile.BadZipFile, OSError, ValueError) as exc:
-        raise InputError(f"the workbook is damaged (not a readable zip file: {exc})", file=name,
-                         hint="open it in the spreadsheet program and save it again, or export a CSV") from None
-    with zf:
-        infos = zf.infolist()
-        if len(infos) > limits.max_members:
-            raise InputError(f"the workbook has {len(infos)} parts, more than {limits.max_members}", file=name,
-                             hint="this does not look like a log workbook; export the sheet as CSV")
-        total = sum(i.file_size for i in infos)
-        if total > limits.max_unpacked_bytes:
-            raise InputError(f"the workbook would unpack to {total / 2**20:.0f} MiB, more than the limit of "
-                             f"{limits.max_unpacked_bytes / 2**20:.0f} MiB", file=name,
-                             hint="split the log into monthly files, or export it as CSV")
-        for i in infos:
-            if i.file_size > 2**20 and i.file_size > limits.max_ratio * max(i.compress_size, 1):
-                raise InputError(f"workbook part '{i.filename}' is packed {i.file_size / max(i.compress_size, 1):.0f}:1, "
-                                 f"more than the limit of {limits.max_ratio:.0f}:1 (a zip bomb?)", file=name,
-                                 hint="do not open this file; ask the sender for a plain export")
-        buf = bytearray(2**20)
-        for i in infos:
-            try:
-                with zf.open(i) as fh:
-                    head = fh.read(65536)
-                    if i.filename.lower().endswith((".xml", ".rels")) and any(m in head for m in _DTD_MARKS):
-                        raise InputError(f"workbook part '{i.filename}' declares a DTD or entities, which no "
-                                         "workbook needs (an XML entity attack?)", file=name,
-                                         hint="do not open this file; ask the sender for a plain export")
-                    if limits.verify_zip:
-                        while fh.readinto(buf):
-                            pass
-            except InputError:
-                raise
-            except (zipfile.BadZipFile, NotImplementedError, RuntimeError, OSError, EOFError) as exc:
-                raise InputError(f"the workbook is damaged or encrypted (part '{i.filename}': {exc})", file=name,
-                                 hint="open it in the spreadsheet program and save it again") from None
-            except Exception as exc:  # noqa: BLE001 - zlib.error and friends
-                raise InputError(f"the workbook is damaged (part '{i.filename}': {exc})", file=name,
-                                 hint="open it in the spreadsheet program and save it again") from None
-
 
 # ---------------------------------------------------------------------------------------------
 def read_table(path, sheet=None, *, header_score: Callable | None = None, prefer=(),
@@ -323,6 +192,66 @@ def parse_table(fileobj, *, name: str = "<table>", suffix: str | None = None, sh
         t = _parse_workbook(data, name, suffix, sheet, score, prefer, limits)
     t.sha256 = sha
     return t
+
+
+def read_rows(path, *, sheet_words=(), limits: Limits = DEFAULT_LIMITS) -> tuple[list, str | None]:
+    """Every row of a table file as a list of cell values (None for an empty cell).
+
+    For readers that find their own header (the invoice reader). The same file checks as
+    :func:`read_table` apply (magic bytes, zip limits, encodings, delimiter sniffing).
+
+    Parameters
+    ----------
+    path : str or Path
+    sheet_words : tuple of str   a workbook's first sheet whose name contains one of these words
+                                 (case-insensitive) is read, else its first sheet
+    limits : Limits
+
+    Returns
+    -------
+    (rows, sheet name or None)
+    """
+    p = Path(path)
+    if not p.exists():
+        raise InputError("file not found", file=p, hint="check the path")
+    data = p.read_bytes()
+    name = str(p)
+    kind = sniff_format(data[:8192], p.suffix, name)
+    if kind == "text":
+        text, _ = _decode(data, name)
+        if not text.strip():
+            raise InputError("the file is empty", file=name)
+        lines = text.splitlines()
+        if len(lines) > limits.max_rows + limits.header_scan_rows:
+            raise InputError(f"the file has {len(lines)} lines, more than the limit of {limits.max_rows} rows",
+                             file=name)
+        delim = _sniff_delimiter(lines[: limits.header_scan_rows + 30])
+        rows = list(csv.reader(io.StringIO(text), delimiter=delim))
+        return [[c if c.strip() != "" else None for c in r] for r in rows], None
+    if kind == "zip":
+        check_zip(io.BytesIO(data), name, limits)
+    try:
+        wb = _open_calamine(data, name)
+        names = list(wb.sheet_names)
+
+        def rows_of(n):
+            return _sheet_rows_calamine(wb, n)[0]
+    except _CalamineFailed as exc:
+        if p.suffix.lower() not in (".xlsx", ".xlsm"):
+            raise InputError(f"cannot read the workbook: {exc}", file=name,
+                             hint="open it in the spreadsheet program and save it again, or export a CSV") from None
+        _, names, _, rows_of2 = _openpyxl_fallback(data, name, exc)
+
+        def rows_of(n):
+            return rows_of2(n)[0]
+    if not names:
+        raise InputError("the workbook has no sheets", file=name)
+    chosen = next((n for n in names if any(w in n.lower() for w in sheet_words)), names[0])
+    rows = rows_of(chosen)
+    if len(rows) > limits.max_rows + limits.header_scan_rows:
+        raise InputError(f"sheet '{chosen}' has {len(rows)} rows, more than the limit of {limits.max_rows}",
+                         file=name, sheet=chosen)
+    return [[None if (isinstance(c, str) and c.strip() == "") or c is None else c for c in r] for r in rows], chosen
 
 
 # ---------------------------------------------------------------------------------------------
