@@ -178,7 +178,10 @@ def month_uncertainty(result, *, draws: int = 100_000, seed: int = 2026, progres
         mc["coverage_interval_m3"] = mc["coverage_interval"]
         mc["shortest_interval_m3"] = mc["shortest_interval"]
         mc["gum_interval_m3"] = mc["gum_interval"]
-        if not mc["gum_agrees"]:
+        if not mc["numerically_stable"]:
+            notes.append(f"after {mc['draws']} Monte Carlo trials the 95 % interval is not numerically stable to "
+                         "the tolerance: the comparison with the GUM result is not decided (give more draws)")
+        elif not mc["gum_agrees"]:
             notes.append("the Monte Carlo 95 % interval differs from the GUM interval by more than the numerical "
                          "tolerance: quote the Monte Carlo interval (JCGM 101 §8)")
     else:
