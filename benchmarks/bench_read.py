@@ -100,6 +100,10 @@ def main(argv=None):
         print(f"  read_log            {t_ours:7.2f} s  {a.csv_rows / t_ours:12,.0f} rows/s")
         print(f"  pandas.read_csv     {t_pd:7.2f} s  {a.csv_rows / t_pd:12,.0f} rows/s")
         print(f"  ratio read_log / pandas time: {t_ours / t_pd:.2f}")
+        from meterfix.engine.quality import apply_quality
+
+        t_q, _ = timed(apply_quality, f, policy="interpolate")
+        print(f"  apply_quality       {t_q:7.2f} s  {a.csv_rows / t_q:12,.0f} rows/s  (flags + interpolation)")
 
         dx = df.iloc[: a.xlsx_rows]
         xlsx_path = tmp / "log.xlsx"

@@ -126,3 +126,19 @@ def test_bad_policy():
 def test_limits_are_settable(faults):
     q, _ = apply_quality(faults, limits=QualityLimits(temperature=(273.15, 300.0), stuck_intervals=20))
     assert q["flag_temperature_range"].sum() == 2 and q["flag_stuck"].sum() == 0  # 38 degC and 150 degC
+
+
+def test_spike_rate_on_white_noise_and_microsecond_index():
+    # a modified z-score above 3.5 is rare for Gaussian noise (two-sided normal tail beyond ~3.5
+    # standard deviations: about 0.05 %; Iglewicz & Hoaglin 1993); a single 10-sigma step is caught
+    rng = np.random.default_rng(7)
+    n = 20000
+    idx = pd.date_range("2026-10-01", periods=n, freq="min", tz="UTC").as_unit("us")
+    frame = pd.DataFrame({"pressure_gauge": 30e5 + 1e3 * rng.standard_normal(n),
+                          "temperature_line": 285.0 + 0.1 * rng.standard_normal(n),
+                          "volume_line": 10.0 + 0.1 * rng.standard_normal(n), "duration": 60.0}, index=idx)
+    frame.iloc[500, 0] += 1e4
+    frame = frame.drop(frame.index[[1000, 1001]])
+    q, _ = apply_quality(frame)
+    assert q["flag_spike"].mean() < 0.005 and q["flag_spike"].iat[500]
+    assert q["flag_gap"].sum() == 2 and len(q) == n  # gaps found whatever the index unit
