@@ -293,3 +293,14 @@ def test_time_column_alone_with_dates_and_bad_zone():
     assert list(f.index.hour) == [7, 8]
     with pytest.raises(SettingsError, match="unknown time zone"):
         parse_log(io.BytesIO(text.encode()), name="t.csv", timezone="Mars/Olympus")
+
+
+def test_start_label_does_not_move_index_readings():
+    text = "Interval end,P [bar(g)],T [degC],Meter index [m3]\n" + "".join(
+        f"2026-10-08 {h:02d}:00,2,10,{1000 + 10 * h}\n" for h in range(5))
+    f, m = parse_log(io.BytesIO(text.encode()), name="i.csv", interval_label="start")
+    # header says 'Interval end' anyway; with a neutral header the readings stay where they are
+    g, n = parse_log(io.BytesIO(text.replace("Interval end", "Timestamp").encode()), name="i.csv",
+                     interval_label="start")
+    assert list(g.index.hour) == [1, 2, 3, 4] and any("instants" in x for x in n.notes)
+    assert g["volume_line"].tolist() == [10.0] * 4

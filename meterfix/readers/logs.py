@@ -415,7 +415,9 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits):
     if "volume_line" in df:
         is_index &= df["volume_line"].isna().to_numpy()
     # start labels → end: forward spacing within each file (in time order)
-    start = (df["label"] == "start").to_numpy()
+    start = (df["label"] == "start").to_numpy() & ~is_index  # index readings are instants
+    if ((df["label"] == "start").to_numpy() & is_index).any():
+        meta.notes.append("index readings are instants: a start label does not apply to them")
     pos_sp = np.diff(np.sort(np.unique(t))) / 1e9
     pos_sp = pos_sp[pos_sp > 0]
     nominal = float(np.median(pos_sp)) if len(pos_sp) else np.nan
@@ -437,8 +439,6 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits):
             d = np.where(np.isfinite(own[order]) & (own[order] > 0), own[order], d)
             t[order] = t[order] + np.round(d * 1e9).astype(np.int64)
             own[order] = d
-        if is_index[start].any():
-            meta.notes.append("index readings are instants: a start label does not apply to them")
     df["time"] = t
     df["duration"] = own
     # join in time order; first occurrence (file order, then row) wins
