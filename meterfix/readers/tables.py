@@ -353,7 +353,7 @@ def _parse_text(data: bytes, name, score, limits: Limits) -> RawTable:
     df = df.reset_index(drop=True)
     if not len(df):
         raise InputError("the table has a header but no data rows", file=name, row=hi + 1,
-                         hint="the export holds no intervals; check the period exported")
+                         hint="fill in rows below the header, or check the period exported")
     if len(df) > limits.max_rows:
         raise InputError(f"the table has {len(df)} rows, more than the limit of {limits.max_rows}", file=name,
                          hint="split it into monthly files")
@@ -430,7 +430,7 @@ def _parse_workbook(data: bytes, name, suffix, sheet, score, prefer, limits: Lim
         rownum = rownum[nonempty]
     if not len(df):
         raise InputError("the table has a header but no data rows", file=name, sheet=chosen, row=hi + 1,
-                         hint="the sheet holds no intervals; check the period exported")
+                         hint="fill in rows below the header, or check the period exported")
     return RawTable(file=str(name), sheet=chosen, header_row=hi + 1, header=header, cells=df, rows=rownum,
                     notes=notes, kind="workbook", decimal=_decimal_of(df), sheets=names)
 
