@@ -418,7 +418,7 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits):
     start = (df["label"] == "start").to_numpy() & ~is_index  # index readings are instants
     if ((df["label"] == "start").to_numpy() & is_index).any():
         meta.notes.append("index readings are instants: a start label does not apply to them")
-    pos_sp = np.diff(np.sort(np.unique(t))) / 1e9
+    pos_sp = np.diff(np.sort(t)) / 1e9  # (np.sort, not np.unique: hashing 10^6 stamps is slow)
     pos_sp = pos_sp[pos_sp > 0]
     nominal = float(np.median(pos_sp)) if len(pos_sp) else np.nan
     own = df["duration"].to_numpy(float) if "duration" in df else np.full(len(df), np.nan)
@@ -432,7 +432,7 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits):
         df["duration"] = np.nan
     own = df["duration"].to_numpy(float).copy()
     if start.any():
-        for k in np.unique(df["source_file"][start]):
+        for k in pd.unique(df["source_file"].to_numpy()[start]):
             sel = np.flatnonzero(start & (df["source_file"].to_numpy() == k))
             order = sel[np.argsort(t[sel], kind="stable")]
             d = _spacing_durations(t[order], nominal, np.zeros(len(order), bool), backward=False)
@@ -556,7 +556,7 @@ def _finish(df: pd.DataFrame, meta: LogMetadata) -> pd.DataFrame:
     if "status" in df:
         out["status"] = df["status"].fillna("").to_numpy(dtype=object)
         files = [s["file"] for s in meta.sources]
-        nz = np.flatnonzero(out["status"].to_numpy(dtype=str) != "")
+        nz = np.flatnonzero(out["status"].to_numpy(dtype=object) != "")
         for i in nz[:_MAX_RECORDED]:
             meta.status.append({"time": idx[i].isoformat(), "file": files[int(df["source_file"].iat[i])],
                                 "row": int(df["source_row"].iat[i]), "text": str(out["status"].iat[i])})

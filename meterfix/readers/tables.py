@@ -346,7 +346,7 @@ def _parse_text(data: bytes, name, score, limits: Limits) -> RawTable:
     if len(df):
         nonempty = np.zeros(len(df), bool)
         for j in df.columns:
-            nonempty |= df[j].to_numpy(dtype=str) != ""
+            nonempty |= df[j].to_numpy(dtype=object) != ""
         if not nonempty.all():
             df = df[nonempty]
             rows = rows[nonempty]
