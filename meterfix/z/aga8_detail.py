@@ -372,7 +372,12 @@ def _properties(mix: DetailMixture, ws: _Workspace, w, w1, w2, ideal, delta, t):
 
 
 def composition_range(fractions) -> int:
-    """Range class (0 normal, 1 extended, 2 outside) of a composition by the DETAIL limits."""
+    """Range class (0 normal, 1 extended, 2 outside) of a composition by the DETAIL limits.
+
+    Parameters
+    ----------
+    fractions : ndarray (21,) [mol/mol]   mole fractions in canonical order
+    """
     return _composition_range(np.ascontiguousarray(fractions, dtype=float).tobytes())
 
 
@@ -387,7 +392,14 @@ def _composition_range(key: bytes) -> int:
 
 
 def range_classes(pressure, temperature, fractions) -> np.ndarray:
-    """Range class of every point: the worse of the (p, T) class and the composition class."""
+    """Range class of every point: the worse of the (p, T) class and the composition class.
+
+    Parameters
+    ----------
+    pressure : float or ndarray [Pa]
+    temperature : float or ndarray [K]
+    fractions : ndarray (21,) [mol/mol]
+    """
     p = np.asarray(pressure, dtype=float)
     t = np.asarray(temperature, dtype=float)
     out = np.full(np.broadcast(p, t).shape, OUTSIDE, dtype=np.int8)

@@ -131,7 +131,12 @@ class DetailMixture:
 
 
 def mixture_parameters(x: np.ndarray):
-    """K^3 [L/mol], U [K], G, Q, F and Bs (18) of the DETAIL mixing rules for mole fractions x."""
+    """K^3 [L/mol], U [K], G, Q, F and Bs (18) of the DETAIL mixing rules.
+
+    Parameters
+    ----------
+    x : ndarray (21,) [mol/mol]   mole fractions in canonical order
+    """
     k5 = (x @ _S["k25"]) ** 2 + x @ _S["k_bin"] @ x
     u5 = (x @ _S["e25"]) ** 2 + x @ _S["u_bin"] @ x
     g = x @ _S["g"] + x @ _S["g_bin"] @ x
