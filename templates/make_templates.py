@@ -166,7 +166,7 @@ SETTING_EXAMPLES = {
     "meter": '"FV-M1"', "site": '"Fennick Valley kiln works (invented)"', "base": '"normal-0c"',
     "base_pressure": '"101.325 kPa"', "base_temperature": '"0 degC"', "atmospheric_pressure": '"98.5 kPa"',
     "elevation": '"240 m"', "use_barometer": "true", "timezone": '"Europe/Berlin"', "gas_day_start": '"06:00"',
-    "interval_label": '"end"', "method": '"gerg-2008"', "heating_value": '"40.5 MJ/m3"',
+    "interval_label": '"end"', "method": '"aga8-detail"', "heating_value": '"40.5 MJ/m3"',
     "heating_value_reference_temperature": '"0 degC"', "heating_value_reference_pressure": '"101.325 kPa"',
     "combustion_temperature": '"25 degC"', "ideal_gas_threshold": "0.5", "substitution": '"none"',
     "max_gap_intervals": "3", "price": '"35 EUR/MWh"', "invoice_tolerance": "1.0", "fail_on": "1.0",
