@@ -304,3 +304,10 @@ def test_start_label_does_not_move_index_readings():
                      interval_label="start")
     assert list(g.index.hour) == [1, 2, 3, 4] and any("instants" in x for x in n.notes)
     assert g["volume_line"].tolist() == [10.0] * 4
+
+
+def test_header_of_unknown_names_is_reported_with_what_was_found():
+    text = "Heron Fen M4 (invented)\nZeit;Druck;Grad;Menge\n01.10.2026 07:00;1,5;10;5\n"
+    with pytest.raises(InputError, match="missing required column") as e:
+        parse_log(io.BytesIO(text.encode()), name="de.csv")
+    assert e.value.row == 2 and "'Druck' (not used)" in e.value.hint and "--column" in e.value.hint

@@ -193,3 +193,9 @@ def test_utf16_bom_is_text():
     t = parse_table(io.BytesIO(codecs.BOM_UTF16_LE + "A\tB\n1\t2\n".encode("utf-16-le")), name="x.txt")
     assert t.encoding == "utf-16" and t.header == ["A", "B"]
     assert np.array_equal(t.rows, [2])
+
+
+def test_rows_wider_than_the_header_are_noted():
+    t = parse_table(_bytes("A,B\n1,2\n3,4,99\n5,6\n"), name="w.csv")
+    assert list(t.cells[0]) == ["1", "3", "5"] and list(t.rows) == [2, 3, 4]
+    assert any("beyond the last header column (first: row 3)" in n for n in t.notes)

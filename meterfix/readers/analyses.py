@@ -42,7 +42,7 @@ from ..gas.composition import _LUMPED, Composition
 from ..gas.gross import GrossCharacterization
 from ..units import parse_unit
 from .columns import _candidates, _norm
-from .tables import DEFAULT_LIMITS, Limits, RawTable, parse_table, to_numbers
+from .tables import DEFAULT_LIMITS, Limits, RawTable, default_header_score, parse_table, to_numbers
 from .times import localize, parse_datetimes
 
 _COMPONENT_WORDS = {"component", "components", "name", "species", "compound", "gas component", "constituent"}
@@ -97,7 +97,7 @@ def _score(cells) -> float:
             if (_component(name) or k in _COMPONENT_WORDS or k in _AMOUNT_WORDS or k in _TIME_WORDS
                     or any(k in g[0] for g in _GROSS.values())):
                 n += 1
-    return float(n) if n >= 2 else 0.0
+    return 100.0 * (float(n) if n >= 2 else 0.0) + default_header_score(cells)
 
 
 def read_analyses(path, *, timezone: str = "UTC", sheet=None, limits: Limits = DEFAULT_LIMITS):

@@ -53,7 +53,7 @@ import pandas as pd
 
 from ..errors import InputError, SettingsError
 from .columns import ColumnMapping, _key, map_columns, require_log_columns
-from .tables import DEFAULT_LIMITS, Limits, RawTable, parse_table, to_numbers
+from .tables import DEFAULT_LIMITS, Limits, RawTable, default_header_score, parse_table, to_numbers
 from .times import localize, parse_clock, parse_datetimes, parse_dates
 
 #: numeric canonical columns read from a log
@@ -117,7 +117,12 @@ class LogMetadata:
 
 # ---------------------------------------------------------------------------------------------
 def _score(cells) -> float:
-    """Header score for a log: number of cells read as a known quantity."""
+    """Header score for a log: 100 x the cells read as a known quantity (at least two), plus the
+    plain text-cell count, so that a header of unknown names is still found and reported."""
+    return 100.0 * _known(cells) + default_header_score(cells)
+
+
+def _known(cells) -> float:
     from .columns import read_header
 
     n = 0

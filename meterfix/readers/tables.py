@@ -40,6 +40,7 @@ import csv
 import hashlib
 import io
 import re
+import warnings
 from dataclasses import dataclass, field
 from pathlib import Path
 from typing import Callable
@@ -332,13 +333,19 @@ def _parse_text(data: bytes, name, score, limits: Limits) -> RawTable:
     # skip the physical lines up to and including the header (csv rows == lines in this part)
     skip = hi + 1
     try:
-        df = pd.read_csv(io.StringIO(text), sep=delim, header=None, skiprows=skip, names=list(range(width)),
-                         dtype=str, keep_default_na=False, na_filter=False, skip_blank_lines=False,
-                         engine="c", index_col=False)
+        with warnings.catch_warnings():
+            warnings.simplefilter("error", pd.errors.ParserWarning)  # never drop cells silently
+            df = pd.read_csv(io.StringIO(text), sep=delim, header=None, skiprows=skip, names=list(range(width)),
+                             dtype=str, keep_default_na=False, na_filter=False, skip_blank_lines=False,
+                             engine="c", index_col=False)
         rows = np.arange(skip + 1, skip + 1 + len(df), dtype=np.int64)
-    except (pd.errors.ParserError, ValueError):
+    except (pd.errors.ParserError, pd.errors.ParserWarning, ValueError):
         # rows wider than the header or odd quoting: the csv module, slower but forgiving
         recs = list(csv.reader(io.StringIO(text), delimiter=delim))[skip:]
+        wide = [k for k, r in enumerate(recs) if len(r) > width and any(c.strip() for c in r[width:])]
+        if wide:
+            notes.append(f"{len(wide)} row(s) have cells beyond the last header column (first: row "
+                         f"{skip + 1 + wide[0]}); those cells were not read")
         recs = [(r + [""] * width)[:width] for r in recs]
         df = pd.DataFrame(recs, columns=list(range(width)), dtype=object)
         rows = np.arange(skip + 1, skip + 1 + len(df), dtype=np.int64)
