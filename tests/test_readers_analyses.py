@@ -108,3 +108,23 @@ def test_several_analyses_need_times_and_distinct_times():
     text = "Effective from,methane [mol%],ethane [mol%]\n2026-10-01 06:00,98,2\n2026-10-01 06:00,97,3\n"
     with pytest.raises(InputError, match="same effective-from"):
         parse_analyses(io.BytesIO(text.encode()), name="a.csv")
+
+
+def test_analysis_periods_cover_the_right_intervals():
+    """An analysis effective from 02.10.2026 06:00 CEST (04:00 UTC) covers intervals starting then or later."""
+    from meterfix.engine.pipeline import run_month
+    from meterfix.engine.settings import build_settings
+    from meterfix.readers import read_log
+
+    logs = Path(__file__).resolve().parent.parent / "fixtures" / "logs"
+    frame, _ = read_log([logs / f"fv_m1_part{k}.csv" for k in (1, 2, 3)], timezone="Europe/Berlin")
+    text = ("Effective from;methane [mol%];ethane [mol%];nitrogen [mol%]\n01.10.2026 06:00;95;3;2\n"
+            "02.10.2026 06:00;94;4;2\n")
+    analyses = parse_analyses(io.BytesIO(text.encode()), name="a.csv", timezone="Europe/Berlin")
+    s = build_settings(None, {"base": "normal-0c", "elevation": "100 m", "timezone": "Europe/Berlin",
+                              "method": "gerg-2008"})
+    res = run_month(frame, analyses, s)
+    a = res.intervals["analysis"]
+    assert a.loc[pd.Timestamp("2026-10-02 04:00", tz="UTC")] == 0  # 05:00-06:00 CEST: the first analysis
+    assert a.loc[pd.Timestamp("2026-10-02 05:00", tz="UTC")] == 1  # 06:00-07:00 CEST: the second
+    assert (a == 0).sum() == 24 and (a == 1).sum() == 48

@@ -311,3 +311,20 @@ def test_header_of_unknown_names_is_reported_with_what_was_found():
     with pytest.raises(InputError, match="missing required column") as e:
         parse_log(io.BytesIO(text.encode()), name="de.csv")
     assert e.value.row == 2 and "'Druck' (not used)" in e.value.hint and "--column" in e.value.hint
+
+
+def test_xlsm_and_serial_numbers_in_a_workbook(tmp_path):
+    import openpyxl
+
+    wb = openpyxl.Workbook()
+    ws = wb.active
+    ws.title = "Log"
+    ws.append(["Interval end", "Line pressure [bar(g)]", "Line temperature [degC]", "Uncorrected volume [m3]"])
+    for k in range(3):
+        ws.append([46296.25 + k / 24, 4.5, 12.0, 100.0 + k])  # serial day numbers stored as plain numbers
+    p = tmp_path / "fv_m1.xlsm"
+    wb.save(p)
+    f, m = read_log(p, timezone="UTC")
+    # days since 1899-12-30 (the 1900 date system of spreadsheet programs; common practice)
+    assert f.index[0] == pd.Timestamp(dt.datetime(1899, 12, 30) + dt.timedelta(days=46296.25), tz="UTC")
+    assert f["volume_line"].tolist() == [100.0, 101.0, 102.0] and m.sources[0]["sheet"] == "Log"
