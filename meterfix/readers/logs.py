@@ -9,7 +9,9 @@ Quirks handled
   spreadsheet serial numbers, ISO 8601 with or without offsets, ``dd.mm.yyyy HH:MM``, slash dates
   (order decided from the file), AM/PM (:mod:`meterfix.readers.times`). Local clock times are
   placed in ``timezone``; days with a clock change have 23 or 25 hours; the repeated autumn hour
-  is resolved by order. A header ``Timestamp (UTC)`` or times with offsets are taken as given.
+  is resolved by order. A header ``Timestamp (UTC)`` or times with offsets are taken as given. A
+  logger kept on winter time all year is read with a fixed-offset zone, e.g. ``Etc/GMT-1`` for
+  UTC+1 (the IANA names of fixed offsets have the inverted sign).
 - **Interval label**: by default a timestamp marks the *end* of its interval. Loggers and volume
   correctors conventionally stamp an interval when it closes, the moment its volume is known
   (common practice); ``interval_label='start'`` reads interval-beginning exports. A header that
