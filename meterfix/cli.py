@@ -58,7 +58,7 @@ def _gas_from_options(gas: Optional[str], composition: Optional[Path]):
 def z_command(
     gas: Optional[str] = typer.Option(None, "--gas", help="Mole fractions, e.g. 'methane=0.95,ethane=0.03,nitrogen=0.02' (percent also accepted)."),
     composition: Optional[Path] = typer.Option(None, "--composition", help="A gas-analysis file (CSV/XLSX) instead of --gas."),
-    method: str = typer.Option("gerg-2008", "--method", help="Z method: ideal, lee-kesler, pitzer-virial, dak, hall-yarborough, aga8-detail, aga8-gross1, aga8-gross2, gerg-2008."),
+    method: str = typer.Option("aga8-detail", "--method", help="Z method (default aga8-detail): ideal, lee-kesler, pitzer-virial, dak, hall-yarborough, aga8-detail, aga8-gross1, aga8-gross2, gerg-2008."),
     pressure: Optional[str] = typer.Option(None, "--pressure", help="Pressure with unit: '600 psia', '40 bar(a)'; gauge needs --atmospheric-pressure."),
     temperature: Optional[str] = typer.Option(None, "--temperature", help="Temperature with unit: '60 degF', '15 degC', '288.15 K'."),
     volume: Optional[str] = typer.Option(None, "--volume", help="Specific volume 'm3/kg' or 'ft3/lb', or molar volume 'm3/mol'."),

@@ -37,7 +37,7 @@ def correct_command(
     site_file: Optional[Path] = typer.Option(None, "--site", help="Site settings TOML; options given here override it."),
     composition: Optional[Path] = typer.Option(None, "--composition", help="Gas-analysis file (one analysis, or a table with effective-from times)."),
     gas: Optional[str] = typer.Option(None, "--gas", help="Gas as 'methane=0.95,ethane=0.03,...' instead of --composition."),
-    method: Optional[str] = typer.Option(None, "--method", help="Z method (default gerg-2008); 'meterfix methods' lists them."),
+    method: Optional[str] = typer.Option(None, "--method", help="Z method (default aga8-detail); 'meterfix methods' lists them."),
     base: Optional[str] = typer.Option(None, "--base", help="Named base conditions: us-14.73-60f, us-14.65-60f, us-14.696-60f, iso-15c, normal-0c, metric-20c."),
     base_pressure: Optional[str] = typer.Option(None, "--base-pressure", help="Contract base pressure, absolute: '14.73 psia', '101.325 kPa'."),
     base_temperature: Optional[str] = typer.Option(None, "--base-temperature", help="Contract base temperature: '60 degF', '15 degC'."),

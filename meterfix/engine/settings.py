@@ -73,7 +73,7 @@ class Settings:
     timezone: str = "UTC"
     gas_day_start_hour: int = 6
     interval_label: str = "end"
-    method: str = "gerg-2008"
+    method: str = "aga8-detail"
     heating_value: float | None = None
     heating_value_reference_temperature: float | None = None
     heating_value_reference_pressure: float | None = None

@@ -16,7 +16,7 @@ from ..gas.gross import GrossCharacterization
 from .base import EXTENDED, NORMAL, OUTSIDE, RANGE_NAMES, ZResult
 from .registry import ZMethod, get_method, method_names, register, z_methods
 
-DEFAULT_METHOD = "gerg-2008"
+DEFAULT_METHOD = "aga8-detail"
 
 
 def _gas(gas, method: ZMethod):
