@@ -142,13 +142,31 @@ def _correct_from_manifest(a: dict) -> int:
     return _exit_code(result, result.settings.fail_on)
 
 
-def _exit_code(result, fail_on) -> int:
-    if fail_on is None:
-        return 0
+def worst_finding_pct(result) -> float:
+    """The largest finding of a run in percent: ideal-gas error (month, days, periods), invoice
+    difference, and the site corrector's deviation from our recomputation."""
+    import math
+
     worst = abs(result.totals.get("ideal_gas_error_pct") or 0.0)
     if len(result.findings):
         worst = max(worst, float(result.findings["ideal_gas_error_pct"].abs().max()))
-    return 1 if worst > fail_on else 0
+    rec = result.reconciliation
+    if rec is not None:
+        for k in ("energy_difference_pct", "volume_difference_pct"):
+            v = (rec.totals or {}).get(k)
+            if isinstance(v, (int, float)) and math.isfinite(v):
+                worst = max(worst, abs(v))
+                break
+    cc = result.corrector_check
+    if cc is not None and isinstance(cc.size_pct, (int, float)) and math.isfinite(cc.size_pct):
+        worst = max(worst, abs(cc.size_pct))
+    return worst
+
+
+def _exit_code(result, fail_on) -> int:
+    if fail_on is None:
+        return 0
+    return 1 if worst_finding_pct(result) > fail_on else 0
 
 
 @app.command("fleet")
