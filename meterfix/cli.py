@@ -41,12 +41,7 @@ def _gas_from_options(gas: Optional[str], composition: Optional[Path]):
     if gas:
         return Composition.parse(gas)
     if composition:
-        try:
-            from .readers import read_analyses
-        except ImportError:
-            from .errors import InputError
-            raise InputError("reading gas-analysis files is not part of this build yet",
-                             hint="give the gas as --gas 'methane=0.95,ethane=0.03,...'") from None
+        from .readers import read_analyses
 
         analyses = read_analyses(composition)
         return analyses[0][1]

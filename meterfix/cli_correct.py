@@ -97,8 +97,11 @@ def _correct(a: dict) -> int:
 
     inputs = list(a["logs"]) + [p for p in (a.get("composition"), a.get("invoice"), a.get("site_file")) if p]
     protect_inputs(inputs)
-    result = run_files(a["logs"], settings, composition=a.get("composition"), gas=a.get("gas"),
-                       invoice=a.get("invoice"))
+    from .console import progress_bar
+
+    with progress_bar(enabled=not a.get("quiet")) as progress:
+        result = run_files(a["logs"], settings, composition=a.get("composition"), gas=a.get("gas"),
+                           invoice=a.get("invoice"), progress=progress)
     from .writers import write_outputs
 
     run = {"logs": list(a["logs"]), "composition": a.get("composition"), "gas": a.get("gas"),

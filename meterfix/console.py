@@ -2,7 +2,9 @@
 
 from __future__ import annotations
 
+import contextlib
 import math
+import sys
 
 import typer
 
@@ -11,6 +13,26 @@ def _fmt(v, digits=6):
     if v is None:
         return "-"
     return f"{v:,.{digits}g}" if isinstance(v, float) else str(v)
+
+
+@contextlib.contextmanager
+def progress_bar(enabled: bool = True):
+    """A progress bar on the terminal (stderr) while a month runs; yields ``progress(text, fraction)``
+    or None when stderr is not a terminal (files, pipes, tests) or ``enabled`` is False."""
+    if not enabled or not sys.stderr.isatty():
+        yield None
+        return
+    from rich.console import Console
+    from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+    with Progress(TextColumn("{task.description:<44}"), BarColumn(), TimeElapsedColumn(),
+                  console=Console(stderr=True), transient=True) as bar:
+        task = bar.add_task("starting", total=1.0)
+
+        def update(text: str, fraction: float) -> None:
+            bar.update(task, description=text, completed=fraction)
+
+        yield update
 
 
 def _finite(v) -> bool:

@@ -27,17 +27,14 @@ def load_analyses(settings: Settings, composition=None, gas=None):
     if gas is not None:
         return [(None, gas if isinstance(gas, Composition) else Composition.parse(str(gas)))]
     if composition is not None:
-        try:
-            from ..readers import read_analyses
-        except ImportError:
-            raise InputError("reading gas-analysis files is not part of this build yet",
-                             hint="give the gas as --gas 'methane=0.95,ethane=0.03,...'") from None
+        from ..readers import read_analyses
+
         return read_analyses(_check_file(composition), timezone=settings.timezone)
     return []
 
 
 def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=None,
-              uncertainty: bool = True) -> MonthResult:
+              uncertainty: bool = True, progress=None) -> MonthResult:
     """Read the log file(s) of one meter and the analyses, run the month, attach later steps.
 
     Parameters
@@ -47,54 +44,55 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
     composition : path, optional    gas-analysis file
     gas : str or Composition, optional
     invoice : path, optional        supplier invoice to reconcile
+    uncertainty : bool              attach the month's uncertainty (GUM budget and Monte Carlo)
+    progress : callable, optional   ``progress(stage: str, fraction: float)`` as the run goes on
     """
+    from ..readers import read_log
+    from . import quality
+
+    def step(text, fraction):
+        if progress is not None:
+            progress(text, fraction)
+
     paths = [_check_file(p) for p in ([logs] if isinstance(logs, (str, Path)) else list(logs))]
     if not paths:
         raise SettingsError("no log file given", hint="meterfix correct LOG... --out DIR")
     for extra in (composition, invoice):
         if extra is not None:
             _check_file(extra)
-    try:
-        from ..readers import read_log
-        from . import quality
-    except ImportError:
-        raise InputError("reading log files is not part of this build yet",
-                         hint="use the Python API (meterfix.engine.pipeline.run_month) with a canonical "
-                              "frame, or 'meterfix demo'") from None
-
+    step("reading the gas analyses", 0.0)
     analyses = load_analyses(settings, composition, gas)
+    step(f"reading {len(paths)} log file(s)", 0.05)
     frame, meta = read_log(
         paths, timezone=settings.timezone, interval_label=settings.interval_label,
         column_map=settings.column_map or None, register_digits=settings.register_digits,
     )
+    step(f"checking data quality of {len(frame):,} intervals", 0.3)
     frame, edits = quality.apply_quality(frame, policy=settings.substitution,
                                          max_gap_intervals=settings.max_gap_intervals)
+    step(f"correcting {len(frame):,} intervals with {settings.method}", 0.4)
     result = run_month(frame, analyses, settings, metadata=meta, edits=edits)
     inputs = [dict(s) if isinstance(s, dict) else s for s in (getattr(meta, "sources", None) or [])]
     if composition is not None:
         inputs.append(_file_record(composition, "analysis"))
     result.inputs = inputs
     if uncertainty:
-        try:
-            from . import uncertainty as U
-        except ModuleNotFoundError as exc:
-            if exc.name != "meterfix.engine.uncertainty":
-                raise
-        else:
-            result.uncertainty = U.month_uncertainty(result)
-    if invoice is not None:
-        from . import reconcile as RC
+        from . import uncertainty as U
 
+        step("uncertainty budget and Monte Carlo", 0.6)
+        result.uncertainty = U.month_uncertainty(
+            result, progress=None if progress is None else (lambda done, total: step(
+                "uncertainty: Monte Carlo", 0.6 + 0.25 * min(1.0, done / max(total, 1)))))
+    from . import reconcile as RC
+
+    if invoice is not None:
+        step("reconciling the invoice", 0.85)
         result.inputs.append(_file_record(invoice, "invoice"))
         result.reconciliation = RC.reconcile_invoice(result, _check_file(invoice))
     if "volume_corrected_site" in frame.columns:
-        try:
-            from . import reconcile as RC
-        except ModuleNotFoundError as exc:
-            if exc.name != "meterfix.engine.reconcile":
-                raise
-        else:
-            result.corrector_check = RC.check_corrector(result, frame)
+        step("checking the site corrector", 0.9)
+        result.corrector_check = RC.check_corrector(result, frame)
+    step("done", 1.0)
     return result
 
 
