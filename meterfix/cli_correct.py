@@ -201,18 +201,27 @@ def _fleet(folder, out, workers, options, overwrite):
     from .writers.atomic import write_bytes, write_text
     from .writers.summary import _clean
 
+    from .writers.atomic import check_target
+
+    for name in ("fleet_summary.csv", "fleet_summary.json"):
+        check_target(Path(out) / name, overwrite=overwrite)
     rows = run_fleet(folder, out, {k: v for k, v in options.items() if v is not None},
                      workers=workers, overwrite=overwrite)
     df = pd.DataFrame(rows)
     buf = io.StringIO()
     df.to_csv(buf, index=False, lineterminator="\n", float_format="%.10g")
-    write_bytes(Path(out) / "fleet_summary.csv", buf.getvalue().encode(), overwrite=True)
-    write_text(Path(out) / "fleet_summary.json", json.dumps(_clean(rows), indent=2, sort_keys=True) + "\n", overwrite=True)
+    write_bytes(Path(out) / "fleet_summary.csv", buf.getvalue().encode(), overwrite=overwrite)
+    write_text(Path(out) / "fleet_summary.json", json.dumps(_clean(rows), indent=2, sort_keys=True) + "\n",
+               overwrite=overwrite)
     ok = sum(r["status"] == "ok" for r in rows)
     typer.echo(f"meterfix fleet: {ok} of {len(rows)} meters corrected; summary in {Path(out) / 'fleet_summary.csv'}")
     for r in rows:
         if r["status"] != "ok":
             typer.echo(f"  {r['meter_folder']}: {r['error']}", err=True)
+    if ok < len(rows):
+        typer.echo(f"meterfix: error: {len(rows) - ok} meter(s) could not be corrected (see above); "
+                   "the others are written", err=True)
+        raise typer.Exit(2)
     if ok < len(rows):
         raise typer.Exit(2)
 
