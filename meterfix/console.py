@@ -62,16 +62,26 @@ def print_summary(result, written: dict) -> None:
                    f"{_fmt(dv, 4)} % of volume"
                    + (f", {_fmt(rt.get('energy_difference_pct'), 4)} % of energy"
                       if _finite(rt.get("energy_difference_pct")) else ""))
-        steps = rec.attribution[rec.attribution["kind"] == "step"] if len(rec.attribution) else None
+        att = rec.attribution
+        steps = att[(att["kind"] == "step") & att["applied"].astype(bool) & (att["volume_m3"].abs() > 0)] \
+            if len(att) else None
         if steps is not None and len(steps):
             top = steps.reindex(steps["volume_m3"].abs().sort_values(ascending=False).index).head(3)
             for _, r in top.iterrows():
-                typer.echo(f"    explained by {r['step']:<28} {r['volume_m3']:+,.1f} m3")
+                label = "not explained" if r["step"] == "unexplained" else f"explained by {r['step']}"
+                typer.echo(f"    {label:<40} {r['volume_m3']:+,.1f} m3")
     cc = result.corrector_check
     if cc is not None:
         typer.echo(f"  site corrector       {_fmt(cc.size_pct, 4)} % against ours over the month")
-        for f in cc.findings[:3]:
-            typer.echo(f"    likely cause: {f['cause']:<22} {_fmt(f.get('size_pct'), 4)} %")
+        if cc.findings:
+            best = cc.findings[0]
+            typer.echo(f"    likely cause: {best['cause']} ({_fmt(best.get('size_pct'), 4)} % of the month, "
+                       f"fit residual {_fmt(best.get('rms_residual_pct'), 2)} % rms)")
+            tie = [f["cause"] for f in cc.findings[1:]
+                   if _finite(f.get("rms_residual_pct")) and _finite(best.get("rms_residual_pct"))
+                   and f["rms_residual_pct"] <= 2 * best["rms_residual_pct"] + 1e-6]
+            if tie:
+                typer.echo(f"    fits as well: {', '.join(tie)} (the data cannot tell these apart)")
         if not cc.findings:
             typer.echo("    no misconfiguration found above the threshold")
     for w in result.warnings:

@@ -214,11 +214,16 @@ def attribute_difference(result, invoice: pd.DataFrame, chunks, *, assumed_press
     # estimated intervals: bounded by their own volume and energy
     v_est = float(sum(np.sum(p[vol_key][p["est"]]) for p in per if "est" in p))
     e_est = float(sum(np.nansum(p[vol_key][p["est"]] * h[p["est"]]) for p, h in zip(per, hv_used) if "est" in p))
-    if v_est > 0:
-        dv = float(np.clip(v_billed - v_cur, -v_est, v_est))
+    if v_est > 0 and abs(v_billed - v_cur) <= v_est:
+        # the rest is no larger than the volume we estimated: a different estimate by the supplier
+        # for the same intervals explains it
         de = float(np.clip(e_billed - e_cur, -e_est, e_est)) if np.isfinite(e_billed) else 0.0
-        add("estimated intervals", True, v_cur + dv, e_cur + de,
-            f"up to the estimated intervals' {v_est:.6g} m3")
+        add("estimated intervals", True, v_billed, e_cur + de,
+            f"the supplier's estimate for our {v_est:.6g} m3 of estimated intervals")
+    elif v_est > 0:
+        # a rest larger than all estimated volume is not a matter of estimating: claim nothing
+        add("estimated intervals", False, v_cur, e_cur,
+            f"not indicated: the rest exceeds the {v_est:.6g} m3 of estimated intervals")
     else:
         add("estimated intervals", False, v_cur, e_cur, "no estimated intervals")
     rows.append(("unexplained", "step", True, v_billed - v_cur, e_billed - e_cur, "the rest"))
