@@ -62,6 +62,16 @@ def print_summary(result, written: dict) -> None:
                    f"{_fmt(dv, 4)} % of volume"
                    + (f", {_fmt(rt.get('energy_difference_pct'), 4)} % of energy"
                       if _finite(rt.get("energy_difference_pct")) else ""))
+        u = (rec.uncertainty or {}).get("combined_expanded_pct")
+        verdict = []
+        if _finite(u):
+            verdict.append(("exceeds" if rt.get("exceeds_uncertainty") else "within")
+                           + f" the combined uncertainty ±{u:.3g} %")
+        if _finite(rt.get("tolerance_pct")):
+            verdict.append(("exceeds" if rt.get("exceeds_tolerance") else "within")
+                           + f" the contract tolerance ±{rt['tolerance_pct']:.3g} %")
+        if verdict:
+            typer.echo("    " + "; ".join(verdict))
         att = rec.attribution
         steps = att[(att["kind"] == "step") & att["applied"].astype(bool) & (att["volume_m3"].abs() > 0)] \
             if len(att) else None
