@@ -49,7 +49,7 @@ def _gas_from_options(gas: Optional[str], composition: Optional[Path]):
 
 
 # ---------------------------------------------------------------------------------------------
-@app.command("z")
+@app.command("z", short_help="Z, density and reduced properties at one state.")
 def z_command(
     gas: Optional[str] = typer.Option(None, "--gas", help="Mole fractions, e.g. 'methane=0.95,ethane=0.03,nitrogen=0.02' (percent also accepted)."),
     composition: Optional[Path] = typer.Option(None, "--composition", help="A gas-analysis file (CSV/XLSX) instead of --gas."),
@@ -173,7 +173,7 @@ def _z(gas, composition, method, pressure, temperature, volume, atmospheric_pres
         typer.echo(f"  warning: this state is outside the range of {m.name}; treat Z with caution")
 
 
-@app.command("methods")
+@app.command("methods", short_help="Z methods, editions and validity ranges.")
 def methods_command():
     """List the Z methods with their edition and validity range."""
     from .z.registry import get_method, method_names
@@ -189,7 +189,7 @@ def methods_command():
 TEMPLATE_FILES = ("log.xlsx", "analyses.xlsx", "invoice.xlsx", "site.toml")
 
 
-@app.command("template")
+@app.command("template", short_help="Blank log, analysis and invoice workbooks, site file.")
 def template_command(
     folder: Path = typer.Argument(..., help="Folder to write the blank templates into (created if missing)."),
     overwrite: bool = typer.Option(False, "--overwrite", help="Replace template files already in the folder."),

@@ -30,7 +30,7 @@ def _column_map(items):
     return out
 
 
-@app.command("correct")
+@app.command("correct", short_help="Correct one meter's month to base conditions.")
 def correct_command(
     logs: Optional[List[Path]] = typer.Argument(None, help="Log file(s) of one meter (CSV, TXT, XLSX, XLSM, XLS, ODS); several files are joined in time order. Not needed with --manifest."),
     out: Path = typer.Option(..., "--out", help="Folder for the outputs (created if missing)."),
@@ -49,7 +49,7 @@ def correct_command(
     heating_value: Optional[str] = typer.Option(None, "--heating-value", help="Supplied gross heating value instead of the analysis, e.g. '38.6 MJ/m3'."),
     heating_value_reference_temperature: Optional[str] = typer.Option(None, "--heating-value-reference-temperature", help="Metering reference temperature of --heating-value."),
     heating_value_reference_pressure: Optional[str] = typer.Option(None, "--heating-value-reference-pressure", help="Metering reference pressure of --heating-value."),
-    combustion_temperature: Optional[str] = typer.Option(None, "--combustion-temperature", help="Combustion reference temperature (default 25 degC)."),
+    combustion_temperature: Optional[str] = typer.Option(None, "--combustion-temperature", help="Combustion reference temperature for the heating value, 0-30 degC: 0, 15, 20, 25 degC or 60 degF (default 25 degC)."),
     ideal_gas_threshold: Optional[float] = typer.Option(None, "--ideal-gas-threshold", help="Percent; |ideal − real| above it is a finding (default 0.5)."),
     substitution: Optional[str] = typer.Option(None, "--substitution", help="Fill gaps: none (default), interpolate, hold, profile."),
     max_gap_intervals: Optional[int] = typer.Option(None, "--max-gap-intervals", help="Longest gap filled, in intervals (default 3)."),
@@ -172,7 +172,7 @@ def _exit_code(result, fail_on) -> int:
     return 1 if worst_finding_pct(result) > fail_on else 0
 
 
-@app.command("fleet")
+@app.command("fleet", short_help="Correct many meters (a folder each) in parallel.")
 def fleet_command(
     folder: Path = typer.Argument(..., help="Folder with one sub-folder per meter, each holding a site.toml and its logs."),
     out: Path = typer.Option(..., "--out", help="Folder for the outputs: one sub-folder per meter plus fleet_summary.csv/json."),
@@ -226,7 +226,7 @@ def _fleet(folder, out, workers, options, overwrite):
         raise typer.Exit(2)
 
 
-@app.command("demo")
+@app.command("demo", short_help="Run an invented month through the whole job.")
 def demo_command(
     folder: Path = typer.Argument(Path("meterfix-demo"), help="Folder for the demo outputs."),
     overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
