@@ -88,6 +88,11 @@ def _correct(a: dict) -> int:
         return _correct_from_manifest(a)
     if not a.get("logs"):
         raise SettingsError("no log file given", hint="meterfix correct LOG... --out DIR, or --manifest FILE --out DIR")
+    from .engine.run import _check_file
+
+    for path in [*a["logs"], a.get("composition"), a.get("invoice"), a.get("site_file")]:
+        if path is not None:
+            _check_file(path)  # a mistyped file name is named before any setting is checked
     options = {k: a.get(k) for k in _OPTION_SETTINGS}
     options["column_map"] = _column_map(a.get("column")) or None
     unc = {k: a.get(f"{k}_uncertainty") for k in ("meter", "pressure", "temperature", "atmospheric", "z")}

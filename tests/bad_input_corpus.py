@@ -406,6 +406,17 @@ def missing_file(d):
     return Case(files=[], args=[str(d / "no_such_log.csv"), *BASE_ARGS], must_say=["no_such_log.csv"])
 
 
+def missing_file_and_no_settings(d):
+    # a mistyped file name is reported as such, not as the missing settings behind it
+    return Case(files=[], args=[str(d / "typo_log.csv")], must_say=["typo_log.csv", "not found"])
+
+
+def missing_site_file(d):
+    log = write(d, "log.csv", csv_text())
+    return Case(files=[log], args=[str(log), "--site", str(d / "no_site.toml"), "--gas", GAS],
+                must_say=["no_site.toml", "not found"])
+
+
 def folder_as_file(d):
     f = d / "a_folder.csv"
     f.mkdir()
@@ -428,6 +439,6 @@ CASES = [
     composition_negative, composition_text_value, composition_empty, composition_is_a_log, gas_option_sums_wrong,
     bad_base_pressure, unknown_method, unknown_timezone, bad_gas_day_start, gauge_without_atmosphere,
     malformed_site_file, unknown_site_key, invalid_invoice_tolerance_unit, overlapping_invoice_periods,
-    invoice_end_before_start, invoice_missing_volume, invoice_ambiguous_dates, missing_file, folder_as_file,
+    invoice_end_before_start, invoice_missing_volume, invoice_ambiguous_dates, missing_file, missing_file_and_no_settings, missing_site_file, folder_as_file,
     out_is_a_file,
 ]
