@@ -16,6 +16,7 @@ from typer.testing import CliRunner
 
 from meterfix.cli import app
 from meterfix.readers import read_invoice
+from meterfix.writers.tables import parquet_available
 
 ROOT = Path(__file__).resolve().parents[1]
 DEMO = ROOT / "fixtures" / "demo"
@@ -51,8 +52,11 @@ def demo_run(tmp_path_factory):
 def test_demo_runs_the_whole_job(demo_run):
     out, text = demo_run
     names = sorted(p.name for p in out.iterdir())
-    assert names == ["FV-M1_2026-10.xlsx", "FV-M1_2026-10_gas_days.csv", "FV-M1_2026-10_intervals.csv",
-                     "FV-M1_2026-10_manifest.json", "FV-M1_2026-10_summary.json"]
+    expected = ["FV-M1_2026-10.xlsx", "FV-M1_2026-10_edits.csv", "FV-M1_2026-10_gas_days.csv",
+                "FV-M1_2026-10_intervals.csv", "FV-M1_2026-10_manifest.json", "FV-M1_2026-10_summary.json"]
+    if parquet_available():  # the optional parquet extra
+        expected.append("FV-M1_2026-10_intervals.parquet")
+    assert names == sorted(expected)
     for n in names:
         assert str(out / n) in text  # the console says where each output is
     d = json.loads((out / "FV-M1_2026-10_summary.json").read_text())

@@ -56,7 +56,7 @@ def _floats(cells):
 def test_sheets_in_order(book):
     wb, _ = book
     assert wb.sheetnames == ["Overview", "Charts", "Gas days", "Intervals", "Analyses", "Findings", "Edits",
-                             "Uncertainty", "Invoice check", "Corrector check"]
+                             "Uncertainty", "Invoice check", "Corrector check", "Source data"]
 
 
 def test_without_invoice_or_corrector_those_sheets_are_absent(tmp_path):

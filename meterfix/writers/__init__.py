@@ -6,7 +6,8 @@ from pathlib import Path
 
 from .atomic import safe_name, write_text
 from .summary import build_summary, summary_json
-from .tables import write_gas_day_csv, write_interval_csv
+from .tables import (parquet_available, write_edits_csv, write_gas_day_csv, write_interval_csv,
+                     write_interval_parquet)
 
 
 def output_stem(result) -> str:
@@ -22,6 +23,10 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     ``run`` describes how the month was run from files (see meterfix.writers.manifest); the run
     manifest ``<stem>_manifest.json`` records it with the settings and input sha256, so that
     ``meterfix correct --manifest`` can run the month again exactly.
+
+    Outputs: ``<stem>_intervals.csv`` (and ``<stem>_intervals.parquet`` when pyarrow is
+    installed), ``<stem>_gas_days.csv``, ``<stem>_edits.csv`` (the quality edit record),
+    ``<stem>.xlsx``, ``<stem>_manifest.json`` and ``<stem>_summary.json``.
 
     Everything is computed before the first file is written, and every file is written to a
     temporary name and renamed, so a failed or killed run leaves no partial output.
@@ -40,7 +45,10 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
             raise
         write_workbook = None
     targets = {"summary": out / f"{stem}_summary.json", "intervals": out / f"{stem}_intervals.csv",
-               "gas_days": out / f"{stem}_gas_days.csv", "manifest": out / f"{stem}_manifest.json"}
+               "gas_days": out / f"{stem}_gas_days.csv", "edits": out / f"{stem}_edits.csv",
+               "manifest": out / f"{stem}_manifest.json"}
+    if parquet_available():
+        targets["parquet"] = out / f"{stem}_intervals.parquet"
     if write_workbook is not None:
         targets["workbook"] = out / f"{stem}.xlsx"
     from .atomic import check_target
@@ -53,10 +61,16 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
                                                  summary_text=summary))
     out.mkdir(parents=True, exist_ok=True)
     written["intervals"] = write_interval_csv(result, targets["intervals"], overwrite=overwrite)
+    if "parquet" in targets:
+        written["parquet"] = write_interval_parquet(result, targets["parquet"],
+                                                              overwrite=overwrite)
     written["gas_days"] = write_gas_day_csv(result, targets["gas_days"], overwrite=overwrite)
+    written["edits"] = write_edits_csv(result, targets["edits"], overwrite=overwrite)
     if write_workbook is not None:
-        written["workbook"] = write_workbook(result, targets["workbook"], overwrite=overwrite,
-                                             interval_csv=targets["intervals"].name)
+        written["workbook"] = write_workbook(
+            result, targets["workbook"], overwrite=overwrite, interval_csv=targets["intervals"].name,
+            interval_parquet=targets["parquet"].name if "parquet" in targets else None,
+            edits_csv=targets["edits"].name)
     written["manifest"] = write_text(targets["manifest"], manifest_text, overwrite=overwrite)
     # the summary is written last: its presence marks a complete set of outputs
     written["summary"] = write_text(targets["summary"], summary, overwrite=overwrite)

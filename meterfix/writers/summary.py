@@ -8,6 +8,7 @@ import math
 import numpy as np
 
 from .. import __version__
+from .source_record import log_record
 
 CAUTION = (
     "Results support engineering review, reconciliation and invoice queries. meterfix is not a "
@@ -68,6 +69,8 @@ def build_summary(result) -> dict:
         "warnings": list(result.warnings),
         "inputs": list(result.inputs),
         "settings_sources": {k: v for k, v in sorted(s.sources.items()) if v != "default"},
+        # what the log reader found: files, column mapping and units, every problem cell with where it is
+        "log": log_record(getattr(result, "log_metadata", None)),
     }
     if unc is not None and hasattr(unc, "to_summary"):
         summary["uncertainty"] = unc.to_summary()

@@ -1,7 +1,8 @@
 """The month workbook: one .xlsx per meter-month with an overview, the data sheets and native charts.
 
 Sheets (in order): Overview, Charts, Gas days, Intervals, Analyses, Findings, Edits, Uncertainty,
-and Invoice check / Corrector check when the run has them. Values are converted from SI to the
+Invoice check / Corrector check when the run has them, and Source data (what the log reader read
+and every problem row it met, with file, sheet, row and column). Values are converted from SI to the
 display units of the site file's ``[display_units]`` table at this edge (default kPa absolute,
 °C, m3, GJ, MJ/m3, kg); every header names its unit.
 
@@ -27,6 +28,7 @@ from .. import __version__
 from . import workbook_charts as C
 from . import workbook_checks as K
 from . import workbook_sheets as S
+from . import workbook_source as R
 from . import xlsx_common as X
 from .atomic import write_bytes
 from .summary import CAUTION
@@ -45,6 +47,8 @@ SHEET_GUIDE = (
     ("Uncertainty", "expanded uncertainty and its budget"),
     ("Invoice check", "the supplier's invoice against our month (when given)"),
     ("Corrector check", "the site corrector's volume against ours (when logged)"),
+    ("Source data", "the log files as read: how each column was understood, and every unreadable cell, row left "
+                    "out or differing duplicate with its file, sheet, row and column"),
 )
 
 # Settings field → the setting names that set it (for the 'source' column)
@@ -116,7 +120,8 @@ def _month_label(result) -> str:
     return months[0] if len(months) == 1 else (f"{months[0]} to {months[-1]}" if months else "")
 
 
-def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True) -> dict:
+def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True, interval_parquet=None,
+                   edits_csv=None) -> dict:
     """The first sheet: what a reader needs before any table. Returns row numbers by label."""
     s = result.settings
     t = result.totals
@@ -212,12 +217,16 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         best = cc.best
         r = _row(ws, r, "Site corrector − ours", cc.size_pct, "%", X.FMT_PCT,
                  ("likely: " + K._cause_text(best["cause"])) if best else "no misconfiguration found")
-    csv_text = f"interval table also in '{interval_csv}'" if interval_csv else ""
+    also = f" and '{interval_parquet}' (Parquet)" if interval_parquet else ""
+    csv_text = f"interval table also in '{interval_csv}'{also}, SI units in the column names" if interval_csv else ""
     if not intervals_in_sheet:
-        csv_text = f"too many intervals for a sheet: the interval table is in '{interval_csv}'"
+        csv_text = f"too many intervals for a sheet: the interval table is in '{interval_csv}'{also}"
     if csv_text:
         at["interval file"] = r
         r = _row(ws, r, "Interval table file", interval_csv, "", None, csv_text)
+    if edits_csv:
+        at["edits file"] = r
+        r = _row(ws, r, "Edit record file", edits_csv, "", None, "every substituted value, SI units (see Edits)")
 
     r = X.section(ws, r + 1, "Input files")
     recs = [rec for rec in (result.inputs or []) if isinstance(rec, dict)]
@@ -280,7 +289,7 @@ def time_span(result, daily=False):
     return local[0].to_pydatetime(), local[1].to_pydatetime()
 
 
-def build_workbook(result, *, interval_csv=None, max_rows=None):
+def build_workbook(result, *, interval_csv=None, max_rows=None, interval_parquet=None, edits_csv=None):
     """The month workbook as an openpyxl Workbook (not saved), and where things are."""
     max_rows = MAX_INTERVAL_ROWS if max_rows is None else max_rows
     du = X.DisplayUnits(result.settings.display_units)
@@ -308,8 +317,10 @@ def build_workbook(result, *, interval_csv=None, max_rows=None):
     if result.corrector_check is not None:
         K.write_corrector(wb.create_sheet("Corrector check"), result, du, iv_ws, iv_block,
                           span=time_span(result))
+    layout["source"] = R.write_source_data(wb.create_sheet("Source data"), result)
     layout["overview"] = write_overview(ov, result, du, interval_csv=interval_csv,
-                                        intervals_in_sheet=iv_block is not None)
+                                        intervals_in_sheet=iv_block is not None, interval_parquet=interval_parquet,
+                                        edits_csv=edits_csv)
 
     # the month's charts on one sheet, two to a printed page
     r = X.section(charts, 1, f"Meter {result.settings.meter}, {_month_label(result)}")
@@ -339,7 +350,8 @@ def build_workbook(result, *, interval_csv=None, max_rows=None):
     return wb, layout
 
 
-def write_workbook(result, path, *, overwrite: bool = False, interval_csv=None, max_rows=None):
+def write_workbook(result, path, *, overwrite: bool = False, interval_csv=None, max_rows=None,
+                   interval_parquet=None, edits_csv=None):
     """Write the month workbook atomically; returns the path.
 
     Parameters
@@ -351,8 +363,11 @@ def write_workbook(result, path, *, overwrite: bool = False, interval_csv=None, 
         Name of the interval CSV written beside the workbook; named on the Overview, and where
         the interval table is when it does not fit in a worksheet.
     max_rows : int, optional  the row limit of the interval sheet (default 1,048,575)
+    interval_parquet : str, optional  name of the interval Parquet file beside it (when written)
+    edits_csv : str, optional         name of the edit record CSV beside it
     """
-    wb, _ = build_workbook(result, interval_csv=interval_csv, max_rows=max_rows)
+    wb, _ = build_workbook(result, interval_csv=interval_csv, max_rows=max_rows,
+                           interval_parquet=interval_parquet, edits_csv=edits_csv)
     data = X.repeatable_xlsx_bytes(wb)
     return write_bytes(path, data, overwrite=overwrite)
 
