@@ -217,13 +217,16 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         best = cc.best
         r = _row(ws, r, "Site corrector − ours", cc.size_pct, "%", X.FMT_PCT,
                  ("likely: " + K._cause_text(best["cause"])) if best else "no misconfiguration found")
-    also = f" and '{interval_parquet}' (Parquet)" if interval_parquet else ""
-    csv_text = f"interval table also in '{interval_csv}'{also}, SI units in the column names" if interval_csv else ""
+    csv_text = "the interval table also as CSV, SI units in the column names" if interval_csv else ""
     if not intervals_in_sheet:
-        csv_text = f"too many intervals for a sheet: the interval table is in '{interval_csv}'{also}"
+        csv_text = "too many intervals for a sheet: the interval table is in this file"
     if csv_text:
         at["interval file"] = r
         r = _row(ws, r, "Interval table file", interval_csv, "", None, csv_text)
+    if interval_parquet:
+        at["interval parquet"] = r
+        r = _row(ws, r, "Interval table, Parquet", interval_parquet, "", None,
+                 "the same table for data tools (time as a UTC timestamp, full precision)")
     if edits_csv:
         at["edits file"] = r
         r = _row(ws, r, "Edit record file", edits_csv, "", None, "every substituted value, SI units (see Edits)")

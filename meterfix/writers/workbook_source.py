@@ -8,6 +8,8 @@ The content comes from :func:`meterfix.writers.source_record.log_record` (all en
 
 from __future__ import annotations
 
+import math
+
 import pandas as pd
 from openpyxl.styles import Alignment
 
@@ -38,7 +40,7 @@ READER_FLAG_TEXT = {
     "implausible_delta": "an index difference beyond ten times the usual rate",
 }
 
-_WIDTHS = {1: 28, 2: 26, 3: 11, 4: 26, 5: 18, 6: 20, 7: 62}
+_WIDTHS = {1: 38, 2: 24, 3: 11, 4: 32, 5: 20, 6: 18, 7: 62}
 
 
 def _local(text, tz):
@@ -62,6 +64,16 @@ def _kv(ws, r, label, value, unit="", fmt=None):
     for j in (1, 2, 3):
         ws.cell(row=r, column=j).border = X.CELL_BORDER
     return r + 1
+
+
+def _top(ws, first, last, ncols):
+    """Align every cell of rows first..last to the top (rows with wrapped text read across)."""
+    for rr in range(first, last + 1):
+        if ws.row_dimensions[rr].height is None:
+            continue
+        for j in range(1, ncols + 1):
+            c = ws.cell(row=rr, column=j)
+            c.alignment = Alignment(horizontal=c.alignment.horizontal, vertical="top", wrap_text=c.alignment.wrap_text)
 
 
 def _none_row(ws, r, text):
@@ -118,13 +130,14 @@ def write_source_data(ws, result) -> dict:
     rows = []
     for fname, cols in rec["columns"].items():
         for name, c in cols.items():
-            rows.append([fname, c["header"], c["unit"] or "", f"{c['meaning']} ({name})", c["unit_inside"] or ""])
+            rows.append([fname, c["header"], c["unit"] or "", c["meaning"], name, c["unit_inside"] or ""])
         for h in rec["ignored_columns"].get(fname, []):
-            rows.append([fname, h, "", "not used", ""])
+            rows.append([fname, h, "", "not used", "", ""])
     first = r + 1
-    r = X.write_table(ws, r, 1, ["File", "Column as written", "Unit as written", "Read as", "Unit inside meterfix"],
-                      rows)
+    r = X.write_table(ws, r, 1, ["File", "Column as written", "Unit as written", "Read as", "Name inside meterfix",
+                                 "Unit inside meterfix"], rows)
     X.wrap_rows(ws, first, r - 1, [1, 2, 4])
+    _top(ws, first, r - 1, 6)
 
     # -- problems
     r = X.section(ws, r + 1, "Problems in the log")
@@ -134,9 +147,12 @@ def write_source_data(ws, result) -> dict:
     r = X.write_table(ws, r, 1, ["Kind", "Found", "What the run did"], rows, [None, X.FMT_INT, None])
     for rr in range(first - 1, r):
         ws.merge_cells(start_row=rr, start_column=3, end_row=rr, end_column=7)
+    span_chars = 1.1 * sum(_WIDTHS[j] for j in range(3, 8))
     for rr in range(first, r):
-        ws.cell(row=rr, column=3).alignment = Alignment(wrap_text=True, vertical="top")
-        ws.row_dimensions[rr].height = 32
+        c = ws.cell(row=rr, column=3)
+        c.alignment = Alignment(wrap_text=True, vertical="top")
+        ws.row_dimensions[rr].height = 15 * max(1, math.ceil(len(str(c.value or "")) / span_chars)) + 2
+    _top(ws, first, r - 1, 3)
     listed = [(label, e) for key, label, _ in PROBLEM_KINDS for e in rec[key]["entries"]]
     r += 1
     at["problems"] = r
@@ -151,6 +167,7 @@ def write_source_data(ws, result) -> dict:
             if isinstance(c.value, str):
                 c.data_type = "s"  # '#VALUE!' as written is text here, not an error cell
         X.wrap_rows(ws, first, r - 1, [1, 4, 5, 7])
+        _top(ws, first, r - 1, 7)
         cut = [label for key, label, _ in PROBLEM_KINDS if rec[key]["count"] > rec[key]["listed"]]
         if cut:
             r = X.note(ws, r, "The reader lists at most 1,000 entries of a kind per file; more were found of: "
@@ -181,6 +198,7 @@ def write_source_data(ws, result) -> dict:
             if isinstance(ws.cell(row=rr, column=1).value, str):
                 ws.cell(row=rr, column=1).data_type = "s"
         X.wrap_rows(ws, first, r - 1, [1, 3])
+        _top(ws, first, r - 1, 6)
 
     # -- notes
     if rec["notes"]:
