@@ -203,8 +203,8 @@ def test_rows_left_out_and_formula_text(tmp_path):
     ws = load_workbook(written["workbook"])["Source data"]
     problems = _table_after(ws, "File", "Sheet", "Row")
     assert [(r[2], r[4]) for r in problems] == [(4, "'=1+2"), (6, "no clock here"), (9, "2026-03-29 02:00")]
-    status = _table_after(ws, "Text", "Rows with it")
-    assert [(r[0], r[1], r[3]) for r in status] == [("battery low", 1, 8), ("door open", 2, 3)]
+    status = _table_after(ws, "Text", "First in file")
+    assert [(r[0], r[4], r[2]) for r in status] == [("battery low", 1, 8), ("door open", 2, 3)]
 
 
 def test_month_in_memory_has_no_log_record(tmp_path):

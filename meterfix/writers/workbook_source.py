@@ -189,15 +189,15 @@ def write_source_data(ws, result) -> dict:
     if st["count"]:
         r = X.section(ws, r + 1, "Status texts in the log")
         at["status"] = r
-        rows = [[e["text"], e["count"], e["file"], e["row"], e["column"], _local(e["interval_end_utc"], tz)]
+        rows = [[e["text"], e["file"], e["row"], e["column"], e["count"], _local(e["interval_end_utc"], tz)]
                 for e in st["by_text"]]
         first = r + 1
-        r = X.write_table(ws, r, 1, ["Text", "Rows with it", "First in file", "First row", "Column",
-                                     "First interval end"], rows, [None, X.FMT_INT, None, "0", None, X.FMT_DATETIME])
+        r = X.write_table(ws, r, 1, ["Text", "First in file", "First row", "Column", "Rows with it",
+                                     "First interval end"], rows, [None, None, "0", None, X.FMT_INT, X.FMT_DATETIME])
         for rr in range(first, r):
             if isinstance(ws.cell(row=rr, column=1).value, str):
                 ws.cell(row=rr, column=1).data_type = "s"
-        X.wrap_rows(ws, first, r - 1, [1, 3])
+        X.wrap_rows(ws, first, r - 1, [1, 2])
         _top(ws, first, r - 1, 6)
 
     # -- notes
