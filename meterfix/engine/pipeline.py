@@ -172,90 +172,164 @@ def _molar_mass(gas) -> float:
     return np.nan
 
 
-def _gas_day(index_utc: pd.DatetimeIndex, duration_s: np.ndarray, settings: Settings) -> pd.Index:
-    """Gas day of each interval: the local date on which the gas day containing its start began."""
+def _gas_day(index_utc: pd.DatetimeIndex, duration_s: np.ndarray, settings: Settings):
+    """Gas day of each interval: the local date on which the gas day containing its start began.
+
+    Returns (days, codes): the distinct gas days in order (datetime.date objects) and, for every
+    interval, the position of its gas day in ``days``.
+    """
     start = index_utc - pd.to_timedelta(np.nan_to_num(duration_s, nan=0.0), unit="s")
     local = start.tz_convert(settings.timezone)
     shifted = local - pd.Timedelta(hours=settings.gas_day_start_hour)
     # subtracting a fixed timedelta from a tz-aware local time keeps wall-clock arithmetic exact
     # for DST days: the gas day is the local calendar date of (start − gas_day_start hours)
-    return pd.Index(shifted.tz_localize(None).normalize().date, name="gas_day")
+    day = shifted.tz_localize(None).to_numpy().astype("datetime64[D]")
+    days, codes = np.unique(day, return_inverse=True)
+    return days.astype(object), codes.reshape(-1)
 
 
-def _totals(df: pd.DataFrame) -> dict:
-    vb = df["volume_base"].to_numpy(float)
-    vi = df["volume_base_ideal"].to_numpy(float)
+#: columns summed by gas day, month and analysis period (NaN when a group has no value)
+_SUMMED = ("duration", "volume_line", "volume_base", "volume_base_ideal", "mass", "energy")
+
+
+def _grouped(values: np.ndarray, codes: np.ndarray, how: str) -> np.ndarray:
+    """pandas' grouped ``sum`` (NaN when a group has no value) or ``mean`` of each column.
+
+    pandas picks its summation by the block it is given (a plain running sum when the groups are
+    contiguous and the block has no NaN, else a compensated sum), so columns with and without NaN
+    go in separate blocks: every column is summed exactly as if it were grouped on its own.
+    """
+    out = np.empty((int(codes.max()) + 1 if len(codes) else 0, values.shape[1]))
+    has_nan = np.isnan(values).any(axis=0)
+    for part in (has_nan, ~has_nan):
+        if part.any():
+            g = pd.DataFrame(values[:, part]).groupby(codes, sort=True)
+            out[:, part] = (g.sum(min_count=1) if how == "sum" else g.mean()).to_numpy()
+    return out
+
+
+def _group_totals(cols: dict, groupings) -> list:
+    """Totals of the intervals by each grouping.
+
+    Parameters
+    ----------
+    cols : dict of ndarray      interval columns (SI): duration [s], volume_line, volume_base,
+                                volume_base_ideal [m3], mass [kg], energy [J], pressure_line [Pa],
+                                temperature_line [K], estimated, flagged (bool)
+    groupings : list of (codes, keys)   codes: int array, each interval's group (0..len(keys)-1,
+                                every group present); keys: Index of the groups in order
+
+    Returns
+    -------
+    list of DataFrame, one per grouping, indexed by its keys
+
+    Notes
+    -----
+    When every grouping's groups are contiguous in time (the usual case) the groupings are
+    stacked into one table of group numbers, so that one grouped sum and one grouped mean serve
+    them all; each group still adds its own intervals in time order, so the figures are those of
+    a separate pass per grouping.
+    """
+    est = cols["estimated"]
+    flagged = cols["flagged"]
+    vb = cols["volume_base"]
+    summed = np.column_stack([cols[c] for c in _SUMMED] + [np.where(est, vb, np.nan)])
+    averaged = np.column_stack([cols["pressure_line"], cols["temperature_line"]])
+    codes = [np.asarray(c, dtype=np.int64) for c, _ in groupings]
+    sizes = [len(keys) for _, keys in groupings]
+    offsets = np.concatenate([[0], np.cumsum(sizes)]).astype(np.int64)
+    if all(len(c) < 2 or bool((np.diff(c) >= 0).all()) for c in codes):
+        stacked = np.concatenate([c + off for c, off in zip(codes, offsets)])
+        k = len(groupings)
+        sums = _grouped(np.tile(summed, (k, 1)), stacked, "sum")
+        means = _grouped(np.tile(averaged, (k, 1)), stacked, "mean")
+    else:
+        sums = np.concatenate([_grouped(summed, c, "sum") for c in codes])
+        means = np.concatenate([_grouped(averaged, c, "mean") for c in codes])
+    out = []
+    for c, (_, keys), a, b in zip(codes, groupings, offsets[:-1], offsets[1:]):
+        s = sums[a:b]
+        vol_b = s[:, 2]
+        with np.errstate(invalid="ignore", divide="ignore"):
+            err = 100.0 * (s[:, 3] / vol_b - 1.0)
+            share = 100.0 * s[:, 6] / vol_b
+        out.append(pd.DataFrame({
+            "intervals": np.bincount(c, minlength=len(keys)).astype(np.int64),
+            "hours": np.where(np.isnan(s[:, 0]), 0.0, s[:, 0]) / 3600.0,
+            "volume_line": s[:, 1],
+            "volume_base": vol_b,
+            "volume_base_ideal": s[:, 3],
+            "mass": s[:, 4],
+            "energy": s[:, 5],
+            "pressure_line_mean": means[a:b, 0],
+            "temperature_line_mean": means[a:b, 1],
+            "estimated_intervals": np.bincount(c[est], minlength=len(keys)).astype(np.int64),
+            "flagged_intervals": np.bincount(c[flagged], minlength=len(keys)).astype(np.int64),
+            "ideal_gas_error_pct": err,
+            "estimated_volume_share_pct": np.where(np.isnan(share), 0.0, share),
+        }, index=keys))
+    return out
+
+
+def _totals(cols: dict) -> dict:
+    vb = cols["volume_base"]
+    vi = cols["volume_base_ideal"]
     ok = np.isfinite(vb)
-    vl = df["volume_line"].to_numpy(float)
+    vl = cols["volume_line"]
+    mass, energy = cols["mass"], cols["energy"]
     t = {
         "uncorrected_volume_m3": float(np.nansum(vl)),
         "base_volume_m3": float(np.nansum(vb)),
         "ideal_gas_base_volume_m3": float(np.nansum(vi[ok])),
-        "mass_kg": float(np.nansum(df["mass"])) if np.isfinite(df["mass"]).any() else None,
-        "energy_MJ": float(np.nansum(df["energy"])) / 1e6 if np.isfinite(df["energy"]).any() else None,
-        "intervals": int(len(df)),
+        "mass_kg": float(np.nansum(mass)) if np.isfinite(mass).any() else None,
+        "energy_MJ": float(np.nansum(energy)) / 1e6 if np.isfinite(energy).any() else None,
+        "intervals": int(len(vb)),
         "intervals_without_result": int(np.count_nonzero(~ok & np.isfinite(vl) & (vl != 0))),
         "uncorrected_volume_without_result_m3": float(np.nansum(vl[~ok])),
     }
     vbs = t["base_volume_m3"]
     t["ideal_gas_error_pct"] = 100.0 * (t["ideal_gas_base_volume_m3"] / vbs - 1.0) if vbs else None
-    est = df["estimated"].to_numpy(bool) if "estimated" in df else np.zeros(len(df), bool)
+    est = cols["estimated"]
     t["estimated_volume_share_pct"] = 100.0 * float(np.nansum(vb[est])) / vbs if vbs else 0.0
     return t
 
 
-def _group_totals(df: pd.DataFrame, key) -> pd.DataFrame:
-    if isinstance(key, str):
-        key = df[key]
-    key = pd.Series(np.asarray(key, dtype=object) if not isinstance(key, pd.Series) else key.to_numpy(),
-                    index=df.index, name=getattr(key, "name", None))
-    g = df.groupby(key, sort=True)
-    out = pd.DataFrame({
-        "intervals": g.size(),
-        "hours": g["duration"].sum() / 3600.0,
-        "volume_line": g["volume_line"].sum(min_count=1),
-        "volume_base": g["volume_base"].sum(min_count=1),
-        "volume_base_ideal": g["volume_base_ideal"].sum(min_count=1),
-        "mass": g["mass"].sum(min_count=1),
-        "energy": g["energy"].sum(min_count=1),
-        "pressure_line_mean": g["pressure_line"].mean(),
-        "temperature_line_mean": g["temperature_line"].mean(),
-        "estimated_intervals": g["estimated"].sum(),
-        "flagged_intervals": g["flagged"].sum(),
-    })
-    out["ideal_gas_error_pct"] = 100.0 * (out["volume_base_ideal"] / out["volume_base"] - 1.0)
-    est_vol = df["volume_base"].where(df["estimated"]).groupby(key).sum(min_count=1)
-    out["estimated_volume_share_pct"] = (100.0 * est_vol / out["volume_base"]).fillna(0.0)
-    return out
-
-
-def _findings(df: pd.DataFrame, days: pd.DataFrame, threshold: float) -> pd.DataFrame:
+def _findings(cols: dict, index: pd.DatetimeIndex, days: pd.DataFrame, threshold: float) -> pd.DataFrame:
     """Gas days and contiguous interval periods where |ideal − real| exceeds the threshold."""
     rows = []
-    hv_mean = df["energy"].sum() / df["volume_base"].sum() if df["volume_base"].sum() else np.nan
-    for day, r in days.iterrows():
-        if np.isfinite(r["ideal_gas_error_pct"]) and abs(r["ideal_gas_error_pct"]) > threshold:
-            dv = r["volume_base_ideal"] - r["volume_base"]
-            rows.append({"kind": "gas day", "start": str(day), "end": str(day), "intervals": int(r["intervals"]),
-                         "ideal_gas_error_pct": float(r["ideal_gas_error_pct"]), "volume_impact_m3": float(dv),
-                         "energy_impact_MJ": float(dv * (r["energy"] / r["volume_base"] if r["volume_base"] else hv_mean)) / 1e6})
-    err = df["ideal_gas_error_pct"].to_numpy(float)
+    vb = cols["volume_base"]
+    vi = cols["volume_base_ideal"]
+    en = cols["energy"]
+    # sums as a pandas Series takes them (NaN left out)
+    vb_sum = np.nansum(vb)
+    hv_mean = np.nansum(en) / vb_sum if vb_sum else np.nan
+    d_err = days["ideal_gas_error_pct"].to_numpy(float)
+    with np.errstate(invalid="ignore"):
+        d_over = np.flatnonzero(np.isfinite(d_err) & (np.abs(d_err) > threshold))
+    if len(d_over):
+        d_n = days["intervals"].to_numpy(float)
+        d_vi = days["volume_base_ideal"].to_numpy(float)
+        d_vb = days["volume_base"].to_numpy(float)
+        d_en = days["energy"].to_numpy(float)
+        for i in d_over:
+            day = str(days.index[i])
+            dv = d_vi[i] - d_vb[i]
+            rows.append({"kind": "gas day", "start": day, "end": day, "intervals": int(d_n[i]),
+                         "ideal_gas_error_pct": float(d_err[i]), "volume_impact_m3": float(dv),
+                         "energy_impact_MJ": float(dv * (d_en[i] / d_vb[i] if d_vb[i] else hv_mean)) / 1e6})
+    err = cols["ideal_gas_error_pct"]
     over = np.isfinite(err) & (np.abs(err) > threshold)
     if over.any():
         edges = np.diff(np.concatenate([[0], over.astype(np.int8), [0]]))
         starts = np.flatnonzero(edges == 1)
         ends = np.flatnonzero(edges == -1)
-        vb = df["volume_base"].to_numpy(float)
-        vi = df["volume_base_ideal"].to_numpy(float)
-        en = df["energy"].to_numpy(float)
-        idx = df.index
-        dur = df["duration"].to_numpy(float)
+        dur = cols["duration"]
         for a, b in zip(starts, ends):
             dv = float(np.nansum(vi[a:b]) - np.nansum(vb[a:b]))
             vsum = float(np.nansum(vb[a:b]))
             hv = float(np.nansum(en[a:b])) / vsum if vsum else np.nan
-            rows.append({"kind": "period", "start": (idx[a] - pd.Timedelta(seconds=float(np.nan_to_num(dur[a])))).isoformat(),
-                         "end": idx[b - 1].isoformat(), "intervals": int(b - a),
+            rows.append({"kind": "period", "start": (index[a] - pd.Timedelta(seconds=float(np.nan_to_num(dur[a])))).isoformat(),
+                         "end": index[b - 1].isoformat(), "intervals": int(b - a),
                          "ideal_gas_error_pct": 100.0 * (float(np.nansum(vi[a:b])) / vsum - 1.0) if vsum else np.nan,
                          "volume_impact_m3": dv, "energy_impact_MJ": dv * hv / 1e6 if np.isfinite(hv) else np.nan})
     out = pd.DataFrame(rows, columns=["kind", "start", "end", "intervals", "ideal_gas_error_pct",
@@ -267,19 +341,24 @@ def _findings(df: pd.DataFrame, days: pd.DataFrame, threshold: float) -> pd.Data
     return out
 
 
-def _average_correction(df: pd.DataFrame, analyses, settings: Settings, method: str) -> dict:
+def _average_correction(cols: dict, analyses, settings: Settings, method: str) -> dict:
     """The month corrected from average p and T (time-weighted and volume-weighted)."""
-    ok = np.isfinite(df["volume_base"].to_numpy(float))
-    d = df[ok]
-    vl = float(d["volume_line"].sum())
-    real = float(d["volume_base"].sum())
+    ok = np.isfinite(cols["volume_base"])
+    d = {c: cols[c][ok] for c in ("volume_line", "volume_base", "duration", "pressure_line", "temperature_line",
+                                  "analysis")}
+    vl = float(np.sum(d["volume_line"]))
+    real = float(np.sum(d["volume_base"]))
     out = {"interval_by_interval_m3": real}
-    if vl <= 0 or not len(d):
+    if vl <= 0 or not len(d["volume_line"]):
         return out
-    w_time = d["duration"].to_numpy(float)
-    w_vol = d["volume_line"].to_numpy(float)
+    w_time = d["duration"]
+    w_vol = d["volume_line"]
     # the analysis in force for most of the volume
-    main = int(d.groupby("analysis")["volume_line"].sum().idxmax())
+    which = d["analysis"]
+    if (which == which[0]).all():
+        main = int(which[0])
+    else:
+        main = int(pd.Series(w_vol).groupby(which).sum().idxmax())
     gas = analyses[main].gas
     zb = analyses[main].z_base
     for label, w in (("time_weighted", w_time), ("volume_weighted", w_vol)):
@@ -333,25 +412,21 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         analyses = [(None, None)]
     analyses = sorted(analyses, key=lambda a: pd.Timestamp.min.tz_localize("UTC") if a[0] is None else a[0])
 
-    df = pd.DataFrame(index=frame.index.copy())
-    duration = frame["duration"].to_numpy(float) if "duration" in frame.columns else np.full(len(frame), np.nan)
-    df["duration"] = duration
+    index = frame.index.copy()
+    n = len(frame)
+    duration = frame["duration"].to_numpy(float) if "duration" in frame.columns else np.full(n, np.nan)
     p, atm, atm_source = absolute_pressure(frame, settings)
-    df["pressure_line"] = p
-    df["pressure_atm"] = atm
-    df["temperature_line"] = frame["temperature_line"].to_numpy(float)
-    df["volume_line"] = frame["volume_line"].to_numpy(float)
+    tl = frame["temperature_line"].to_numpy(float)
+    vl = frame["volume_line"].to_numpy(float)
 
     # analysis in force for each interval: the latest one whose effective time is at or before the
     # interval's start
     eff = np.array([np.iinfo(np.int64).min if a[0] is None else pd.Timestamp(a[0]).as_unit("ns").value
                     for a in analyses], dtype=np.int64)
-    starts = (df.index - pd.to_timedelta(np.nan_to_num(duration), unit="s")).as_unit("ns").asi8
+    starts = (index - pd.to_timedelta(np.nan_to_num(duration), unit="s")).as_unit("ns").asi8
     which = np.searchsorted(eff, starts, side="right") - 1
     which = np.clip(which, 0, len(analyses) - 1)
-    df["analysis"] = which
 
-    n = len(df)
     z_line = np.full(n, np.nan)
     z_range = np.zeros(n, dtype=np.int8)
     z_reason = np.full(n, "", dtype=object)
@@ -385,7 +460,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         if gas is None:
             z_line[sel] = 1.0
         else:
-            res = evaluate_z(p[sel], df["temperature_line"].to_numpy(float)[sel], gas, method.name)
+            res = evaluate_z(p[sel], tl[sel], gas, method.name)
             z_line[sel] = np.broadcast_to(res.z, (int(sel.sum()),))
             z_range[sel] = np.broadcast_to(res.range_class, (int(sel.sum()),))
             z_reason[sel] = np.broadcast_to(res.reason, (int(sel.sum()),))
@@ -394,8 +469,6 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         rho_b[sel] = a.density_base
 
     pb, tb = settings.pressure_base, settings.temperature_base
-    vl = df["volume_line"].to_numpy(float)
-    tl = df["temperature_line"].to_numpy(float)
     with np.errstate(invalid="ignore", divide="ignore"):
         fp = K.factor_pressure(p, pb)
         ft = K.factor_temperature(tl, tb)
@@ -404,40 +477,43 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         vi = vl * fp * ft
     bad = ~np.isfinite(vb)
     vi = np.where(bad, np.nan, vi)
-    df["z_line"] = z_line
-    df["z_base"] = z_b
-    df["factor_pressure"] = fp
-    df["factor_temperature"] = ft
-    df["factor_z"] = fz
-    df["volume_base"] = vb
-    df["volume_base_ideal"] = vi
-    df["ideal_gas_error_pct"] = K.ideal_gas_error_pct(vi, vb)
-    df["mass"] = vb * rho_b
-    df["heating_value"] = hv
-    df["energy"] = vb * hv
-    df["z_range"] = pd.Categorical.from_codes(z_range, categories=[RANGE_NAMES[i] for i in range(3)])
-    df["z_reason"] = z_reason
-    flag_cols = [c for c in frame.columns if c.startswith("flag_")]
-    for c in flag_cols:
-        df[c] = frame[c].to_numpy(bool)
-    df["flag_z_outside_range"] = (z_range == OUTSIDE) & np.isfinite(z_line)
-    df["flag_no_result"] = bad & np.isfinite(vl)
-    df["estimated"] = frame["flag_estimated"].to_numpy(bool) if "flag_estimated" in frame.columns else False
-    all_flags = [c for c in df.columns if c.startswith("flag_")]
-    df["flagged"] = df[all_flags].any(axis=1) if all_flags else False
-    df["gas_day"] = _gas_day(df.index, duration, settings)
-    days = _group_totals(df, "gas_day")
-    months_key = pd.Index([f"{d.year:04d}-{d.month:02d}" for d in df["gas_day"]], name="month")
-    months = _group_totals(df, months_key)
-    periods = _group_totals(df, "analysis")
+    # the interval table, built in one go (column order is part of the output)
+    cols = {"duration": duration, "pressure_line": p, "pressure_atm": atm, "temperature_line": tl,
+            "volume_line": vl, "analysis": which, "z_line": z_line, "z_base": z_b, "factor_pressure": fp,
+            "factor_temperature": ft, "factor_z": fz, "volume_base": vb, "volume_base_ideal": vi,
+            "ideal_gas_error_pct": K.ideal_gas_error_pct(vi, vb), "mass": vb * rho_b, "heating_value": hv,
+            "energy": vb * hv,
+            "z_range": pd.Categorical.from_codes(z_range, categories=[RANGE_NAMES[i] for i in range(3)]),
+            "z_reason": z_reason}
+    for c in frame.columns:
+        if c.startswith("flag_"):
+            cols[c] = frame[c].to_numpy(bool)
+    cols["flag_z_outside_range"] = (z_range == OUTSIDE) & np.isfinite(z_line)
+    cols["flag_no_result"] = bad & np.isfinite(vl)
+    cols["estimated"] = frame["flag_estimated"].to_numpy(bool) if "flag_estimated" in frame.columns else np.zeros(n, bool)
+    all_flags = [c for c in cols if c.startswith("flag_")]
+    cols["flagged"] = np.logical_or.reduce([cols[c] for c in all_flags])
+    day_list, day_codes = _gas_day(index, duration, settings)
+    cols["gas_day"] = day_list[day_codes]
+    # months of the gas days, and the analyses that are in force somewhere in the log
+    ym = np.array([d.year * 12 + d.month - 1 for d in day_list], dtype=np.int64)
+    month_ym, month_of_day = np.unique(ym, return_inverse=True)
+    month_keys = [f"{m // 12:04d}-{m % 12 + 1:02d}" for m in month_ym]
+    used, period_codes = np.unique(which, return_inverse=True)
+    days, months, periods = _group_totals(cols, [
+        (day_codes, pd.Index(day_list, dtype=object, name="gas_day")),
+        (month_of_day.reshape(-1)[day_codes], pd.Index(month_keys, name="month")),
+        (period_codes.reshape(-1), pd.Index(used, name="analysis")),
+    ])
+    df = pd.DataFrame(cols, index=index)
     periods.insert(0, "effective_from", [None if in_force[i].effective_from is None
                                          else pd.Timestamp(in_force[i].effective_from).isoformat() for i in periods.index])
     periods["z_base"] = [in_force[i].z_base for i in periods.index]
     periods["heating_value"] = [in_force[i].heating_value for i in periods.index]
-    totals = _totals(df)
-    flags = {c[5:]: int(df[c].sum()) for c in all_flags}
-    findings = _findings(df, days, settings.ideal_gas_threshold_pct)
-    avg = _average_correction(df, in_force, settings, method.name) if in_force[0].gas is not None or method.name == "ideal" else {}
+    totals = _totals(cols)
+    flags = {c[5:]: int(np.count_nonzero(cols[c])) for c in all_flags}
+    findings = _findings(cols, index, days, settings.ideal_gas_threshold_pct)
+    avg = _average_correction(cols, in_force, settings, method.name) if in_force[0].gas is not None or method.name == "ideal" else {}
     warn = []
     if flags.get("z_outside_range"):
         warn.append(f"{flags['z_outside_range']} interval(s) outside the range of {method.name}: see the z_range column")
