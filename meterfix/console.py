@@ -98,4 +98,4 @@ def print_summary(result, written: dict) -> None:
         typer.echo(f"  note: {w}")
     typer.echo("  outputs:")
     for kind, path in written.items():
-        typer.echo(f"    {kind:<10} {path}")
+        typer.echo(f"    {kind:<11} {path}")

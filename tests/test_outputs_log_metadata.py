@@ -126,8 +126,11 @@ def test_source_data_sheet_lists_the_cell_as_text(faults):
 def test_edits_csv_holds_the_result_edit_record(faults):
     result, written, d = faults
     path = written["edits"]
-    assert path.name == "meter_2026-10_edits.csv" and path.parent == written["intervals"].parent
+    # no --meter given: the log's file name stands in for the meter name
+    assert path.name == "heron_fen_m4_faults_2026-10_edits.csv" and path.parent == written["intervals"].parent
     e = pd.read_csv(path, keep_default_na=False, na_values=[""])
+    e = pd.read_csv(path, keep_default_na=False, na_values=[""])
+    assert len(e) == len(result.edits) == d["edits"] > 0
     assert len(e) == len(result.edits) == d["edits"] > 0
     assert list(e.columns[:7]) == ["interval_end_utc", "what", "unit", "original", "new", "method", "reason"]
     want_t = pd.DatetimeIndex(pd.to_datetime(result.edits["time"], utc=True))

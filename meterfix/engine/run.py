@@ -60,6 +60,8 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
     for extra in (composition, invoice):
         if extra is not None:
             _check_file(extra)
+    if settings.meter == "meter" and settings.sources.get("meter", "default") == "default":
+        settings.meter = paths[0].stem  # no meter name given: the first log's file name stands in
     step("reading the gas analyses", 0.0)
     analyses = load_analyses(settings, composition, gas)
     step(f"reading {len(paths)} log file(s)", 0.05)
