@@ -270,7 +270,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     for name, text in SHEET_GUIDE:
         if name in present:
             r = _long_row(ws, r, name, text)
-    X.set_widths(ws, {1: 40, 2: 34, 3: 22, 4: 60})
+    X.set_widths(ws, {1: 44, 2: 34, 3: 22, 4: 60})
     if first_input is not None:
         X.wrap_rows(ws, first_input, first_input + len(recs) - 1, [1, 2])
     X.wrap_rows(ws, *settings_rows, [2])
