@@ -47,7 +47,9 @@ Quirks handled
 from __future__ import annotations
 
 import hashlib
+import re
 from dataclasses import asdict, dataclass, field
+from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
@@ -55,7 +57,7 @@ import pandas as pd
 
 from ..errors import InputError, SettingsError
 from .columns import ColumnMapping, _key, map_columns, require_log_columns
-from .tables import DEFAULT_LIMITS, Limits, RawTable, default_header_score, parse_table, to_numbers
+from .tables import DEFAULT_LIMITS, Limits, RawTable, _looks_numeric, parse_table, to_numbers
 from .times import localize, parse_clock, parse_datetimes, parse_dates
 
 #: numeric canonical columns read from a log
@@ -121,21 +123,32 @@ class LogMetadata:
 def _score(cells) -> float:
     """Header score for a log: 100 x the cells read as a known quantity (at least two), plus the
     plain text-cell count, so that a header of unknown names is still found and reported."""
-    return 100.0 * _known(cells) + default_header_score(cells)
+    known = text = 0
+    for c in cells:
+        if isinstance(c, str):
+            t = c.strip()
+            if t:
+                if not _looks_numeric(t):
+                    text += 1
+                if _MAY_NAME.search(c) is not None and _known_text(c):
+                    known += 1
+    return 100.0 * (float(known) if known >= 2 else 0.0) + (float(text) if text >= 2 else 0.0)
 
 
-def _known(cells) -> float:
+#: a cell can name a quantity only if it holds a letter (every header word has letters; '°' reads
+#: as 'deg'): time stamps and numbers are passed over without reading them as headers
+_MAY_NAME = re.compile(r"[^\W\d_]|[°º]")
+
+
+@lru_cache(maxsize=2048)
+def _known_text(cell: str) -> bool:
+    """The cell reads as a known quantity (a known name with a bad unit still marks a header)."""
     from .columns import read_header
 
-    n = 0
-    for j, c in enumerate(cells):
-        if isinstance(c, str) and c.strip():
-            try:
-                if read_header(c, j, {}) is not None:
-                    n += 1
-            except Exception:  # noqa: BLE001 - a known name with a bad unit still marks a header
-                n += 1
-    return float(n) if n >= 2 else 0.0
+    try:
+        return read_header(cell, 0, {}) is not None
+    except Exception:  # noqa: BLE001 - a known name with a bad unit still marks a header
+        return True
 
 
 def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", column_map=None,
@@ -204,7 +217,8 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     meta.notes += [f"{fname}: {x}" for x in t.notes]
     n = len(t.cells)
     rows = t.rows
-    part = pd.DataFrame({"source_file": np.full(n, k, dtype=np.int32), "source_row": rows})
+    # the columns of this part, in order (one frame is built from them at the end)
+    part = {"source_file": np.full(n, k, dtype=np.int32), "source_row": rows}
 
     # -- time
     tcol = next((c[x] for x in ("interval_end", "interval_start", "time") if x in c), None)
@@ -234,7 +248,7 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     if own_label != label:
         meta.notes.append(f"{fname}: header '{tcol.header}' says interval {own_label}; read as such "
                           f"(setting was '{label}')")
-    part["label"] = own_label
+    part["label"] = np.full(n, own_label, dtype=object)
     drop = np.isnat(utc) | bad_t
     utc, inferred = _infer_times(utc, drop)
     raw_t = t.cells[tcol.index]
@@ -270,7 +284,7 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
         v, empty, bad = to_numbers(raw, t.decimal)
         part[name] = s.unit.to_si(v)
         if name in ("volume_index", "volume_corrected_site_index"):
-            part[name + "_scale"] = s.unit.scale
+            part[name + "_scale"] = np.full(n, s.unit.scale)
         if bad.any():
             unparseable |= bad
             idx = np.flatnonzero(bad)
@@ -296,7 +310,9 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     ti = np.where(np.isnat(utc), np.iinfo(np.int64).min, utc.astype("datetime64[ns]").astype(np.int64))
     prev_max = np.maximum.accumulate(np.concatenate([[np.iinfo(np.int64).min], ti[:-1]]))
     part["flag_time_backwards"] = (ti < prev_max) & ~drop
-    return part[~drop].reset_index(drop=True)
+    if drop.any():
+        part = {name: v[~drop] for name, v in part.items()}
+    return pd.DataFrame(part)
 
 
 def _infer_times(utc: np.ndarray, bad: np.ndarray):
@@ -549,7 +565,8 @@ def _dedupe(df: pd.DataFrame, meta: LogMetadata) -> pd.DataFrame:
 
 def _finish(df: pd.DataFrame, meta: LogMetadata) -> pd.DataFrame:
     idx = pd.DatetimeIndex(pd.to_datetime(df["time"].to_numpy(np.int64), unit="ns", utc=True), name="interval_end")
-    out = pd.DataFrame(index=idx)
+    n = len(df)
+    out = {}  # the canonical columns, in order (one frame is built from them at the end)
     pcol = "pressure_gauge" if "pressure_gauge" in df else "pressure_line"
     out[pcol] = df[pcol].to_numpy(float)
     if "pressure_atm" in df:
@@ -561,17 +578,19 @@ def _finish(df: pd.DataFrame, meta: LogMetadata) -> pd.DataFrame:
         if c in df:
             out[c] = df[c].to_numpy(float)
     if "status" in df:
-        out["status"] = df["status"].fillna("").to_numpy(dtype=object)
+        status = df["status"].fillna("").to_numpy(dtype=object)
+        out["status"] = status
         files = [s["file"] for s in meta.sources]
-        nz = np.flatnonzero(out["status"].to_numpy(dtype=object) != "")
+        nz = np.flatnonzero(status != "")
         for i in nz[:_MAX_RECORDED]:
             meta.status.append({"time": idx[i].isoformat(), "file": files[int(df["source_file"].iat[i])],
-                                "row": int(df["source_row"].iat[i]), "text": str(out["status"].iat[i])})
+                                "row": int(df["source_row"].iat[i]), "text": str(status[i])})
     out["source_file"] = df["source_file"].to_numpy(np.int32)
     out["source_row"] = df["source_row"].to_numpy(np.int64)
     for f in READER_FLAGS:
-        out[f] = df[f].to_numpy(bool) if f in df else False
-    meta.flag_counts = {f[5:]: int(out[f].sum()) for f in READER_FLAGS}
+        out[f] = df[f].to_numpy(bool) if f in df else np.zeros(n, bool)
+    meta.flag_counts = {f[5:]: int(np.count_nonzero(out[f])) for f in READER_FLAGS}
+    out = pd.DataFrame(out, index=idx)
     out.attrs["timezone"] = meta.timezone
     out.attrs["nominal_interval_s"] = meta.nominal_interval_s
     out.attrs["volume_from"] = meta.volume_from

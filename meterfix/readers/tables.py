@@ -296,16 +296,35 @@ def _sniff_delimiter(lines: list[str]) -> str:
 
 _COMMA_DEC = re.compile(r"^[-+]?(?:\d{1,3}(?:[.\u00a0' ]\d{3})+|\d+),\d+$")
 _POINT_DEC = re.compile(r"^[-+]?(?:\d{1,3}(?:[,\u00a0' ]\d{3})+|\d+)\.\d+$")
+#: the same patterns, one cell per line of a joined text
+_COMMA_DEC_LINES = re.compile(_COMMA_DEC.pattern, re.MULTILINE)
+_POINT_DEC_LINES = re.compile(_POINT_DEC.pattern, re.MULTILINE)
 
 
 def _decimal_of(cells: pd.DataFrame) -> str:
+    """',' when more text cells of the first 2000 rows read as decimal-comma numbers than as
+    decimal-point numbers, else '.'.
+
+    Each column's text cells are stripped and joined one per line, and the two patterns are
+    counted over the joined text in one pass each (the same count as cell by cell: the patterns
+    cannot cross a line break; a column whose cells hold line breaks is counted cell by cell).
+    """
     sample = cells.iloc[:2000]
     comma = point = 0
     for j in sample.columns:
-        s = sample[j]
-        s = s[s.map(type) == str].str.strip()
-        comma += int(s.str.match(_COMMA_DEC).sum())
-        point += int(s.str.match(_POINT_DEC).sum())
+        col = sample[j].to_numpy(dtype=object)
+        texts = [c.strip() for c in col if type(c) is str]
+        if not texts:
+            continue
+        joined = "\n".join(texts)
+        if joined.count("\n") != len(texts) - 1:
+            comma += sum(1 for t in texts if _COMMA_DEC.match(t))
+            point += sum(1 for t in texts if _POINT_DEC.match(t))
+            continue
+        if "," in joined:
+            comma += len(_COMMA_DEC_LINES.findall(joined))
+        if "." in joined:
+            point += len(_POINT_DEC_LINES.findall(joined))
     return "," if comma > point else "."
 
 

@@ -133,7 +133,14 @@ def parse_datetimes(values, where: dict, *, what: str = "time"):
         out[m] = t
         bad[np.flatnonzero(m)[~ok]] = True
     m = kinds == "s"
-    if m.any():
+    if m.any() and _plain_iso(s[m] if not m.all() else s):
+        # every text cell is a plain ISO 8601 local time (no spaces to tidy, no offset, no blanks):
+        # the general path below would read them the same way, with the same parser
+        st = s[m] if not m.all() else s
+        vals = pd.to_datetime(st, format="ISO8601", errors="coerce").to_numpy("datetime64[ns]")
+        out[m] = vals
+        bad[m] = np.isnat(vals)
+    elif m.any():
         idx = np.flatnonzero(m)
         st = s[m]
         fmt = None
@@ -159,6 +166,19 @@ def parse_datetimes(values, where: dict, *, what: str = "time"):
     other = (kinds == "x") | (kinds == "b") | (kinds == "c") | (kinds == "e")
     bad |= other & ~pd.isna(s).to_numpy()
     return out, bad, is_utc
+
+
+#: 'YYYY-MM-DD HH:MM[:SS]' (or with 'T'), one per line
+_PLAIN_ISO_LINES = re.compile(r"\d{4}-\d{2}-\d{2}[ T]\d{2}:\d{2}(?::\d{2})?(?:\n\d{4}-\d{2}-\d{2}[ T]\d{2}:\d{2}(?::\d{2})?)*")
+
+
+def _plain_iso(st: pd.Series) -> bool:
+    """All cells are plain ISO 8601 date-times without offset, spaces around them or blanks."""
+    try:
+        joined = "\n".join(st.tolist())
+    except TypeError:
+        return False
+    return joined.count("\n") == len(st) - 1 and _PLAIN_ISO_LINES.fullmatch(joined) is not None
 
 
 def _strings(st_raw: pd.Series, where, what, fmt=None):
