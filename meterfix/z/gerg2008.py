@@ -283,18 +283,36 @@ def _worker_count(workers, n_blocks: int) -> int:
     return max(1, min(int(workers), n_blocks))
 
 
-def _run_parallel(run, blocks, n_work: int) -> None:
-    """Share the blocks among threads (numpy releases the GIL in its loops and in BLAS)."""
-    from concurrent.futures import ThreadPoolExecutor
+_CONTROLLER = []
 
-    try:  # one BLAS thread per worker: nested BLAS threads only oversubscribe the cores
-        from threadpoolctl import threadpool_limits
-        limits = threadpool_limits(limits=1, user_api="blas")
+
+def _blas_single_thread():
+    """Context holding the BLAS library to one thread: the matrix products here are small (inner
+    size the number of terms of a block), so BLAS threads only add hand-over costs, and on a
+    busy machine or under several worker processes they oversubscribe the cores."""
+    try:
+        from threadpoolctl import ThreadpoolController
     except ImportError:  # pragma: no cover - threadpoolctl is a dependency
-        limits = contextlib.nullcontext()
-    with limits, ThreadPoolExecutor(max_workers=n_work) as ex:
-        for f in [ex.submit(run, blocks[k::n_work]) for k in range(n_work)]:
-            f.result()
+        return contextlib.nullcontext()
+    if not _CONTROLLER:
+        _CONTROLLER.append(ThreadpoolController())  # inspecting the loaded libraries once
+    return _CONTROLLER[0].limit(limits=1, user_api="blas")
+
+
+def _run_blocks(run, blocks, n_work: int) -> None:
+    """Run ``run(list_of_blocks)`` in the caller's thread or shared among ``n_work`` threads
+    (numpy releases the GIL in its loops), with BLAS held to one thread meanwhile."""
+    if not blocks:
+        return
+    with _blas_single_thread():
+        if n_work <= 1:
+            run(blocks)
+            return
+        from concurrent.futures import ThreadPoolExecutor
+
+        with ThreadPoolExecutor(max_workers=n_work) as ex:
+            for f in [ex.submit(run, blocks[k::n_work]) for k in range(n_work)]:
+                f.result()
 
 
 def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = True,
@@ -319,7 +337,7 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
     workers : int, optional
         Threads for large inputs (blocks of points are independent). Default: one per CPU
         core, at most 4, from two blocks (2 x CHUNK points) up; 1 runs in the caller's
-        thread. While they run, the BLAS library is held to one thread each.
+        thread. While the points are solved the BLAS library is held to one thread (each).
 
     Returns
     -------
@@ -372,11 +390,7 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
         for j in block_list:
             z[j], rho[j], w[j], reason[j] = _solve_block(mix, ws, pf[j], tf[j], speed_of_sound)
 
-    if n_work <= 1:
-        if blocks:
-            run(blocks)
-    else:
-        _run_parallel(run, blocks, n_work)
+    _run_blocks(run, blocks, n_work)
     rng = range_by_box(pf, tf, NORMAL_RANGE, EXTENDED_RANGE)
     rng[bad] = OUTSIDE
     return ZResult(z.reshape(shape), rng.reshape(shape), reason.reshape(shape),
