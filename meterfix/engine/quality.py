@@ -107,14 +107,16 @@ def _nominal(frame: pd.DataFrame) -> float:
 
 
 def _insert_gaps(df: pd.DataFrame, nominal: float):
-    """Insert missing intervals; returns (frame, gap_intervals per row)."""
+    """Insert missing intervals.
+
+    Returns (frame, inserted, gap_intervals, flag_gap): the frame with the inserted rows, and per
+    row of it whether it was inserted, the count of missing intervals before it and its gap flag.
+    """
     t = df.index.asi8
     n = len(df)
     gap_n = np.zeros(n, np.int64)
     if n < 2:
-        df["gap_intervals"] = gap_n
-        df["flag_gap"] = False
-        return df
+        return df, np.zeros(n, bool), gap_n, np.zeros(n, bool)
     sp = np.diff(t) / 1e9
     k = np.concatenate([[0], np.maximum(np.round(sp / nominal).astype(np.int64) - 1, 0)])
     k[1:][sp <= 1.5 * nominal] = 0
@@ -123,10 +125,12 @@ def _insert_gaps(df: pd.DataFrame, nominal: float):
     gap_n[:] = k
     flag = (k > 0) & covers
     ins = (k > 0) & ~covers
-    df["gap_intervals"] = gap_n
-    df["flag_gap"] = flag
     if not ins.any():
-        return df
+        return df, np.zeros(n, bool), gap_n, flag
+    df = df.copy()
+    df["_inserted"] = False
+    df["_gap_intervals"] = gap_n
+    df["_flag_gap"] = flag
     pos = np.flatnonzero(ins)
     counts = k[pos]
     total = int(counts.sum())
@@ -140,9 +144,9 @@ def _insert_gaps(df: pd.DataFrame, nominal: float):
             add[c] = False
         elif c == "duration":
             add[c] = nominal
-        elif c == "gap_intervals":
+        elif c in ("gap_intervals", "_gap_intervals"):
             add[c] = 0
-        elif c == "_inserted":
+        elif c in ("_inserted", "_flag_gap"):
             add[c] = True
         elif c in ("source_file", "source_row"):
             add[c] = -1
@@ -150,18 +154,18 @@ def _insert_gaps(df: pd.DataFrame, nominal: float):
             add[c] = ""
         else:
             add[c] = np.nan
-    add["flag_gap"] = True
-    add["_inserted"] = True
     out = pd.concat([df, add]).sort_index(kind="stable")
     for c in ("source_file", "source_row", "gap_intervals"):
         if c in out:
             out[c] = out[c].astype(np.int64)
-    out["_inserted"] = out["_inserted"].astype(bool)
     for c in out.columns:
         if c.startswith("flag_"):
             out[c] = out[c].astype(bool)
     out.attrs = dict(df.attrs)
-    return out
+    inserted = out.pop("_inserted").to_numpy(bool)
+    gap_n = out.pop("_gap_intervals").to_numpy(np.int64)
+    flag = out.pop("_flag_gap").to_numpy(bool)
+    return out, inserted, gap_n, flag
 
 
 def _runs(mask: np.ndarray):
@@ -202,7 +206,12 @@ def _neighbour_median(x: np.ndarray, half: int) -> np.ndarray:
     med[full] = 0.5 * (srt[:, m // 2 - 1] + srt[:, m // 2])
     part = ~full & np.isfinite(st).any(axis=1)
     if part.any():
-        med[part] = np.nanmedian(st[part], axis=1)
+        # median of the values present (NaN left out), as np.nanmedian: the mean of the two middle
+        # values of the sorted row (the middle one twice for an odd count)
+        rows = np.sort(st[part], axis=1)  # NaN sort last
+        present = np.count_nonzero(~np.isnan(rows), axis=1)
+        r = np.arange(len(rows))
+        med[part] = (rows[r, (present - 1) // 2] + rows[r, present // 2]) / 2.0
     return med
 
 
@@ -251,34 +260,53 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
     df.attrs = dict(frame.attrs)
     if isinstance(df.index, pd.DatetimeIndex):
         df.index = df.index.as_unit("ns")
-    for f in QUALITY_FLAGS:
-        if f not in df.columns:
-            df[f] = False
     if not len(df):
+        for f in QUALITY_FLAGS:
+            if f not in df.columns:
+                df[f] = False
         return df, pd.DataFrame(columns=EDIT_COLUMNS)
     nominal = _nominal(df)
-    if "duration" not in df:
+    own_duration = "duration" in df
+    if not own_duration:
         df["duration"] = nominal
-    df["_inserted"] = False
-    df = _insert_gaps(df, nominal)
-    inserted = df.pop("_inserted").to_numpy(bool)
+    df, inserted, gap_n, flag_gap = _insert_gaps(df, nominal)
+    n = len(df)
     pcol = "pressure_gauge" if "pressure_gauge" in df else ("pressure_line" if "pressure_line" in df else None)
-    vol = df["volume_line"].to_numpy(float) if "volume_line" in df else np.full(len(df), np.nan)
+    vol = df["volume_line"].to_numpy(float) if "volume_line" in df else np.full(n, np.nan)
     flowing = np.isfinite(vol) & (vol > 0)
-    temp = df["temperature_line"].to_numpy(float) if "temperature_line" in df else np.full(len(df), np.nan)
-    p = df[pcol].to_numpy(float) if pcol else np.full(len(df), np.nan)
+    temp = df["temperature_line"].to_numpy(float) if "temperature_line" in df else np.full(n, np.nan)
+    p = df[pcol].to_numpy(float) if pcol else np.full(n, np.nan)
     plo, phi = lim.pressure_gauge if pcol == "pressure_gauge" else lim.pressure_line
     with np.errstate(invalid="ignore"):
         p_range = np.isfinite(p) & ((p < plo) | (p > phi))
         t_range = np.isfinite(temp) & ((temp < lim.temperature[0]) | (temp > lim.temperature[1]))
         zero = lim.zero_pressure_gauge if pcol == "pressure_gauge" else lim.zero_pressure_line
-        df["flag_flow_zero_pressure"] = flowing & np.isfinite(p) & (p <= zero)
-    df["flag_pressure_range"] = p_range
-    df["flag_temperature_range"] = t_range
-    df["flag_stuck"] = _stuck(p, flowing, lim.stuck_intervals) | _stuck(temp, flowing, lim.stuck_intervals)
-    df["flag_spike"] = (_spikes(np.where(p_range, np.nan, p), lim.spike_window, lim.spike_z)
-                        | _spikes(np.where(t_range, np.nan, temp), lim.spike_window, lim.spike_z)
-                        | _spikes(vol, lim.spike_window, lim.spike_z))
+        zero_p = flowing & np.isfinite(p) & (p <= zero)
+    found = {
+        "flag_gap": flag_gap,
+        "flag_pressure_range": p_range,
+        "flag_temperature_range": t_range,
+        "flag_stuck": _stuck(p, flowing, lim.stuck_intervals) | _stuck(temp, flowing, lim.stuck_intervals),
+        "flag_spike": (_spikes(np.where(p_range, np.nan, p), lim.spike_window, lim.spike_z)
+                       | _spikes(np.where(t_range, np.nan, temp), lim.spike_window, lim.spike_z)
+                       | _spikes(vol, lim.spike_window, lim.spike_z)),
+        "flag_flow_zero_pressure": zero_p,
+    }
+    # one frame: the log's columns (flags found here replace the log's own), then the quality
+    # flags it lacks (False unless found here), the nominal duration where the log has none, and
+    # the gap counts
+    cols = {c: df[c] for c in df.columns if own_duration or c != "duration"}
+    for f in QUALITY_FLAGS:
+        if f in found:
+            cols[f] = found[f]
+        elif f not in cols:
+            cols[f] = np.zeros(n, bool)
+    if not own_duration:
+        cols["duration"] = df["duration"]
+    cols["gap_intervals"] = gap_n
+    attrs = dict(df.attrs)
+    df = pd.DataFrame(cols, index=df.index)
+    df.attrs = attrs
     edits = []
     if policy != "none":
         tz = timezone or df.attrs.get("timezone") or "UTC"
