@@ -199,9 +199,11 @@ def _grouped(values: np.ndarray, codes: np.ndarray, how: str) -> np.ndarray:
     contiguous and the block has no NaN, else a compensated sum), so columns with and without NaN
     go in separate blocks: every column is summed exactly as if it were grouped on its own.
     """
-    out = np.empty((int(codes.max()) + 1 if len(codes) else 0, values.shape[1]))
-    has_nan = np.isnan(values).any(axis=0)
-    for part in (has_nan, ~has_nan):
+    out = np.full((int(codes.max()) + 1 if len(codes) else 0, values.shape[1]), np.nan)
+    nan = np.isnan(values)
+    has_nan = nan.any(axis=0)
+    all_nan = nan.all(axis=0)  # a column without values is NaN in every group either way
+    for part in (has_nan & ~all_nan, ~has_nan):
         if part.any():
             g = pd.DataFrame(values[:, part]).groupby(codes, sort=True)
             out[:, part] = (g.sum(min_count=1) if how == "sum" else g.mean()).to_numpy()
@@ -332,13 +334,13 @@ def _findings(cols: dict, index: pd.DatetimeIndex, days: pd.DataFrame, threshold
                          "end": index[b - 1].isoformat(), "intervals": int(b - a),
                          "ideal_gas_error_pct": 100.0 * (float(np.nansum(vi[a:b])) / vsum - 1.0) if vsum else np.nan,
                          "volume_impact_m3": dv, "energy_impact_MJ": dv * hv / 1e6 if np.isfinite(hv) else np.nan})
-    out = pd.DataFrame(rows, columns=["kind", "start", "end", "intervals", "ideal_gas_error_pct",
-                                      "volume_impact_m3", "energy_impact_MJ"])
-    if len(out):
-        out = out.reindex(out["volume_impact_m3"].abs().sort_values(ascending=False, kind="stable").index)
-        out.insert(0, "rank", np.arange(1, len(out) + 1))
-        out = out.reset_index(drop=True)
-    return out
+    columns = ["kind", "start", "end", "intervals", "ideal_gas_error_pct", "volume_impact_m3", "energy_impact_MJ"]
+    if not rows:
+        return pd.DataFrame(rows, columns=columns)
+    # largest volume impact first (ties in the order found, NaN last), ranked from 1
+    impact = np.abs(np.array([r["volume_impact_m3"] for r in rows], dtype=float))
+    order = sorted(range(len(rows)), key=lambda i: (np.isnan(impact[i]), -impact[i] if not np.isnan(impact[i]) else 0.0))
+    return pd.DataFrame([{"rank": k + 1, **rows[i]} for k, i in enumerate(order)], columns=["rank"] + columns)
 
 
 def _average_correction(cols: dict, analyses, settings: Settings, method: str) -> dict:
@@ -412,6 +414,9 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         analyses = [(None, None)]
     analyses = sorted(analyses, key=lambda a: pd.Timestamp.min.tz_localize("UTC") if a[0] is None else a[0])
 
+    # the same columns without the frame's attrs: pandas deep-copies a frame's attrs into every
+    # column taken from it (the quality record is in them), which costs more than the column
+    frame = pd.DataFrame(frame, copy=False)
     index = frame.index.copy()
     n = len(frame)
     duration = frame["duration"].to_numpy(float) if "duration" in frame.columns else np.full(n, np.nan)

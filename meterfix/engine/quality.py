@@ -93,8 +93,8 @@ class QualityLimits:
     zero_pressure_line: float = 10e3
 
 
-def _nominal(frame: pd.DataFrame) -> float:
-    nom = frame.attrs.get("nominal_interval_s")
+def _nominal(frame: pd.DataFrame, attrs: dict) -> float:
+    nom = attrs.get("nominal_interval_s")
     if nom is not None and np.isfinite(nom) and nom > 0:
         return float(nom)
     t = frame.index.asi8
@@ -257,15 +257,19 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
         raise SettingsError("max_gap_intervals is negative")
     lim = limits or QualityLimits()
     df = frame.copy()
-    df.attrs = dict(frame.attrs)
+    # the attrs are kept aside meanwhile: pandas deep-copies a frame's attrs into every column
+    # taken from it
+    attrs = dict(frame.attrs)
+    df.attrs = {}
     if isinstance(df.index, pd.DatetimeIndex):
         df.index = df.index.as_unit("ns")
     if not len(df):
         for f in QUALITY_FLAGS:
             if f not in df.columns:
                 df[f] = False
+        df.attrs = attrs
         return df, pd.DataFrame(columns=EDIT_COLUMNS)
-    nominal = _nominal(df)
+    nominal = _nominal(df, attrs)
     own_duration = "duration" in df
     if not own_duration:
         df["duration"] = nominal
@@ -304,12 +308,10 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
     if not own_duration:
         cols["duration"] = df["duration"]
     cols["gap_intervals"] = gap_n
-    attrs = dict(df.attrs)
     df = pd.DataFrame(cols, index=df.index)
-    df.attrs = attrs
     edits = []
     if policy != "none":
-        tz = timezone or df.attrs.get("timezone") or "UTC"
+        tz = timezone or attrs.get("timezone") or "UTC"
         dur = df["duration"].to_numpy(float)
         zero_p = df["flag_flow_zero_pressure"].to_numpy(bool)
         for col, bad_extra, as_rate in ((pcol, p_range | zero_p, False), ("temperature_line", t_range, False),
@@ -338,6 +340,7 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
     edit = pd.concat(edits, ignore_index=True) if edits else pd.DataFrame(columns=EDIT_COLUMNS)
     if len(edit):
         edit = edit.sort_values(["time", "what"], kind="stable").reset_index(drop=True)
+    df.attrs = attrs
     df.attrs["quality"] = {"policy": policy, "max_gap_intervals": int(max_gap_intervals), **asdict(lim),
                            "nominal_interval_s": nominal}
     return df, edit
