@@ -296,9 +296,14 @@ def _sniff_delimiter(lines: list[str]) -> str:
 
 _COMMA_DEC = re.compile(r"^[-+]?(?:\d{1,3}(?:[.\u00a0' ]\d{3})+|\d+),\d+$")
 _POINT_DEC = re.compile(r"^[-+]?(?:\d{1,3}(?:[,\u00a0' ]\d{3})+|\d+)\.\d+$")
-#: the same patterns, one cell per line of a joined text
+#: the same patterns, one cell per line of a joined text; and every line of it (the usual case)
 _COMMA_DEC_LINES = re.compile(_COMMA_DEC.pattern, re.MULTILINE)
 _POINT_DEC_LINES = re.compile(_POINT_DEC.pattern, re.MULTILINE)
+_COMMA_DEC_ALL = re.compile("(?:{0}\n)*{0}".format(_COMMA_DEC.pattern[1:-1]))
+_POINT_DEC_ALL = re.compile("(?:{0}\n)*{0}".format(_POINT_DEC.pattern[1:-1]))
+#: every line a plain decimal number (ASCII digits, no grouping): each matches one pattern only
+_PLAIN_POINT_ALL = re.compile(r"(?a:[-+]?\d+\.\d+(?:\n[-+]?\d+\.\d+)*)")
+_PLAIN_COMMA_ALL = re.compile(r"(?a:[-+]?\d+,\d+(?:\n[-+]?\d+,\d+)*)")
 
 
 def _decimal_of(cells: pd.DataFrame) -> str:
@@ -321,10 +326,16 @@ def _decimal_of(cells: pd.DataFrame) -> str:
             comma += sum(1 for t in texts if _COMMA_DEC.match(t))
             point += sum(1 for t in texts if _POINT_DEC.match(t))
             continue
+        if _PLAIN_POINT_ALL.fullmatch(joined):
+            point += len(texts)
+            continue
+        if _PLAIN_COMMA_ALL.fullmatch(joined):
+            comma += len(texts)
+            continue
         if "," in joined:
-            comma += len(_COMMA_DEC_LINES.findall(joined))
+            comma += len(texts) if _COMMA_DEC_ALL.fullmatch(joined) else len(_COMMA_DEC_LINES.findall(joined))
         if "." in joined:
-            point += len(_POINT_DEC_LINES.findall(joined))
+            point += len(texts) if _POINT_DEC_ALL.fullmatch(joined) else len(_POINT_DEC_LINES.findall(joined))
     return "," if comma > point else "."
 
 
@@ -355,7 +366,7 @@ def _parse_text(data: bytes, name, score, limits: Limits) -> RawTable:
         with warnings.catch_warnings():
             warnings.simplefilter("error", pd.errors.ParserWarning)  # never drop cells silently
             df = pd.read_csv(io.StringIO(text), sep=delim, header=None, skiprows=skip, names=list(range(width)),
-                             dtype=str, keep_default_na=False, na_filter=False, skip_blank_lines=False,
+                             dtype=object, keep_default_na=False, na_filter=False, skip_blank_lines=False,
                              engine="c", index_col=False)
         rows = np.arange(skip + 1, skip + 1 + len(df), dtype=np.int64)
     except (pd.errors.ParserError, pd.errors.ParserWarning, ValueError):
