@@ -218,8 +218,10 @@ def _group_totals(cols: dict, groupings) -> list:
     cols : dict of ndarray      interval columns (SI): duration [s], volume_line, volume_base,
                                 volume_base_ideal [m3], mass [kg], energy [J], pressure_line [Pa],
                                 temperature_line [K], estimated, flagged (bool)
-    groupings : list of (codes, keys)   codes: int array, each interval's group (0..len(keys)-1,
-                                every group present); keys: Index of the groups in order
+    groupings : list of (codes, keys) or (codes, keys, first, last)   codes: int array, each
+                                interval's group (0..len(keys)-1, every group present); keys:
+                                Index of the groups in order; first, last: dicts of further
+                                columns (one value per group) put before and after the totals
 
     Returns
     -------
@@ -237,8 +239,8 @@ def _group_totals(cols: dict, groupings) -> list:
     vb = cols["volume_base"]
     summed = np.column_stack([cols[c] for c in _SUMMED] + [np.where(est, vb, np.nan)])
     averaged = np.column_stack([cols["pressure_line"], cols["temperature_line"]])
-    codes = [np.asarray(c, dtype=np.int64) for c, _ in groupings]
-    sizes = [len(keys) for _, keys in groupings]
+    codes = [np.asarray(g[0], dtype=np.int64) for g in groupings]
+    sizes = [len(g[1]) for g in groupings]
     offsets = np.concatenate([[0], np.cumsum(sizes)]).astype(np.int64)
     if all(len(c) < 2 or bool((np.diff(c) >= 0).all()) for c in codes):
         stacked = np.concatenate([c + off for c, off in zip(codes, offsets)])
@@ -249,13 +251,16 @@ def _group_totals(cols: dict, groupings) -> list:
         sums = np.concatenate([_grouped(summed, c, "sum") for c in codes])
         means = np.concatenate([_grouped(averaged, c, "mean") for c in codes])
     out = []
-    for c, (_, keys), a, b in zip(codes, groupings, offsets[:-1], offsets[1:]):
+    for c, g, a, b in zip(codes, groupings, offsets[:-1], offsets[1:]):
+        keys = g[1]
+        first, last = (g[2], g[3]) if len(g) > 2 else ({}, {})
         s = sums[a:b]
         vol_b = s[:, 2]
         with np.errstate(invalid="ignore", divide="ignore"):
             err = 100.0 * (s[:, 3] / vol_b - 1.0)
             share = 100.0 * s[:, 6] / vol_b
         out.append(pd.DataFrame({
+            **first,
             "intervals": np.bincount(c, minlength=len(keys)).astype(np.int64),
             "hours": np.where(np.isnan(s[:, 0]), 0.0, s[:, 0]) / 3600.0,
             "volume_line": s[:, 1],
@@ -269,6 +274,7 @@ def _group_totals(cols: dict, groupings) -> list:
             "flagged_intervals": np.bincount(c[flagged], minlength=len(keys)).astype(np.int64),
             "ideal_gas_error_pct": err,
             "estimated_volume_share_pct": np.where(np.isnan(share), 0.0, share),
+            **last,
         }, index=keys))
     return out
 
@@ -340,7 +346,9 @@ def _findings(cols: dict, index: pd.DatetimeIndex, days: pd.DataFrame, threshold
     # largest volume impact first (ties in the order found, NaN last), ranked from 1
     impact = np.abs(np.array([r["volume_impact_m3"] for r in rows], dtype=float))
     order = sorted(range(len(rows)), key=lambda i: (np.isnan(impact[i]), -impact[i] if not np.isnan(impact[i]) else 0.0))
-    return pd.DataFrame([{"rank": k + 1, **rows[i]} for k, i in enumerate(order)], columns=["rank"] + columns)
+    table = {"rank": list(range(1, len(rows) + 1))}
+    table.update({c: [rows[i][c] for i in order] for c in columns})
+    return pd.DataFrame(table)
 
 
 def _average_correction(cols: dict, analyses, settings: Settings, method: str) -> dict:
@@ -508,13 +516,12 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     days, months, periods = _group_totals(cols, [
         (day_codes, pd.Index(day_list, dtype=object, name="gas_day")),
         (month_of_day.reshape(-1)[day_codes], pd.Index(month_keys, name="month")),
-        (period_codes.reshape(-1), pd.Index(used, name="analysis")),
+        (period_codes.reshape(-1), pd.Index(used, name="analysis"),
+         {"effective_from": [None if in_force[i].effective_from is None
+                             else pd.Timestamp(in_force[i].effective_from).isoformat() for i in used]},
+         {"z_base": [in_force[i].z_base for i in used], "heating_value": [in_force[i].heating_value for i in used]}),
     ])
     df = pd.DataFrame(cols, index=index)
-    periods.insert(0, "effective_from", [None if in_force[i].effective_from is None
-                                         else pd.Timestamp(in_force[i].effective_from).isoformat() for i in periods.index])
-    periods["z_base"] = [in_force[i].z_base for i in periods.index]
-    periods["heating_value"] = [in_force[i].heating_value for i in periods.index]
     totals = _totals(cols)
     flags = {c[5:]: int(np.count_nonzero(cols[c])) for c in all_flags}
     findings = _findings(cols, index, days, settings.ideal_gas_threshold_pct)
