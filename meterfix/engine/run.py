@@ -85,13 +85,17 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
         result.uncertainty = U.month_uncertainty(
             result, progress=None if progress is None else (lambda done, total: step(
                 "uncertainty: Monte Carlo", 0.6 + 0.25 * min(1.0, done / max(total, 1)))))
-    from . import reconcile as RC
-
+    # reconcile is imported only when needed: it brings in scipy.optimize (most of a second),
+    # which a month without an invoice or a site corrector does not use
     if invoice is not None:
+        from . import reconcile as RC
+
         step("reconciling the invoice", 0.85)
         result.inputs.append(_file_record(invoice, "invoice"))
         result.reconciliation = RC.reconcile_invoice(result, _check_file(invoice))
     if "volume_corrected_site" in frame.columns:
+        from . import reconcile as RC
+
         step("checking the site corrector", 0.9)
         result.corrector_check = RC.check_corrector(result, frame)
     step("done", 1.0)
