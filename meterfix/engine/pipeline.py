@@ -230,9 +230,9 @@ def _group_totals(cols: dict, groupings) -> list:
     Notes
     -----
     When every grouping's groups are contiguous in time (the usual case) the groupings are
-    stacked into one table of group numbers, so that one grouped sum and one grouped mean serve
-    them all; each group still adds its own intervals in time order, so the figures are those of
-    a separate pass per grouping.
+    stacked into one table of group numbers, so that one grouped sum serves them all (and the
+    means where no value is missing); each group still adds its own intervals in time order, so
+    the figures are those of a separate pass per grouping.
     """
     est = cols["estimated"]
     flagged = cols["flagged"]
@@ -245,8 +245,14 @@ def _group_totals(cols: dict, groupings) -> list:
     if all(len(c) < 2 or bool((np.diff(c) >= 0).all()) for c in codes):
         stacked = np.concatenate([c + off for c, off in zip(codes, offsets)])
         k = len(groupings)
-        sums = _grouped(np.tile(summed, (k, 1)), stacked, "sum")
-        means = _grouped(np.tile(averaged, (k, 1)), stacked, "mean")
+        both = _grouped(np.tile(np.column_stack([summed, averaged]), (k, 1)), stacked, "sum")
+        sums = both[:, :summed.shape[1]]
+        # groups contiguous and no value missing: pandas' mean is its sum over the group size
+        # (the same running sum); a column with gaps takes pandas' mean itself
+        means = both[:, summed.shape[1]:] / np.bincount(stacked).astype(np.float64)[:, None]
+        gaps = np.isnan(averaged).any(axis=0)
+        if gaps.any():
+            means[:, gaps] = _grouped(np.tile(averaged[:, gaps], (k, 1)), stacked, "mean")
     else:
         sums = np.concatenate([_grouped(summed, c, "sum") for c in codes])
         means = np.concatenate([_grouped(averaged, c, "mean") for c in codes])

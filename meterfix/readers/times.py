@@ -17,6 +17,7 @@ from __future__ import annotations
 
 import datetime as _dt
 import re
+import warnings
 
 import numpy as np
 import pandas as pd
@@ -106,7 +107,11 @@ def parse_datetimes(values, where: dict, *, what: str = "time"):
     bad : bool ndarray                     non-empty cells that are not a date-time
     is_utc : bool                          the text carried offsets (already converted to UTC)
     """
-    s = pd.Series(np.asarray(values, dtype=object))
+    cells = np.asarray(values, dtype=object)
+    exact = _exact_iso(cells)
+    if exact is not None:
+        return exact, np.zeros(len(cells), bool), False
+    s = pd.Series(cells)
     n = len(s)
     out = np.full(n, np.datetime64("NaT"), dtype="datetime64[ns]")
     bad = np.zeros(n, bool)
@@ -166,6 +171,40 @@ def parse_datetimes(values, where: dict, *, what: str = "time"):
     other = (kinds == "x") | (kinds == "b") | (kinds == "c") | (kinds == "e")
     bad |= other & ~pd.isna(s).to_numpy()
     return out, bad, is_utc
+
+
+_NS_RANGE = (np.datetime64("1678-01-01T00:00:00", "s"), np.datetime64("2262-01-01T00:00:00", "s"))
+
+
+def _exact_iso(cells: np.ndarray):
+    """Text cells that are all 'YYYY-MM-DD HH:MM' (or all with seconds; 'T' or a space between)
+    read by numpy, or None when any cell is not exactly that.
+
+    A cell is taken only when numpy writes the instant it read back as the very same text, so
+    the reading is the literal one (the one the general path gives); anything else (other
+    layouts, spaces, offsets, impossible dates, times outside 1678-2261) is left to it.
+    """
+    if not len(cells) or pd.api.types.infer_dtype(cells, skipna=False) != "string":
+        return None
+    first = cells[0]
+    unit = {16: "m", 19: "s"}.get(len(first))
+    if unit is None or first[10] not in " T":
+        return None
+    text = cells.tolist()
+    try:
+        with warnings.catch_warnings():
+            warnings.simplefilter("error")
+            t = np.array(text, dtype=f"datetime64[{unit}]")
+    except (ValueError, TypeError, Warning):
+        return None
+    back = np.datetime_as_string(t, unit=unit).tolist()
+    if first[10] == " ":
+        back = [b.replace("T", " ", 1) for b in back]
+    if back != text:
+        return None
+    if not ((t >= _NS_RANGE[0]) & (t < _NS_RANGE[1])).all():
+        return None
+    return t.astype("datetime64[ns]")
 
 
 #: 'YYYY-MM-DD HH:MM[:SS]' (or with 'T'), one per line
