@@ -136,3 +136,17 @@ def test_plain_iso_times_read_as_the_general_path_reads_them():
     got2, bad2, _ = parse_datetimes(np.array(spaced, dtype=object), {})
     np.testing.assert_array_equal(got2, got)
     np.testing.assert_array_equal(bad2, bad)
+
+
+def test_exact_iso_reading_agrees_with_pandas_and_declines_the_rest():
+    # reference: pandas.to_datetime(format='ISO8601') on columns the numpy reading takes
+    from meterfix.readers.times import _exact_iso
+
+    for stamps in ([f"2026-03-29 {h:02d}:00" for h in range(24)],
+                   [f"2026-10-25T{h:02d}:00:{s:02d}" for h in range(24) for s in (0, 30)]):
+        got = _exact_iso(np.array(stamps, dtype=object))
+        want = pd.to_datetime(pd.Series(stamps), format="ISO8601").to_numpy("datetime64[ns]")
+        np.testing.assert_array_equal(got, want)
+    for odd in (["2026-10-01 01:00", "2026-10-01T02:00"], ["2026-10-01 24:00"], ["2026-10-01T01:00+01"],
+                ["2500-01-01 00:00"], ["2026-10-01 01:00", "2026-10-01 01:00:00"], ["2026-10-01 01:00", None]):
+        assert _exact_iso(np.array(odd, dtype=object)) is None, odd
