@@ -530,9 +530,15 @@ def to_numbers(values, decimal: str = ".") -> tuple[np.ndarray, np.ndarray, np.n
         ``empty``: the cell is blank or a missing-value mark ('-', 'n/a', 'null' ...);
         ``bad``: the cell holds something that is not a number.
     """
-    s = pd.Series(np.asarray(values, dtype=object))
-    n = len(s)
-    all_str = n > 0 and pd.api.types.infer_dtype(s, skipna=False) == "string"
+    cells = np.asarray(values, dtype=object)
+    n = len(cells)
+    all_str = n > 0 and pd.api.types.infer_dtype(cells, skipna=False) == "string"
+    if all_str and decimal != ",":
+        # every cell text with a decimal point: one parse of the cells; done if each one reads
+        quick = pd.to_numeric(cells, errors="coerce").astype(float)
+        if not np.isnan(quick).any():
+            return quick, np.zeros(n, bool), np.zeros(n, bool)
+    s = pd.Series(cells)
     is_str = np.ones(n, bool) if all_str else (s.map(type).to_numpy() == str)
     out = np.full(n, np.nan)
     bad = np.zeros(n, bool)
