@@ -172,6 +172,10 @@ def _molar_mass(gas) -> float:
     return np.nan
 
 
+#: the categories of the z_range column (made once)
+_Z_RANGE_DTYPE = pd.CategoricalDtype([RANGE_NAMES[i] for i in range(3)])
+
+
 def _gas_day(index_utc: pd.DatetimeIndex, duration_s: np.ndarray, settings: Settings):
     """Gas day of each interval: the local date on which the gas day containing its start began.
 
@@ -502,7 +506,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
             "factor_temperature": ft, "factor_z": fz, "volume_base": vb, "volume_base_ideal": vi,
             "ideal_gas_error_pct": K.ideal_gas_error_pct(vi, vb), "mass": vb * rho_b, "heating_value": hv,
             "energy": vb * hv,
-            "z_range": pd.Categorical.from_codes(z_range, categories=[RANGE_NAMES[i] for i in range(3)]),
+            "z_range": pd.Categorical.from_codes(z_range, dtype=_Z_RANGE_DTYPE),
             "z_reason": z_reason}
     for c in frame.columns:
         if c.startswith("flag_"):
