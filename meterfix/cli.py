@@ -204,15 +204,15 @@ def template_command(
 
 def write_templates(folder, *, overwrite: bool = False) -> list:
     """Copy the shipped templates into ``folder``; every file checked before the first is written."""
-    import importlib.resources
-
     from .errors import InputError
     from .writers.atomic import check_target, write_bytes
 
     out = Path(folder)
     if out.exists() and not out.is_dir():
         raise InputError("is a file, not a folder", file=out, hint="give a folder for the templates")
-    src = importlib.resources.files("meterfix.templates")
+    from .resources import data_folder
+
+    src = data_folder("templates")
     targets = [out / name for name in TEMPLATE_FILES]
     for t in targets:
         try:

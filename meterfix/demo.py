@@ -47,10 +47,9 @@ def demo_month():
 
 def demo_folder():
     """The folder of the shipped demo files (site.toml names the others in its [files] table)."""
-    import importlib.resources
-    from pathlib import Path
+    from .resources import data_folder
 
-    return Path(str(importlib.resources.files("meterfix.fixtures").joinpath("demo")))
+    return data_folder("fixtures") / "demo"
 
 
 def run_demo(out_dir, overwrite: bool = False):

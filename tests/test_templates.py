@@ -2,7 +2,6 @@
 `meterfix template DIR`, and a filled template reads back through the readers."""
 
 import datetime as dt
-import importlib.resources
 import re
 import sys
 import tomllib
@@ -33,9 +32,16 @@ def test_committed_templates_are_what_the_generator_makes():
 
 
 def test_templates_ship_in_the_package():
-    files = importlib.resources.files("meterfix.templates")
+    # the templates the package uses (the installed package's, or the checkout's folder when the
+    # tests import meterfix from the source tree); the wheel itself is checked in test_demo_files
+    from meterfix.resources import data_folder
+
+    files = data_folder("templates")
     for name in TEMPLATE_FILES:
-        assert files.joinpath(name).read_bytes() == (TEMPLATES / name).read_bytes()
+        assert (files / name).read_bytes() == (TEMPLATES / name).read_bytes()
+    pyproject = tomllib.loads((TEMPLATES.parent / "pyproject.toml").read_text())
+    shipped = pyproject["tool"]["setuptools"]["package-data"]["meterfix.templates"]
+    assert all(any(Path(n).match(pat) for pat in shipped) for n in TEMPLATE_FILES)
 
 
 def test_template_command_writes_and_refuses_to_overwrite(tmp_path):
