@@ -442,3 +442,15 @@ CASES = [
     invoice_end_before_start, invoice_missing_volume, invoice_ambiguous_dates, missing_file, missing_file_and_no_settings, missing_site_file, folder_as_file,
     out_is_a_file,
 ]
+
+
+def mistyped_year(d):
+    """A mistyped year in one row (2062 for 2026) and one beyond the datetime range (2500): each
+    time is placed in the one slot its neighbours leave, flagged, and no volume is lost."""
+    body = rows()
+    body[7][0] = body[7][0].replace("2026", "2062")
+    body[15][0] = body[15][0].replace("2026", "2500")
+    return log_case(d, csv_text(body=body), exit_code=0, flag="unparseable")
+
+
+CASES.append(mistyped_year)

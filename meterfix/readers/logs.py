@@ -251,12 +251,16 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
                           f"(setting was '{label}')")
     part["label"] = np.full(n, own_label, dtype=object)
     drop = np.isnat(utc) | bad_t
+    stray = _stray_times(utc, drop)
+    drop |= stray
     utc, inferred = _infer_times(utc, drop)
     raw_t = t.cells[tcol.index]
     for i in np.flatnonzero(inferred)[:_MAX_RECORDED]:
         meta.unparseable.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "column": tcol.header,
                                  "value": str(raw_t.iat[i]),
-                                 "note": f"time placed between its neighbours at {pd.Timestamp(utc[i]).isoformat()}Z"})
+                                 "note": ("the time is more than a day off the slot its neighbours leave; "
+                                          if stray[i] else "the time cannot be read; ")
+                                 + f"time placed between its neighbours at {pd.Timestamp(utc[i]).isoformat()}Z"})
     meta.unparseable_count += int(inferred.sum())
     drop &= ~inferred
     part["time"] = utc
@@ -314,6 +318,30 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     if drop.any():
         part = {name: v[~drop] for name, v in part.items()}
     return part
+
+
+def _stray_times(utc: np.ndarray, bad: np.ndarray) -> np.ndarray:
+    """Rows whose time is more than a day off the one slot their neighbours leave (a mistyped year,
+    month or day). They are treated as unreadable times, so that one typing error neither inserts
+    months of gap rows nor reorders the log; :func:`_infer_times` then places them in that slot.
+    """
+    n = len(utc)
+    out = np.zeros(n, bool)
+    if n < 3:
+        return out
+    t = utc.astype(np.int64)
+    ok = ~bad
+    d = np.diff(np.sort(t[ok]))
+    d = d[d > 0]
+    if not len(d):
+        return out
+    nominal = int(np.median(d))
+    prev, cur, nxt = t[:-2], t[1:-1], t[2:]
+    usable = ok[:-2] & ok[1:-1] & ok[2:]
+    one_slot = np.abs((nxt - prev) - 2 * nominal) <= 10**9
+    off = np.abs(cur - (prev + nominal)) > 86_400 * 10**9
+    out[1:-1] = usable & one_slot & off
+    return out
 
 
 def _infer_times(utc: np.ndarray, bad: np.ndarray):

@@ -128,7 +128,7 @@ def problem_entries(meta) -> dict:
     for u in _get(meta, "unparseable", []) or []:
         f = u.get("file")
         note = u.get("note")
-        problem = (f"the time cannot be read; {note}" if note else
+        problem = (note if note and note.startswith("the time") else f"the time cannot be read; {note}" if note else
                    "cannot be read as a number: read as empty and the interval flagged 'unparseable'")
         unreadable.append({"file": _text(f), "sheet": _text(u.get("sheet", sheets.get(f))), "row": u.get("row"),
                            "column": _text(u.get("column")), "text": _text(u.get("value")), "problem": problem})
