@@ -369,7 +369,7 @@ def unknown_site_key(d):
                 must_say=["flux_capacitor"])
 
 
-def invalid_invoice_tolerance_unit(d):
+def bad_atmospheric_pressure_unit(d):
     return _settings_case(d, ["--atmospheric-pressure", "12 furlongs"], ["furlongs"])
 
 
@@ -438,7 +438,7 @@ CASES = [
     duplicated_timestamps, nonexistent_local_time, composition_sums_wrong, composition_unknown_component,
     composition_negative, composition_text_value, composition_empty, composition_is_a_log, gas_option_sums_wrong,
     bad_base_pressure, unknown_method, unknown_timezone, bad_gas_day_start, gauge_without_atmosphere,
-    malformed_site_file, unknown_site_key, invalid_invoice_tolerance_unit, overlapping_invoice_periods,
+    malformed_site_file, unknown_site_key, bad_atmospheric_pressure_unit, overlapping_invoice_periods,
     invoice_end_before_start, invoice_missing_volume, invoice_ambiguous_dates, missing_file, missing_file_and_no_settings, missing_site_file, folder_as_file,
     out_is_a_file,
 ]

@@ -50,7 +50,7 @@ def sniff_format(head: bytes, suffix: str, name) -> str:
     """'zip', 'ole', 'text' from the first bytes, checked against the extension."""
     suffix = suffix.lower()
     if not head:
-        raise InputError("the file is empty", file=name, hint="export the log again; the file has no bytes")
+        raise InputError("the file is empty", file=name, hint="export the file again; it has no bytes")
     is_zip = head.startswith(_ZIP_MAGIC)
     is_ole = head.startswith(_OLE_MAGIC)
     if suffix in ZIP_SUFFIXES:

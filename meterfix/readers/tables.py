@@ -342,7 +342,7 @@ def _decimal_of(cells: pd.DataFrame) -> str:
 def _parse_text(data: bytes, name, score, limits: Limits) -> RawTable:
     text, enc = _decode(data, name)
     if not text.strip():
-        raise InputError("the file is empty", file=name, hint="export the log again; the file holds no table")
+        raise InputError("the file is empty", file=name, hint="export the file again; it holds no table")
     n_lines = text.count("\n") + 1
     if n_lines > limits.max_rows + limits.header_scan_rows:
         raise InputError(f"the file has {n_lines} lines, more than the limit of {limits.max_rows} rows", file=name,
