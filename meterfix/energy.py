@@ -121,9 +121,7 @@ def heating_value(composition, *, temperature_combustion: float = 298.15, temper
     """
     hm = float(gross_molar_heating_value(composition.fractions, temperature_combustion))
     if z_metering is None:
-        from .z import evaluate_z
-
-        z_metering = float(np.asarray(evaluate_z(pressure_metering, temperature_metering, composition, method).z))
+        z_metering = _z_at(pressure_metering, temperature_metering, composition, method)
     rho_ideal = pressure_metering / (R * temperature_metering)
     return HeatingValueResult(hm, hm * rho_ideal, hm * rho_ideal / z_metering, float(z_metering),
                               temperature_combustion, temperature_metering, pressure_metering)
@@ -147,6 +145,13 @@ def convert_volumetric_heating_value(value, *, composition=None, temperature_met
     return value * (pressure_metering_to / pressure_metering_from) * (temperature_metering_from / temperature_metering_to)
 
 
+def _z_at(pressure: float, temperature: float, gas, method: str) -> float:
+    """Z of ``gas`` at one state [-] (pressure [Pa], temperature [K]) with a registered method."""
+    from .z import evaluate_z
+
+    return float(np.asarray(evaluate_z(pressure, temperature, gas, method).z).reshape(-1)[0])
+
+
 def relative_density(composition, *, temperature_metering: float = 288.15, pressure_metering: float = 101325.0,
                      z_metering: float | None = None, method: str = "gerg-2008") -> float:
     """Real-gas relative density d = (M / M_air) (Z_air / Z) at a metering reference [-].
@@ -159,11 +164,9 @@ def relative_density(composition, *, temperature_metering: float = 288.15, press
     z_metering : float [-], optional   Z of the gas at the reference; computed with ``method`` if None
     method : str                       Z method for the gas (if needed) and for dry air
     """
-    from .z import evaluate_z
-
     if z_metering is None:
-        z_metering = float(np.asarray(evaluate_z(pressure_metering, temperature_metering, composition, method).z))
-    z_air = float(np.asarray(evaluate_z(pressure_metering, temperature_metering, AIR, method).z))
+        z_metering = _z_at(pressure_metering, temperature_metering, composition, method)
+    z_air = _z_at(pressure_metering, temperature_metering, AIR, method)
     return composition.molar_mass / MOLAR_MASS_AIR * z_air / z_metering
 
 
@@ -179,10 +182,8 @@ def density(composition, *, temperature_metering: float = 288.15, pressure_meter
     z_metering : float [-], optional
     method : str
     """
-    from .z import evaluate_z
-
     if z_metering is None:
-        z_metering = float(np.asarray(evaluate_z(pressure_metering, temperature_metering, composition, method).z))
+        z_metering = _z_at(pressure_metering, temperature_metering, composition, method)
     return pressure_metering * composition.molar_mass / (z_metering * R * temperature_metering)
 
 
