@@ -10,8 +10,6 @@ points together.
 
 from __future__ import annotations
 
-import contextlib
-import os
 from functools import lru_cache
 
 import numpy as np
@@ -19,8 +17,10 @@ import numpy as np
 from ..gas.components import INDEX
 from ..gas.composition import as_composition
 from .aga8_detail_mixture import COL_B, COL_K, N_COL, R_DETAIL, U_EXPONENTS, DetailMixture, mixture
-from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_INVALID_INPUT, REASON_NO_CONVERGENCE,
-                   REASON_NO_GAS_ROOT, ZResult, invalid_points)
+from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_NO_CONVERGENCE,
+                   REASON_NO_GAS_ROOT, ZResult)
+from .blocks import REASON_DTYPE, solve_points
+from .gas_root import solve_ln_density
 from .registry import ZMethod
 
 EDITION = "AGA Report No. 8 Part 1 (2017), DETAIL characterization (= ISO 20765-1, ISO 12213-2)"
@@ -70,9 +70,6 @@ STEP_TOL_NEWTON = 1e-8
 MAX_ITER = 80
 #: Halley steps of the unguarded first pass (pipeline states converge in two or three)
 FAST_STEPS = 4
-_REASON_DTYPE = "<U16"
-#: at most this many threads by default
-MAX_WORKERS = 4
 
 # moment matrix: h = _MOM.T @ y gives, per point, sums over the columns of y = W phi weighted by
 # b (0), b^2 (1), the indicator of k = 1..4 (2-5), b times it (6-9), b^3 (10), b^2 times it (11-14)
@@ -217,49 +214,17 @@ def _fast_solve(ws: _Workspace, w_all: np.ndarray, d0: np.ndarray, lnpi: np.ndar
 
 
 def _safe_solve(ws: _Workspace, w_all: np.ndarray, delta: np.ndarray, lnpi: np.ndarray):
-    """Safeguarded solve: Halley (or Newton) steps in ln(delta) kept inside a bracket
-    [lo, hi] of the root, bisection where a step leaves it. ``delta`` holds the start and
-    receives the roots. Returns the masks (converged, no root in the bracket); the rest did
-    not converge."""
-    n = delta.size
-    act = np.arange(n)
-    d, lo, hi = delta.copy(), np.zeros(n), np.full(n, DELTA_MAX)
-    w = w_all
-    done = np.zeros(n, dtype=bool)
-    failed = np.zeros(n, dtype=bool)
-    for _ in range(MAX_ITER):
-        if act.size == 0:
-            break
-        zm1, dz, d2z = _z_functions(ws, w, d, 3)
-        z = 1.0 + zm1
-        s = z + dz  # (dp/drho)_T / (R T)
-        good = np.isfinite(s) & np.isfinite(d2z) & (z > 0) & (s > 0)
-        f = np.where(good, np.log(np.where(good, d * z, 1.0)) - lnpi, 0.0)  # ln(p / p_target)
-        f1 = s / z
-        f2 = d2z / z - (dz / z) ** 2
-        newton = np.where(good, -f / f1, 0.0)
-        corr = 1.0 - 0.5 * f * f2 / (f1 * f1)
-        halley = (corr > 0.5) & (corr < 2.0)
-        step = np.where(halley, newton / corr, newton)
-        hi = np.where(~good | (f > 0), np.minimum(hi, d), hi)
-        lo = np.where(good & (f < 0), np.maximum(lo, d), lo)
-        new = d * np.exp(step)
-        tol = np.where(halley, STEP_TOL_HALLEY, STEP_TOL_NEWTON) * np.minimum(1.0, f1)
-        # a converged step may round onto a bracket end: accept it there too
-        conv = good & (np.abs(step) < tol) & (new >= lo) & (new <= hi)
-        bisect = ~conv & (~good | ~(new > lo) | ~(new < hi))
-        new = np.where(bisect, 0.5 * (lo + hi), new)
-        collapsed = ~conv & (hi - lo < 1e-13 * hi)
-        delta[act] = new
-        done[act[conv]] = True
-        failed[act[collapsed]] = True
-        keep = ~(conv | collapsed)
-        if not keep.all():
-            act, d, lo, hi, lnpi = act[keep], new[keep], lo[keep], hi[keep], lnpi[keep]
-            w = np.take(w_all, act, axis=1)
-        else:
-            d = new
-    return done, failed
+    """Safeguarded solve (:func:`meterfix.z.gas_root.solve_ln_density`): Halley (or Newton)
+    steps in ln(delta) kept inside a bracket of the root, bisection where a step leaves it.
+    ``delta`` holds the start and receives the roots. Returns the masks (converged, no root in
+    the bracket); the rest did not converge."""
+    w = [w_all]  # the column coefficients of the active points
+
+    def select(act):
+        w[0] = np.take(w_all, act, axis=1)
+
+    return solve_ln_density(lambda d: _z_functions(ws, w[0], d, 3), select, delta, lnpi,
+                            DELTA_MAX, MAX_ITER, STEP_TOL_HALLEY, STEP_TOL_NEWTON)
 
 
 def _solve_block(mix: DetailMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray, sound: bool):
@@ -277,7 +242,7 @@ def _solve_block(mix: DetailMixture, ws: _Workspace, p: np.ndarray, t: np.ndarra
         d0 = _initial_delta(virial, pi)
         delta, ok = _fast_solve(ws, w_all, d0, lnpi)
         rest = np.flatnonzero(~ok)
-        reason = np.full(n, "", dtype=_REASON_DTYPE)
+        reason = np.full(n, "", dtype=REASON_DTYPE)
         if rest.size:
             sub = d0[rest]
             done, failed = _safe_solve(ws, w_all[:, rest], sub, lnpi[rest])
@@ -408,45 +373,6 @@ def range_classes(pressure, temperature, fractions) -> np.ndarray:
     return np.maximum(out, np.int8(composition_range(fractions)))
 
 
-def _worker_count(workers, n_blocks: int) -> int:
-    if workers is None:
-        if n_blocks < 2:
-            return 1
-        workers = min(MAX_WORKERS, os.cpu_count() or 1)
-    return max(1, min(int(workers), n_blocks))
-
-
-_CONTROLLER = []
-
-
-def _blas_single_thread():
-    """Context holding the BLAS library to one thread: the matrix products here are small
-    (inner size 25-27), so BLAS threads only add hand-over costs, and on a busy machine a lot."""
-    try:
-        from threadpoolctl import ThreadpoolController
-    except ImportError:  # pragma: no cover - threadpoolctl is a dependency
-        return contextlib.nullcontext()
-    if not _CONTROLLER:
-        _CONTROLLER.append(ThreadpoolController())
-    return _CONTROLLER[0].limit(limits=1, user_api="blas")
-
-
-def run_blocks(run, blocks, n_work: int) -> None:
-    """Run ``run(list_of_blocks)`` on ``n_work`` threads (numpy releases the GIL in its loops),
-    with BLAS held to one thread meanwhile."""
-    if not blocks:
-        return
-    with _blas_single_thread():
-        if n_work <= 1:
-            run(blocks)
-            return
-        from concurrent.futures import ThreadPoolExecutor
-
-        with ThreadPoolExecutor(max_workers=n_work) as ex:
-            for f in [ex.submit(run, blocks[k::n_work]) for k in range(n_work)]:
-                f.result()
-
-
 def z_aga8_detail(pressure, temperature, composition, *, speed_of_sound: bool = True,
                   workers: int | None = None) -> ZResult:
     """Compressibility factor, density and speed of sound by AGA8 DETAIL.
@@ -502,26 +428,9 @@ def z_aga8_detail(pressure, temperature, composition, *, speed_of_sound: bool = 
     """
     comp = as_composition(composition)
     mix = mixture(comp.fractions)
-    p, t = np.broadcast_arrays(np.asarray(pressure, dtype=float), np.asarray(temperature, dtype=float))
-    shape = p.shape
-    pf, tf = p.ravel(), t.ravel()
-    bad = invalid_points(pf, tf)
-    z = np.full(pf.size, np.nan)
-    rho = np.full(pf.size, np.nan)
-    w = np.full(pf.size, np.nan)
-    reason = np.full(pf.size, "", dtype=_REASON_DTYPE)
-    reason[bad] = REASON_INVALID_INPUT
-    idx = np.flatnonzero(~bad)
-    n_blocks = -(-idx.size // CHUNK)
-    blocks = np.array_split(idx, n_blocks) if n_blocks else []
-    n_work = _worker_count(workers, len(blocks))
-
-    def run(block_list):
-        ws = _Workspace(min(CHUNK, idx.size))
-        for j in block_list:
-            z[j], rho[j], w[j], reason[j] = _solve_block(mix, ws, pf[j], tf[j], speed_of_sound)
-
-    run_blocks(run, blocks, n_work)
+    shape, pf, tf, bad, z, rho, w, reason = solve_points(
+        pressure, temperature, _Workspace,
+        lambda ws, p, t: _solve_block(mix, ws, p, t, speed_of_sound), CHUNK, workers)
     comp_class = composition_range(comp.fractions)
     rng = range_classes(pf, tf, comp.fractions)
     rng[bad] = OUTSIDE

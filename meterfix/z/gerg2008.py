@@ -8,14 +8,13 @@ temperature; the composition-dependent terms come from :mod:`meterfix.z.gerg2008
 
 from __future__ import annotations
 
-import contextlib
-import os
-
 import numpy as np
 
 from ..gas.composition import as_composition
-from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_INVALID_INPUT, REASON_NO_CONVERGENCE,
-                   REASON_NO_GAS_ROOT, ZResult, invalid_points, range_by_box)
+from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_NO_CONVERGENCE,
+                   REASON_NO_GAS_ROOT, ZResult, range_by_box)
+from .blocks import REASON_DTYPE, solve_points
+from .gas_root import solve_ln_density
 from .gerg2008_mixture import N_EXPO, N_POWERS, R_GERG, GergMixture, mixture
 from .registry import ZMethod
 
@@ -124,49 +123,10 @@ def _solve_block(mix: GergMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray,
         virial = taup @ mix.virial
     pi = p / (mix.rho_reducing * R_GERG * t)  # delta of an ideal gas
     delta = _initial_delta(virial, pi)
-    # the active points are kept packed at the front of their arrays
-    act = np.arange(n)
-    d, lo, hi, lnpi = delta.copy(), np.zeros(n), np.full(n, DELTA_MAX), np.log(pi)
-    bb = b
-    done = np.zeros(n, dtype=bool)
-    failed = np.zeros(n, dtype=bool)
-    with np.errstate(invalid="ignore", divide="ignore", over="ignore"):
-        for _ in range(MAX_ITER):
-            if act.size == 0:
-                break
-            zm1, zu, zuu = _z_functions(mix, ws, bb, d, 3)
-            z = 1.0 + zm1
-            s = z + zu  # (dp/drho)_T / (R T)
-            good = np.isfinite(s) & np.isfinite(zuu) & (z > 0) & (s > 0)
-            f = np.where(good, np.log(np.where(good, d * z, 1.0)) - lnpi, 0.0)  # ln(p / p_target)
-            f1 = s / z  # d f / d ln(delta)
-            f2 = zuu / z - (zu / z) ** 2
-            newton = np.where(good, -f / f1, 0.0)
-            corr = 1.0 - 0.5 * f * f2 / (f1 * f1)
-            halley = (corr > 0.5) & (corr < 2.0)
-            step = np.where(halley, newton / corr, newton)
-            hi = np.where(~good | (f > 0), np.minimum(hi, d), hi)
-            lo = np.where(good & (f < 0), np.maximum(lo, d), lo)
-            new = d * np.exp(step)
-            tol = np.where(halley, STEP_TOL_HALLEY, STEP_TOL_NEWTON) * np.minimum(1.0, f1)
-            # a converged step may round onto a bracket end: accept it there too
-            conv = good & (np.abs(step) < tol) & (new >= lo) & (new <= hi)
-            bisect = ~conv & (~good | ~(new > lo) | ~(new < hi))
-            new = np.where(bisect, 0.5 * (lo + hi), new)
-            collapsed = ~conv & (hi - lo < 1e-13 * hi)
-            delta[act] = new
-            done[act[conv]] = True
-            failed[act[collapsed]] = True
-            keep = ~(conv | collapsed)
-            if not keep.all():
-                act, d, lo, hi, lnpi = act[keep], new[keep], lo[keep], hi[keep], lnpi[keep]
-                bb = ws.bsub[:act.size]
-                np.take(b, act, axis=0, out=bb)
-            else:
-                d = new
-    reason = np.full(n, "", dtype=_REASON_DTYPE)
+    done, failed = _safe_solve(mix, ws, b, delta, np.log(pi))
+    reason = np.full(n, "", dtype=REASON_DTYPE)
     reason[failed] = REASON_NO_GAS_ROOT
-    reason[act] = REASON_NO_CONVERGENCE
+    reason[~done & ~failed] = REASON_NO_CONVERGENCE
     ok = done
     _reject_dense_roots(mix, b, delta, tau, ok, reason)
     z = np.full(n, np.nan)
@@ -194,6 +154,21 @@ def _solve_block(mix: GergMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray,
         ok[i[bad]] = False
     rho = np.where(ok, delta * mix.rho_reducing, np.nan)
     return np.where(ok, z, np.nan), rho, np.where(ok, w, np.nan), reason
+
+
+def _safe_solve(mix: GergMixture, ws: _Workspace, b: np.ndarray, delta: np.ndarray, lnpi: np.ndarray):
+    """Safeguarded solve (:func:`meterfix.z.gas_root.solve_ln_density`): Halley (or Newton)
+    steps in ln(delta) kept inside a bracket of the root, bisection where a step leaves it.
+    ``delta`` holds the start and receives the roots. Returns the masks (converged, no root in
+    the bracket); the rest did not converge."""
+    bb = [b]  # the column coefficients of the active points, packed at the front of ws.bsub
+
+    def select(act):
+        bb[0] = ws.bsub[:act.size]
+        np.take(b, act, axis=0, out=bb[0])
+
+    return solve_ln_density(lambda d: _z_functions(mix, ws, bb[0], d, 3), select, delta, lnpi,
+                            DELTA_MAX, MAX_ITER, STEP_TOL_HALLEY, STEP_TOL_NEWTON)
 
 
 def _reject_dense_roots(mix, b, delta, tau, ok, reason):
@@ -270,51 +245,6 @@ def _properties(mix: GergMixture, ws: _Workspace, bt, ideal, b, delta, t):
     return z, sound
 
 
-_REASON_DTYPE = "<U16"
-#: at most this many threads by default
-MAX_WORKERS = 4
-
-
-def _worker_count(workers, n_blocks: int) -> int:
-    if workers is None:
-        if n_blocks < 2:
-            return 1
-        workers = min(MAX_WORKERS, os.cpu_count() or 1)
-    return max(1, min(int(workers), n_blocks))
-
-
-_CONTROLLER = []
-
-
-def _blas_single_thread():
-    """Context holding the BLAS library to one thread: the matrix products here are small (inner
-    size the number of terms of a block), so BLAS threads only add hand-over costs, and on a
-    busy machine or under several worker processes they oversubscribe the cores."""
-    try:
-        from threadpoolctl import ThreadpoolController
-    except ImportError:  # pragma: no cover - threadpoolctl is a dependency
-        return contextlib.nullcontext()
-    if not _CONTROLLER:
-        _CONTROLLER.append(ThreadpoolController())  # inspecting the loaded libraries once
-    return _CONTROLLER[0].limit(limits=1, user_api="blas")
-
-
-def _run_blocks(run, blocks, n_work: int) -> None:
-    """Run ``run(list_of_blocks)`` in the caller's thread or shared among ``n_work`` threads
-    (numpy releases the GIL in its loops), with BLAS held to one thread meanwhile."""
-    if not blocks:
-        return
-    with _blas_single_thread():
-        if n_work <= 1:
-            run(blocks)
-            return
-        from concurrent.futures import ThreadPoolExecutor
-
-        with ThreadPoolExecutor(max_workers=n_work) as ex:
-            for f in [ex.submit(run, blocks[k::n_work]) for k in range(n_work)]:
-                f.result()
-
-
 def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = True,
                workers: int | None = None) -> ZResult:
     """Compressibility factor, density and speed of sound by GERG-2008.
@@ -371,26 +301,9 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
     """
     comp = as_composition(composition)
     mix = mixture(comp.fractions)
-    p, t = np.broadcast_arrays(np.asarray(pressure, dtype=float), np.asarray(temperature, dtype=float))
-    shape = p.shape
-    pf, tf = p.ravel(), t.ravel()
-    bad = invalid_points(pf, tf)
-    z = np.full(pf.size, np.nan)
-    rho = np.full(pf.size, np.nan)
-    w = np.full(pf.size, np.nan)
-    reason = np.full(pf.size, "", dtype=_REASON_DTYPE)
-    reason[bad] = REASON_INVALID_INPUT
-    idx = np.flatnonzero(~bad)
-    n_blocks = -(-idx.size // CHUNK)  # blocks of equal size, at most CHUNK points
-    blocks = np.array_split(idx, n_blocks) if n_blocks else []
-    n_work = _worker_count(workers, len(blocks))
-
-    def run(block_list):
-        ws = _Workspace(mix, min(CHUNK, idx.size))
-        for j in block_list:
-            z[j], rho[j], w[j], reason[j] = _solve_block(mix, ws, pf[j], tf[j], speed_of_sound)
-
-    _run_blocks(run, blocks, n_work)
+    shape, pf, tf, bad, z, rho, w, reason = solve_points(
+        pressure, temperature, lambda n: _Workspace(mix, n),
+        lambda ws, p, t: _solve_block(mix, ws, p, t, speed_of_sound), CHUNK, workers)
     rng = range_by_box(pf, tf, NORMAL_RANGE, EXTENDED_RANGE)
     rng[bad] = OUTSIDE
     return ZResult(z.reshape(shape), rng.reshape(shape), reason.reshape(shape),
