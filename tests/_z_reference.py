@@ -1,4 +1,4 @@
-"""Shared helpers for the generalized-chart tests: reference gases and CoolProp oracles."""
+"""Shared helpers for the Z tests: reference gases, a strategy of natural gases, CoolProp oracles."""
 
 from __future__ import annotations
 
@@ -61,3 +61,39 @@ def coolprop_gas_points(fluid: str, temperatures, pressures, margin: float = 0.9
                 rows.append((p, t, CP.PropsSI("Z", "P", p, "T", t, fluid)))
     a = np.array(rows)
     return a[:, 0], a[:, 1], a[:, 2]
+
+
+def five_gas_compositions():
+    """The five AGA8 reference gases as Compositions: {name: Composition}."""
+    from meterfix.gas.composition import Composition
+
+    comp = pd.read_csv(DATA / "aga8_five_gases_composition.csv", index_col=0)
+    return {g: Composition.from_mapping({k: v for k, v in comp[g].items() if v > 0}, unit="percent")
+            for g in comp.columns}
+
+
+def _natural_gases():
+    """Hypothesis strategy: methane-rich gases with a random set of the other 20 components."""
+    from hypothesis import strategies as st
+
+    from meterfix.gas.components import NAMES
+    from meterfix.gas.composition import Composition
+
+    main = ["methane", "nitrogen", "carbon_dioxide", "ethane", "propane"]
+    minor = [n for n in NAMES if n not in main]
+
+    @st.composite
+    def gases(draw):
+        x = dict(methane=draw(st.floats(0.55, 0.98)))
+        for name in main[1:]:
+            if draw(st.booleans()):
+                x[name] = draw(st.floats(1e-4, 0.12))
+        for name in draw(st.lists(st.sampled_from(minor), max_size=6, unique=True)):
+            x[name] = draw(st.floats(1e-5, 0.02))
+        total = sum(x.values())
+        return Composition.from_mapping({k: v / total for k, v in x.items()})
+
+    return gases
+
+
+natural_gases = _natural_gases()

@@ -22,7 +22,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import scalar_aga8_detail as scalar
-from meterfix.gas.components import NAMES
+from _z_reference import five_gas_compositions, natural_gases
 from meterfix.gas.composition import Composition
 from meterfix.z import EXTENDED, NORMAL, OUTSIDE, compressibility, evaluate_z, get_method
 from meterfix.z.aga8_detail import composition_range, z_aga8_detail
@@ -46,10 +46,6 @@ def _ref_composition():
     return Composition.from_array(np.array(REF_GAS))
 
 
-def _five_gases():
-    comp = pd.read_csv(DATA / "aga8_five_gases_composition.csv", index_col=0)
-    return {g: Composition.from_mapping({k: v for k, v in comp[g].items() if v > 0}, unit="percent")
-            for g in comp.columns}
 
 
 # --- the standard's reference point -----------------------------------------------------------
@@ -83,7 +79,7 @@ def test_five_gases_z_table():
     table = pd.read_csv(DATA / "aga8_five_gases_z.csv")
     table = table[table.model == "DETAIL"]
     assert len(table) == 12
-    for gas, comp in _five_gases().items():
+    for gas, comp in five_gas_compositions().items():
         res = z_aga8_detail(table.pressure_MPa.to_numpy() * 1e6, table.temperature_K.to_numpy(), comp)
         np.testing.assert_allclose(res.z, table[gas].to_numpy(), rtol=0, atol=5e-7, err_msg=gas)
         assert np.all(res.range_class == NORMAL), gas
@@ -91,21 +87,6 @@ def test_five_gases_z_table():
 
 # --- fuzzing against the plain scalar version --------------------------------------------------
 
-_MAIN = ["methane", "nitrogen", "carbon_dioxide", "ethane", "propane"]
-_MINOR = [n for n in NAMES if n not in _MAIN]
-
-
-@st.composite
-def natural_gases(draw):
-    """Methane-rich gases with a random set of the other 20 components."""
-    x = dict(methane=draw(st.floats(0.55, 0.98)))
-    for name in _MAIN[1:]:
-        if draw(st.booleans()):
-            x[name] = draw(st.floats(1e-4, 0.12))
-    for name in draw(st.lists(st.sampled_from(_MINOR), max_size=6, unique=True)):
-        x[name] = draw(st.floats(1e-5, 0.02))
-    total = sum(x.values())
-    return Composition.from_mapping({k: v / total for k, v in x.items()})
 
 
 @settings(max_examples=30, deadline=None, suppress_health_check=[HealthCheck.too_slow])
@@ -144,7 +125,7 @@ def test_mixing_rules_match_scalar():
 
 def test_density_solves_the_equation():
     # independent of the solver: the scalar pressure function at the returned density gives p back
-    gas = _five_gases()["ekofisk"]
+    gas = five_gas_compositions()["ekofisk"]
     p = np.geomspace(1e4, 70e6, 25)
     res = z_aga8_detail(p, 300.0, gas)
     for pk, rho in zip(p, res.molar_density):
@@ -153,7 +134,7 @@ def test_density_solves_the_equation():
 
 
 def test_z_only_mode_matches_full_mode():
-    gas = _five_gases()["high_co2_n2"]
+    gas = five_gas_compositions()["high_co2_n2"]
     p = np.linspace(0.1e6, 30e6, 50)
     full = z_aga8_detail(p, 290.0, gas)
     fast = z_aga8_detail(p, 290.0, gas, speed_of_sound=False)
@@ -232,45 +213,11 @@ def test_table_shapes_and_a_few_figures():
 
 # --- limits, smoothness, failures --------------------------------------------------------------
 
-def test_z_tends_to_one_at_low_pressure():
-    # common practice (textbook fact): Z -> 1 as p -> 0, and Z - 1 = B p / (R T) + O(p^2)
-    gas = _five_gases()["amarillo"]
-    p = np.array([1.0, 10.0, 100.0, 1000.0])
-    res = z_aga8_detail(p, 280.0, gas)
-    assert np.all(np.abs(res.z - 1.0) < 1e-4 * p / 1000.0 + 1e-12)
-    slope = (res.z - 1.0) / p
-    assert slope[0] == pytest.approx(slope[2], rel=1e-3)
-    assert slope[0] < 0  # attractive forces dominate at 280 K
-    assert np.all(res.speed_of_sound > 300)
+# (the low-pressure limit, smoothness and the no-gas-root check run for both equations of state in
+# tests/test_eos_common.py)
 
-
-def test_smooth_in_pressure_and_temperature():
-    gas = _five_gases()["gulf_coast"]
-    p = np.linspace(0.1e6, 35e6, 3001)
-    z = z_aga8_detail(p, 300.0, gas).z
-    d2 = np.diff(z, 2)
-    assert np.all(np.isfinite(z))
-    assert np.max(np.abs(d2)) < 1e-6 and np.max(np.abs(np.diff(d2))) < 1e-8
-    t = np.linspace(250.0, 450.0, 2001)
-    zt = z_aga8_detail(10e6, t, gas).z
-    assert np.all(np.diff(zt) > 0)  # Z rises with T at 10 MPa over this range
-    assert np.max(np.abs(np.diff(zt, 3))) < 1e-8
-
-
-def test_no_gas_root_is_nan_with_reason_and_others_unaffected():
-    # propane at 300 K, 5 MPa is a compressed liquid (vapour pressure about 1 MPa; library:
-    # CoolProp): DETAIL has no gas root there.
-    CP = pytest.importorskip("CoolProp.CoolProp")
-    assert CP.PropsSI("P", "T", 300.0, "Q", 1, "Propane") < 1.1e6
-    propane = {"propane": 1.0}
-    p = np.array([0.5e6, 5e6, 0.8e6])
-    res = z_aga8_detail(p, 300.0, propane)
-    assert res.reason.tolist() == ["", "no-gas-root", ""]
-    assert np.isnan(res.z[1]) and np.isnan(res.molar_density[1]) and np.isnan(res.speed_of_sound[1])
-    alone = z_aga8_detail(np.array([0.5e6, 0.8e6]), 300.0, propane)
-    np.testing.assert_array_equal(res.z[[0, 2]], alone.z)
-    res_t = z_aga8_detail(p, np.array([300.0, 300.2, 300.4]), propane)
-    assert res_t.reason.tolist() == ["", "no-gas-root", ""] and np.all(np.isfinite(res_t.speed_of_sound[[0, 2]]))
+def test_pure_propane_is_outside_the_detail_range():
+    res = z_aga8_detail(np.array([0.5e6, 5e6, 0.8e6]), 300.0, {"propane": 1.0})
     assert np.all(res.range_class == OUTSIDE)  # pure propane is outside DETAIL's composition limits
 
 
@@ -302,7 +249,7 @@ def test_range_classes_pressure_temperature_and_composition():
     assert composition_range(x) == EXTENDED
     x[[0, 4]] = 0.85, 0.15  # 15 % propane: above the expanded range's 12 %
     assert composition_range(x) == OUTSIDE
-    assert composition_range(_five_gases()["high_co2_n2"].fractions) == NORMAL
+    assert composition_range(five_gas_compositions()["high_co2_n2"].fractions) == NORMAL
 
 
 # --- interface ---------------------------------------------------------------------------------
