@@ -13,8 +13,10 @@ DATA = Path(__file__).parent / "data"
 COOLPROP_NAMES = {
     "methane": "Methane", "nitrogen": "Nitrogen", "carbon_dioxide": "CarbonDioxide", "ethane": "Ethane",
     "propane": "n-Propane", "isobutane": "IsoButane", "n_butane": "n-Butane", "isopentane": "Isopentane",
-    "n_pentane": "n-Pentane", "n_hexane": "n-Hexane", "hydrogen": "Hydrogen", "helium": "Helium",
-    "argon": "Argon", "oxygen": "Oxygen",
+    "n_pentane": "n-Pentane", "n_hexane": "n-Hexane", "n_heptane": "n-Heptane", "n_octane": "n-Octane",
+    "n_nonane": "n-Nonane", "n_decane": "n-Decane", "hydrogen": "Hydrogen", "oxygen": "Oxygen",
+    "carbon_monoxide": "CarbonMonoxide", "water": "Water", "hydrogen_sulfide": "HydrogenSulfide",
+    "helium": "Helium", "argon": "Argon",
 }
 
 
@@ -31,8 +33,9 @@ def five_gases_z(model: str = "DETAIL"):
     return z[z.model == model].reset_index(drop=True)
 
 
-def coolprop_z_mixture(fractions: dict, pressure, temperature):
-    """Z from CoolProp's HEOS mixture model (GERG-2008-type departure functions)."""
+def coolprop_z_mixture(fractions: dict, pressure, temperature, gas_phase: bool = False):
+    """Z from CoolProp's HEOS mixture model (GERG-2008-type departure functions); ``gas_phase``
+    asks CoolProp for the gas root instead of letting it decide the phase."""
     import CoolProp.CoolProp as CP
 
     names = list(fractions)
@@ -42,6 +45,8 @@ def coolprop_z_mixture(fractions: dict, pressure, temperature):
     p, t = np.broadcast_arrays(np.asarray(pressure, float), np.asarray(temperature, float))
     out = np.empty(p.shape)
     for i in np.ndindex(p.shape):
+        if gas_phase:
+            state.specify_phase(CP.iphase_gas)
         state.update(CP.PT_INPUTS, float(p[i]), float(t[i]))
         out[i] = state.compressibility_factor()
     return out

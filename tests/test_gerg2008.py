@@ -22,7 +22,7 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import scalar_gerg2008 as scalar
-from _z_reference import five_gas_compositions, natural_gases
+from _z_reference import COOLPROP_NAMES, coolprop_z_mixture, five_gas_compositions, natural_gases
 from meterfix.gas.components import NAMES
 from meterfix.gas.composition import Composition
 from meterfix.z import EXTENDED, NORMAL, OUTSIDE, compressibility, evaluate_z, get_method
@@ -35,16 +35,6 @@ DATA = Path(__file__).parent / "data"
 # REFERENCES.md §1: gas of AGA8CODE/C/GERG2008_test_01.cpp (mole fractions, canonical order)
 REF_GAS = [0.77824, 0.02, 0.06, 0.08, 0.03, 0.0015, 0.003, 0.0005, 0.00165, 0.00215, 0.00088,
            0.00024, 0.00015, 0.00009, 0.004, 0.005, 0.002, 0.0001, 0.0025, 0.007, 0.001]
-
-COOLPROP_NAMES = {
-    "methane": "Methane", "nitrogen": "Nitrogen", "carbon_dioxide": "CarbonDioxide", "ethane": "Ethane",
-    "propane": "n-Propane", "isobutane": "IsoButane", "n_butane": "n-Butane", "isopentane": "Isopentane",
-    "n_pentane": "n-Pentane", "n_hexane": "n-Hexane", "n_heptane": "n-Heptane", "n_octane": "n-Octane",
-    "n_nonane": "n-Nonane", "n_decane": "n-Decane", "hydrogen": "Hydrogen", "oxygen": "Oxygen",
-    "carbon_monoxide": "CarbonMonoxide", "water": "Water", "hydrogen_sulfide": "HydrogenSulfide",
-    "helium": "Helium", "argon": "Argon",
-}
-
 
 def _ref_composition():
     return Composition.from_array(np.array(REF_GAS))
@@ -155,15 +145,8 @@ PIPELINE_GASES = {
 
 
 def _coolprop_z(fractions, pressures, temperatures):
-    CP = pytest.importorskip("CoolProp.CoolProp")
-    state = CP.AbstractState("HEOS", "&".join(COOLPROP_NAMES[n] for n in fractions))
-    state.set_mole_fractions(list(fractions.values()))
-    out = []
-    for p, t in zip(pressures, temperatures):
-        state.specify_phase(CP.iphase_gas)
-        state.update(CP.PT_INPUTS, float(p), float(t))
-        out.append(state.compressibility_factor())
-    return np.array(out)
+    pytest.importorskip("CoolProp.CoolProp")
+    return coolprop_z_mixture(fractions, pressures, temperatures, gas_phase=True)
 
 
 @pytest.mark.parametrize("gas", sorted(PIPELINE_GASES))
