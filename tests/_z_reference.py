@@ -102,3 +102,16 @@ def _natural_gases():
 
 
 natural_gases = _natural_gases()
+
+
+#: REFERENCES.md §1: the 21-component gas of the AGA8 reference code's DETAIL and GERG-2008 tests
+#: (AGA8CODE/C/Detail_test_01.cpp, GERG2008_test_01.cpp), mole fractions in canonical order
+REFERENCE_CODE_GAS = [0.77824, 0.02, 0.06, 0.08, 0.03, 0.0015, 0.003, 0.0005, 0.00165, 0.00215, 0.00088,
+                      0.00024, 0.00015, 0.00009, 0.004, 0.005, 0.002, 0.0001, 0.0025, 0.007, 0.001]
+
+
+def reference_code_gas():
+    """The reference code's test gas as a Composition."""
+    from meterfix.gas.composition import Composition
+
+    return Composition.from_array(np.array(REFERENCE_CODE_GAS))

@@ -22,8 +22,8 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import scalar_aga8_detail as scalar
-from _z_reference import coolprop_z_mixture, five_gas_compositions, natural_gases
-from meterfix.gas.composition import Composition
+from _z_reference import REFERENCE_CODE_GAS as REF_GAS
+from _z_reference import coolprop_z_mixture, five_gas_compositions, natural_gases, reference_code_gas
 from meterfix.z import EXTENDED, NORMAL, OUTSIDE, compressibility, evaluate_z, get_method
 from meterfix.z.aga8_detail import composition_range, z_aga8_detail
 from meterfix.z.aga8_detail_mixture import mixture, mixture_parameters
@@ -31,22 +31,13 @@ from meterfix.z.tables import aga8_detail_coefficients as C
 
 DATA = Path(__file__).parent / "data"
 
-# REFERENCES.md §1: gas of the reference code's DETAIL test (mole fractions, canonical order)
-REF_GAS = [0.77824, 0.02, 0.06, 0.08, 0.03, 0.0015, 0.003, 0.0005, 0.00165, 0.00215, 0.00088,
-           0.00024, 0.00015, 0.00009, 0.004, 0.005, 0.002, 0.0001, 0.0025, 0.007, 0.001]
-
-def _ref_composition():
-    return Composition.from_array(np.array(REF_GAS))
-
-
-
 
 # --- the standard's reference point -----------------------------------------------------------
 
 def test_reference_code_point():
     # AGA8 Part 1 reference code, DETAIL test (REFERENCES.md §1): T = 400 K, p = 50 000 kPa.
     # The reference test accepts 1e-8 absolute; we require 1e-9 relative.
-    res = z_aga8_detail(50.0e6, 400.0, _ref_composition())
+    res = z_aga8_detail(50.0e6, 400.0, reference_code_gas())
     assert res.reason == ""
     assert float(res.molar_mass) * 1000 == pytest.approx(20.54333051, rel=1e-9)
     assert float(res.molar_density) / 1000 == pytest.approx(12.80792403648801, rel=1e-9)
@@ -259,7 +250,7 @@ def test_registry_and_dispatcher_kinds():
 
 
 def test_shapes_broadcast_and_threads():
-    gas = _ref_composition()
+    gas = reference_code_gas()
     p = np.linspace(1e6, 20e6, 6).reshape(2, 3)
     t = np.array([[280.0], [320.0]])
     res = z_aga8_detail(p, t, gas)

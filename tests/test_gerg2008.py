@@ -22,9 +22,10 @@ from hypothesis import HealthCheck, given, settings
 from hypothesis import strategies as st
 
 import scalar_gerg2008 as scalar
-from _z_reference import COOLPROP_NAMES, coolprop_z_mixture, five_gas_compositions, natural_gases
+from _z_reference import REFERENCE_CODE_GAS as REF_GAS
+from _z_reference import (COOLPROP_NAMES, coolprop_z_mixture, five_gas_compositions,
+                          natural_gases, reference_code_gas)
 from meterfix.gas.components import NAMES
-from meterfix.gas.composition import Composition
 from meterfix.z import EXTENDED, NORMAL, OUTSIDE, compressibility, evaluate_z, get_method
 from meterfix.z.gerg2008 import z_gerg2008
 from meterfix.z.gerg2008_mixture import mixture, reducing_functions
@@ -32,20 +33,13 @@ from meterfix.z.tables import gerg2008_coefficients as C
 
 DATA = Path(__file__).parent / "data"
 
-# REFERENCES.md §1: gas of AGA8CODE/C/GERG2008_test_01.cpp (mole fractions, canonical order)
-REF_GAS = [0.77824, 0.02, 0.06, 0.08, 0.03, 0.0015, 0.003, 0.0005, 0.00165, 0.00215, 0.00088,
-           0.00024, 0.00015, 0.00009, 0.004, 0.005, 0.002, 0.0001, 0.0025, 0.007, 0.001]
-
-def _ref_composition():
-    return Composition.from_array(np.array(REF_GAS))
-
 
 # --- the standard's reference point -----------------------------------------------------------
 
 def test_reference_code_point():
     # AGA8 Part 2 reference code, GERG2008_test_01.cpp (REFERENCES.md §1): T = 400 K, p = 50 MPa.
     # The reference test accepts 1e-8 absolute; we require 1e-9 relative.
-    res = z_gerg2008(50.0e6, 400.0, _ref_composition())
+    res = z_gerg2008(50.0e6, 400.0, reference_code_gas())
     assert res.reason == ""
     assert float(res.molar_mass) * 1000 == pytest.approx(20.5427445016, rel=1e-9)
     assert float(res.molar_density) / 1000 == pytest.approx(12.79828626082062, rel=1e-9)
@@ -273,7 +267,7 @@ def test_registry_and_dispatcher():
 
 
 def test_shapes_broadcast_and_threads():
-    gas = _ref_composition()
+    gas = reference_code_gas()
     p = np.linspace(1e6, 20e6, 6).reshape(2, 3)
     t = np.array([[280.0], [320.0]])
     res = z_gerg2008(p, t, gas)
