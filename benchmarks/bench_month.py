@@ -64,7 +64,7 @@ def _stage_of(text: str) -> str | None:
 
 def one_meter(path: str, method: str) -> tuple[float, dict]:
     """Base volume [m3] of one meter's month and the seconds spent in each stage."""
-    from meterfix.engine.run import run_files
+    from meterfix.month import run_files
     from meterfix.engine.settings import build_settings
     from meterfix.writers.summary import build_summary
 

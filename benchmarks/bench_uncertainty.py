@@ -20,12 +20,12 @@ def main() -> None:
     ap.add_argument("--repeat", type=int, default=3)
     a = ap.parse_args()
 
-    from meterfix.demo import demo_month
+    from meterfix.cli.demo import demo_month
     from meterfix.engine.pipeline import run_month
     from meterfix.engine.settings import build_settings
-    from meterfix.engine.uncertainty_budget import build_model, combined_relative
-    from meterfix.engine.uncertainty_inputs import parse_uncertainty_settings
-    from meterfix.engine.uncertainty_mc import monte_carlo
+    from meterfix.uncertainty.budget import build_model, combined_relative
+    from meterfix.uncertainty.inputs import parse_uncertainty_settings
+    from meterfix.uncertainty.monte_carlo import monte_carlo
 
     frame, analyses = demo_month()
     s = build_settings(None, {"base": "normal-0c", "timezone": "Europe/Berlin", "gas_day_start": "06:00",

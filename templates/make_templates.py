@@ -22,8 +22,8 @@ HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent))
 
 from meterfix.engine.settings import BASE_PRESETS, SETTING_KINDS  # noqa: E402
-from meterfix.engine.uncertainty_inputs import DEFAULTS as UNC_DEFAULTS  # noqa: E402
-from meterfix.engine.uncertainty_inputs import FLOW_KEYS, INPUT_KEYS  # noqa: E402
+from meterfix.uncertainty.inputs import DEFAULTS as UNC_DEFAULTS  # noqa: E402
+from meterfix.uncertainty.inputs import FLOW_KEYS, INPUT_KEYS  # noqa: E402
 from meterfix.gas.components import NAMES  # noqa: E402
 from meterfix.writers import xlsx_common as X  # noqa: E402
 from meterfix.z.registry import method_names  # noqa: E402

@@ -93,13 +93,13 @@ def test_bad_files_exit_2(tmp_path, name, data, needle):
 def test_fail_on_counts_invoice_and_corrector_findings(tmp_path):
     # the demo's site corrector runs as ideal gas near 40 bar (several % low) and the invented
     # invoice bills 1.3 % high: --fail-on 1 must exit 1, --fail-on 50 exit 0
-    from meterfix.cli_correct import worst_finding_pct
-    from meterfix.demo import run_demo
+    from meterfix.cli.correct import worst_finding_pct
+    from meterfix.cli.demo import run_demo
 
     result, _ = run_demo(tmp_path / "demo")
     assert abs(result.corrector_check.size_pct) > 4.0
     assert worst_finding_pct(result) >= abs(result.corrector_check.size_pct)
-    from meterfix.cli_correct import _exit_code
+    from meterfix.cli.correct import _exit_code
 
     assert _exit_code(result, 1.0) == 1
     assert _exit_code(result, 50.0) == 0

@@ -9,7 +9,7 @@ of the injected effect, and recover the wrong setting.
 import numpy as np
 import pytest
 
-from meterfix.engine.reconcile import check_corrector
+from meterfix.checks.invoice import check_corrector
 from meterfix.z import evaluate_z
 from synthetic_month import GAS, METHOD, month_frame, run
 

@@ -101,7 +101,7 @@ def test_bad_manifest_files(tmp_path, text, msg):
 
 
 def test_month_in_memory_is_recorded_but_not_rerun(tmp_path):
-    from meterfix.demo import demo_month
+    from meterfix.cli.demo import demo_month
     from meterfix.engine.pipeline import run_month
     from meterfix.writers import write_outputs
 

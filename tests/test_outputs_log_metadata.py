@@ -18,7 +18,7 @@ import pandas as pd
 import pytest
 from openpyxl import load_workbook
 
-from meterfix.engine.run import run_files
+from meterfix.month import run_files
 from meterfix.engine.settings import build_settings
 from meterfix.readers.logs import LogMetadata
 from meterfix.writers import write_outputs

@@ -9,7 +9,7 @@ import pytest
 from hypothesis import given, settings as hsettings, strategies as st
 
 from meterfix.engine.correct import convert_base_volume
-from meterfix.engine.reconcile import reconcile_frame, reconcile_invoice
+from meterfix.checks.invoice import reconcile_frame, reconcile_invoice
 from meterfix.writers.summary import _clean
 from meterfix.z import evaluate_z
 from synthetic_month import COOLPROP_FLUID, GAS, METHOD, month_frame, month_settings, run

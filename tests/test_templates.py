@@ -15,7 +15,7 @@ from typer.testing import CliRunner
 
 from meterfix.cli import TEMPLATE_FILES, app
 from meterfix.engine.settings import SETTING_KINDS, build_settings, load_site_file
-from meterfix.engine.uncertainty_inputs import parse_uncertainty_settings
+from meterfix.uncertainty.inputs import parse_uncertainty_settings
 from meterfix.readers import read_analyses, read_invoice, read_log
 from meterfix.writers.xlsx_common import repeatable_xlsx_bytes
 

@@ -13,9 +13,9 @@ from hypothesis import given, settings as hsettings, strategies as st
 
 from meterfix.engine.pipeline import run_month
 from meterfix.engine.settings import build_settings
-from meterfix.engine.uncertainty import month_uncertainty, parse_uncertainty, parse_uncertainty_settings
-from meterfix.engine.uncertainty_budget import budget_frame, build_model, combined_relative
-from meterfix.engine.uncertainty_mc import coverage_interval, numerical_tolerance
+from meterfix.uncertainty import month_uncertainty, parse_uncertainty, parse_uncertainty_settings
+from meterfix.uncertainty.budget import budget_frame, build_model, combined_relative
+from meterfix.uncertainty.monte_carlo import coverage_interval, numerical_tolerance
 from meterfix.errors import SettingsError
 from meterfix.gas import Composition
 
@@ -246,7 +246,7 @@ def test_composition_sensitivity_against_coolprop_and_sum_to_one():
     f = _frame(n=3, seed=5)
     unc = dict(ALL_ZERO, composition="2 %")
     r = _run(f, unc, heating_value=None)
-    from meterfix.engine.uncertainty_inputs import parse_uncertainty_settings as pus
+    from meterfix.uncertainty.inputs import parse_uncertainty_settings as pus
 
     model = build_model(r, pus(unc))
     term = model.term("composition")
@@ -281,7 +281,7 @@ def test_composition_sensitivity_against_coolprop_and_sum_to_one():
 # ---------------------------------------------------------------------------------------------
 # Monte Carlo (JCGM 101)
 def test_monte_carlo_agrees_with_gum_on_the_demo_month():
-    from meterfix.demo import demo_month
+    from meterfix.cli.demo import demo_month
 
     frame, analyses = demo_month()
     s = build_settings(None, {"base": "normal-0c", "timezone": "Europe/Berlin", "gas_day_start": "06:00",

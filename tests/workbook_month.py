@@ -6,11 +6,11 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from meterfix.demo import demo_month
+from meterfix.cli.demo import demo_month
 from meterfix.engine.pipeline import run_month
-from meterfix.engine.reconcile import check_corrector, reconcile_frame
+from meterfix.checks.invoice import check_corrector, reconcile_frame
 from meterfix.engine.settings import build_settings
-from meterfix.engine.uncertainty import month_uncertainty
+from meterfix.uncertainty import month_uncertainty
 
 OPTIONS = {"meter": "FV-M1", "site": "Fennick Valley kiln works (invented)", "base": "normal-0c",
            "timezone": "Europe/Berlin", "gas_day_start": "06:00", "elevation": "240 m", "method": "gerg-2008",

@@ -9,7 +9,7 @@ One pipeline validates inputs once and runs the steps in order:
 5. totals by gas day, month and analysis period; ideal-gas error findings; what correcting from
    month-average pressure and temperature would have given.
 
-Uncertainty (meterfix.engine.uncertainty) and reconciliation (meterfix.engine.reconcile) attach
+Uncertainty (meterfix.uncertainty) and the checks (meterfix.checks) attach
 their results to the same object.
 """
 

@@ -1,4 +1,4 @@
-"""Files in, MonthResult out: the reader → engine path used by the CLI and the Python API."""
+"""Files in, MonthResult out: the core path (reader → quality → engine) of one meter's month."""
 
 from __future__ import annotations
 
@@ -33,9 +33,17 @@ def load_analyses(settings: Settings, composition=None, gas=None):
     return []
 
 
-def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=None,
-              uncertainty: bool = True, progress=None) -> MonthResult:
-    """Read the log file(s) of one meter and the analyses, run the month, attach later steps.
+def read_month(logs, settings: Settings, *, composition=None, gas=None, progress=None) -> MonthResult:
+    """Read the log file(s) of one meter and the analyses, check quality and run the month.
+
+    The core path: reader, quality, Z and totals. Uncertainty and the checks against other
+    parties' figures are attached by ``meterfix.month.run_files``, the stage above.
+    """
+    return read_month_with_frame(logs, settings, composition=composition, gas=gas, progress=progress)[0]
+
+
+def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=None, progress=None):
+    """``read_month``, also returning the quality-checked interval frame the checks read.
 
     Parameters
     ----------
@@ -43,8 +51,6 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
     settings : Settings
     composition : path, optional    gas-analysis file
     gas : str or Composition, optional
-    invoice : path, optional        supplier invoice to reconcile
-    uncertainty : bool              attach the month's uncertainty (GUM budget and Monte Carlo)
     progress : callable, optional   ``progress(stage: str, fraction: float)`` as the run goes on
     """
     from ..readers import read_log
@@ -57,9 +63,8 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
     paths = [_check_file(p) for p in ([logs] if isinstance(logs, (str, Path)) else list(logs))]
     if not paths:
         raise SettingsError("no log file given", hint="meterfix correct LOG... --out DIR")
-    for extra in (composition, invoice):
-        if extra is not None:
-            _check_file(extra)
+    if composition is not None:
+        _check_file(composition)
     if settings.meter == "meter" and settings.sources.get("meter", "default") == "default":
         settings.meter = paths[0].stem  # no meter name given: the first log's file name stands in
     step("reading the gas analyses", 0.0)
@@ -76,33 +81,12 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
     result = run_month(frame, analyses, settings, metadata=meta, edits=edits)
     inputs = [dict(s) if isinstance(s, dict) else s for s in (getattr(meta, "sources", None) or [])]
     if composition is not None:
-        inputs.append(_file_record(composition, "analysis"))
+        inputs.append(file_record(composition, "analysis"))
     result.inputs = inputs
-    if uncertainty:
-        from . import uncertainty as U
-
-        step("uncertainty budget and Monte Carlo", 0.6)
-        result.uncertainty = U.month_uncertainty(
-            result, progress=None if progress is None else (lambda done, total: step(
-                "uncertainty: Monte Carlo", 0.6 + 0.25 * min(1.0, done / max(total, 1)))))
-    # reconcile is imported only when needed: it brings in scipy.optimize (most of a second),
-    # which a month without an invoice or a site corrector does not use
-    if invoice is not None:
-        from . import reconcile as RC
-
-        step("reconciling the invoice", 0.85)
-        result.inputs.append(_file_record(invoice, "invoice"))
-        result.reconciliation = RC.reconcile_invoice(result, _check_file(invoice))
-    if "volume_corrected_site" in frame.columns:
-        from . import reconcile as RC
-
-        step("checking the site corrector", 0.9)
-        result.corrector_check = RC.check_corrector(result, frame)
-    step("done", 1.0)
-    return result
+    return result, frame
 
 
-def _file_record(path, role: str) -> dict:
+def file_record(path, role: str) -> dict:
     import hashlib
 
     p = Path(path)

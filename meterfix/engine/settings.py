@@ -56,7 +56,7 @@ class Settings:
     price_per_energy : float or None [currency/J]
     currency : str
     invoice_tolerance_pct : float or None  contract tolerance for invoice differences
-    uncertainty : dict                uncertainty inputs by name (see meterfix.engine.uncertainty)
+    uncertainty : dict                uncertainty inputs by name (see meterfix.uncertainty)
     column_map : dict                 explicit source header → canonical name
     display_units : dict              output display units by kind (volume, energy, pressure ...)
     fail_on : float or None           exit 1 when a finding exceeds this (percent)

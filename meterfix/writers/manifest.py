@@ -158,7 +158,7 @@ def locate_inputs(man: dict, manifest_file) -> dict:
 
 def rerun(manifest_file):
     """Run the month recorded in a manifest again; returns (result, run dict for the new manifest)."""
-    from ..engine.run import run_files
+    from ..month import run_files
 
     man = load_manifest(manifest_file)
     run = man.get("run") or {}

@@ -20,6 +20,7 @@ from __future__ import annotations
 import numpy as np
 
 from ..z import evaluate_z
+from .inputs import relative_only
 
 #: step in the log-perturbation of one mole fraction
 STEP_COMPOSITION = 1e-2
@@ -46,9 +47,7 @@ def composition_term(model, result, parsed, add, method_name):
                                "budget (only the heating value's)")
         return
     spec = parsed.resolve("composition")
-    from .uncertainty_budget import _relative_only
-
-    _relative_only(spec)
+    relative_only(spec)
     hcomp = _component_heating_values(result.settings)
     present = sorted({j for g in comps.values() for j in np.flatnonzero(g.fractions > 0)})
     A = model.n_analyses

@@ -15,7 +15,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
-from .gas import Composition
+from ..gas import Composition
 
 ANALYSIS_1 = {"methane": 0.9312, "ethane": 0.0342, "propane": 0.0071, "isobutane": 0.0011, "n_butane": 0.0013,
               "nitrogen": 0.0128, "carbon_dioxide": 0.0123}
@@ -47,17 +47,17 @@ def demo_month():
 
 def demo_folder():
     """The folder of the shipped demo files (site.toml names the others in its [files] table)."""
-    from .resources import data_folder
+    from ..resources import data_folder
 
     return data_folder("fixtures") / "demo"
 
 
 def run_demo(out_dir, overwrite: bool = False):
     """Run the demo month from its files and write its outputs; returns (result, {kind: path})."""
-    from .engine.run import run_files
-    from .engine.settings import build_settings
-    from .writers import write_outputs
-    from .writers.atomic import protect_inputs
+    from ..month import run_files
+    from ..engine.settings import build_settings
+    from ..writers import write_outputs
+    from ..writers.atomic import protect_inputs
 
     folder = demo_folder()
     site = folder / "site.toml"

@@ -284,7 +284,7 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
 
     Parameters
     ----------
-    model : IntervalModel          from :func:`meterfix.engine.uncertainty_budget.build_model`
+    model : IntervalModel          from :func:`meterfix.uncertainty.budget.build_model`
     gum_u_volume : float [-]       GUM relative standard uncertainty of the month base volume
     gum_u_energy : float [-], optional
     draws : int                    trials M of the first stage
@@ -305,7 +305,7 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
 
     Returns
     -------
-    dict   see :class:`meterfix.engine.uncertainty.MonthUncertainty` ``monte_carlo``
+    dict   see :class:`meterfix.uncertainty.MonthUncertainty` ``monte_carlo``
     """
     draws = int(draws)
     max_draws = 10 * draws if max_draws is None else max(int(max_draws), draws)

@@ -338,3 +338,10 @@ def parse_uncertainty_settings(settings_dict: dict | None) -> UncertaintySetting
         raise SettingsError("uncertainty settings 'meter_qt' and 'meter_qmax': Qt must be below Qmax",
                             hint="e.g. meter_qt = \"65 m3/h\", meter_qmax = \"650 m3/h\"")
     return out
+
+
+def relative_only(spec: InputSpec) -> None:
+    """Refuse an input that must be a percentage but was given in a unit."""
+    if not spec.relative:
+        raise SettingsError(f"uncertainty setting '{spec.key}' ({spec.text!r}) must be a percentage",
+                            hint="write e.g. '0.1 %'")

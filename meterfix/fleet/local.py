@@ -57,8 +57,8 @@ def _inputs(meter_dir: Path, settings):
 def run_meter(meter_dir, out_dir, options: dict, overwrite: bool = False) -> dict:
     """Run one meter folder; returns a fleet-summary row (never raises for bad input)."""
     from ..writers import write_outputs
-    from .run import run_files
-    from .settings import build_settings
+    from ..month import run_files
+    from ..engine.settings import build_settings
 
     meter_dir = Path(meter_dir)
     row = {"meter_folder": meter_dir.name}

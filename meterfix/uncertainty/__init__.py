@@ -7,9 +7,9 @@ distribution, GUM type, correlation class, sensitivity, contribution, share of t
 whether the figure is a default and where it comes from), the same per gas day and per interval,
 and a Monte Carlo propagation (JCGM 101) that validates the GUM result.
 
-Inputs and their settings: see :mod:`meterfix.engine.uncertainty_inputs`; the measurement model,
-sensitivities and correlation classes: :mod:`meterfix.engine.uncertainty_budget` (the composition:
-:mod:`meterfix.engine.uncertainty_composition`); the Monte Carlo: :mod:`meterfix.engine.uncertainty_mc`.
+Inputs and their settings: see :mod:`meterfix.uncertainty.inputs`; the measurement model,
+sensitivities and correlation classes: :mod:`meterfix.uncertainty.budget` (the composition:
+:mod:`meterfix.uncertainty.composition`); the Monte Carlo: :mod:`meterfix.uncertainty.monte_carlo`.
 
 What the figures cover, and what they do not: the inputs listed in the budget, within the ranges
 of their stated distributions. An estimated interval carries the meter's figure and the estimated
@@ -29,11 +29,11 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from .uncertainty_budget import (BUDGET_COLUMNS, IntervalModel, build_model, budget_frame, combined_relative,
+from .budget import (BUDGET_COLUMNS, IntervalModel, build_model, budget_frame, combined_relative,
                                  interval_variance)
-from .uncertainty_inputs import (DEFAULTS, INPUT_KEYS, InputSpec, UncertaintySettings, parse_uncertainty,
+from .inputs import (DEFAULTS, INPUT_KEYS, InputSpec, UncertaintySettings, parse_uncertainty,
                                  parse_uncertainty_settings)
-from .uncertainty_mc import monte_carlo, numerical_tolerance
+from .monte_carlo import monte_carlo, numerical_tolerance
 
 COVERAGE_FACTOR = 2.0
 

@@ -13,35 +13,21 @@ from typing import List, Optional
 
 import typer
 
-from .errors import MeterfixError
+from ..errors import MeterfixError
 
-app = typer.Typer(
-    name="meterfix",
-    help="Gas volumes and energy at contract base conditions, with real-gas Z.\n\n"
-         "Start with 'meterfix demo'. Results support review and invoice queries; meterfix is not "
-         "an approved conversion device.",
-    no_args_is_help=True,
-    add_completion=False,
-    pretty_exceptions_enable=False,
-    rich_markup_mode=None,
-)
-
-
-def _fail(exc: MeterfixError) -> None:
-    typer.echo(f"meterfix: error: {exc}", err=True)
-    raise typer.Exit(2)
+from .app import _fail, app  # noqa: F401  (the application; commands register on it)
 
 
 def _gas_from_options(gas: Optional[str], composition: Optional[Path]):
-    from .gas.composition import Composition
+    from ..gas.composition import Composition
 
     if gas and composition:
-        from .errors import SettingsError
+        from ..errors import SettingsError
         raise SettingsError("give --gas or --composition, not both")
     if gas:
         return Composition.parse(gas)
     if composition:
-        from .readers import read_analyses
+        from ..readers import read_analyses
 
         analyses = read_analyses(composition)
         return analyses[0][1]
@@ -71,8 +57,8 @@ def _parse_volume(text: str, molar_mass: float):
     """'0.05 m3/kg' → molar volume [m3/mol]."""
     import re
 
-    from .errors import UnitError
-    from .units import parse_unit
+    from ..errors import UnitError
+    from ..units import parse_unit
 
     m = re.match(r"^\s*([-+]?[\d.]+(?:[eE][-+]?\d+)?)\s*(.+?)\s*/\s*(kg|lb|mol|kmol|lbmol)\s*$", text)
     if not m:
@@ -92,11 +78,11 @@ def _parse_volume(text: str, molar_mass: float):
 
 
 def _z(gas, composition, method, pressure, temperature, volume, atmospheric_pressure, as_json):
-    from .errors import SettingsError
-    from .units import parse_quantity, to_absolute
-    from .z.base import RANGE_NAMES
-    from .z.registry import get_method
-    from .z.state import solve_state
+    from ..errors import SettingsError
+    from ..units import parse_quantity, to_absolute
+    from ..z.base import RANGE_NAMES
+    from ..z.registry import get_method
+    from ..z.state import solve_state
 
     given = [x is not None for x in (pressure, temperature, volume)]
     if sum(given) != 2:
@@ -176,7 +162,7 @@ def _z(gas, composition, method, pressure, temperature, volume, atmospheric_pres
 @app.command("methods", short_help="Z methods, editions and validity ranges.")
 def methods_command():
     """List the Z methods with their edition and validity range."""
-    from .z.registry import get_method, method_names
+    from ..z.registry import get_method, method_names
 
     for name in method_names():
         m = get_method(name)
@@ -204,13 +190,13 @@ def template_command(
 
 def write_templates(folder, *, overwrite: bool = False) -> list:
     """Copy the shipped templates into ``folder``; every file checked before the first is written."""
-    from .errors import InputError
-    from .writers.atomic import check_target, write_bytes
+    from ..errors import InputError
+    from ..writers.atomic import check_target, write_bytes
 
     out = Path(folder)
     if out.exists() and not out.is_dir():
         raise InputError("is a file, not a folder", file=out, hint="give a folder for the templates")
-    from .resources import data_folder
+    from ..resources import data_folder
 
     src = data_folder("templates")
     targets = [out / name for name in TEMPLATE_FILES]
@@ -235,7 +221,7 @@ def main(argv: Optional[List[str]] = None) -> int:
     return 0
 
 
-from . import cli_correct  # noqa: E402,F401  (registers 'correct' and the commands built on it)
+from . import correct  # noqa: E402,F401  (registers 'correct' and the commands built on it)
 
 if __name__ == "__main__":  # pragma: no cover
     sys.exit(main())

@@ -7,8 +7,8 @@ from typing import List, Optional
 
 import typer
 
-from .cli import _fail, app
-from .errors import MeterfixError
+from .app import _fail, app
+from ..errors import MeterfixError
 
 #: CLI option → setting name (every setting is also a site-file key of the same name)
 _OPTION_SETTINGS = ("meter", "site", "base", "base_pressure", "base_temperature", "atmospheric_pressure",
@@ -22,7 +22,7 @@ def _column_map(items):
     out = {}
     for it in items or []:
         if "=" not in it:
-            from .errors import SettingsError
+            from ..errors import SettingsError
             raise SettingsError(f"--column '{it}' is not SOURCE=NAME",
                                 hint="e.g. --column 'P1 (barg)=pressure_gauge'")
         k, v = it.rsplit("=", 1)
@@ -80,15 +80,15 @@ def correct_command(
 
 
 def _correct(a: dict) -> int:
-    from .engine.run import run_files
-    from .engine.settings import build_settings
-    from .errors import SettingsError
+    from ..month import run_files
+    from ..engine.settings import build_settings
+    from ..errors import SettingsError
 
     if a.get("manifest") is not None:
         return _correct_from_manifest(a)
     if not a.get("logs"):
         raise SettingsError("no log file given", hint="meterfix correct LOG... --out DIR, or --manifest FILE --out DIR")
-    from .engine.run import _check_file
+    from ..engine.run import _check_file
 
     for path in [*a["logs"], a.get("composition"), a.get("invoice"), a.get("site_file")]:
         if path is not None:
@@ -98,7 +98,7 @@ def _correct(a: dict) -> int:
     unc = {k: a.get(f"{k}_uncertainty") for k in ("meter", "pressure", "temperature", "atmospheric", "z")}
     options["uncertainty"] = {k: v for k, v in unc.items() if v is not None} or None
     settings = build_settings(a.get("site_file"), options)
-    from .writers.atomic import protect_inputs
+    from ..writers.atomic import protect_inputs
 
     inputs = list(a["logs"]) + [p for p in (a.get("composition"), a.get("invoice"), a.get("site_file")) if p]
     protect_inputs(inputs)
@@ -107,7 +107,7 @@ def _correct(a: dict) -> int:
     with progress_bar(enabled=not a.get("quiet")) as progress:
         result = run_files(a["logs"], settings, composition=a.get("composition"), gas=a.get("gas"),
                            invoice=a.get("invoice"), progress=progress)
-    from .writers import write_outputs
+    from ..writers import write_outputs
 
     run = {"logs": list(a["logs"]), "composition": a.get("composition"), "gas": a.get("gas"),
            "invoice": a.get("invoice"), "site_file": a.get("site_file"), "uncertainty": True,
@@ -127,10 +127,10 @@ _WITH_MANIFEST = {"manifest", "out", "overwrite", "json_file", "quiet"}
 
 def _correct_from_manifest(a: dict) -> int:
     """Run a month again exactly as a manifest records it."""
-    from .errors import SettingsError
-    from .writers import write_outputs
-    from .writers.atomic import protect_inputs
-    from .writers.manifest import rerun
+    from ..errors import SettingsError
+    from ..writers import write_outputs
+    from ..writers.atomic import protect_inputs
+    from ..writers.manifest import rerun
 
     extra = [k for k, v in a.items() if k not in _WITH_MANIFEST and v not in (None, False, [], ())]
     if extra:
@@ -202,11 +202,11 @@ def _fleet(folder, out, workers, options, overwrite):
 
     import pandas as pd
 
-    from .engine.fleet import run_fleet
-    from .writers.atomic import write_bytes, write_text
-    from .writers.summary import _clean
+    from ..fleet.local import run_fleet
+    from ..writers.atomic import write_bytes, write_text
+    from ..writers.summary import _clean
 
-    from .writers.atomic import check_target
+    from ..writers.atomic import check_target
 
     for name in ("fleet_summary.csv", "fleet_summary.json"):
         check_target(Path(out) / name, overwrite=overwrite)

@@ -8,9 +8,9 @@ the gas in force at each base,
 (meterfix.engine.correct.convert_base_volume), and volume, energy and money are compared in
 units and percent, against the combined uncertainty and the contract tolerance.
 
-The attribution (meterfix.engine.attribution) explains the difference between the figures as
+The attribution (meterfix.checks.attribution) explains the difference between the figures as
 billed and ours, one assumption at a time. The site corrector check lives in
-meterfix.engine.corrector_check; ``check_corrector`` is re-exported here.
+meterfix.checks.corrector; ``check_corrector`` is re-exported here.
 """
 
 from __future__ import annotations
@@ -22,7 +22,7 @@ import pandas as pd
 
 from ..errors import InputError
 from .attribution import attribute_difference, period_arrays
-from .corrector_check import CorrectorCheck, check_corrector  # noqa: F401  (re-export)
+from .corrector import CorrectorCheck, check_corrector  # noqa: F401  (re-export)
 
 __all__ = ["InvoiceReconciliation", "reconcile_invoice", "reconcile_frame", "check_corrector", "CorrectorCheck",
            "combined_uncertainty_pct"]

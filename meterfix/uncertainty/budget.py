@@ -14,7 +14,7 @@ Relative sensitivity coefficients c = ∂ln V_b / ∂ln x:
 * composition through Z_f, Z_b and the heating value together: each mole fraction is perturbed
   by a factor exp(±h) and the analysis renormalised to sum 1 before Z is evaluated (the sum-to-one
   constraint is kept, the balance component absorbs the change); ∂ln Hm/∂ε_j = x_j (Hm_j/Hm − 1)
-  is analytic (:mod:`meterfix.engine.uncertainty_composition`). Where the heating value was computed
+  is analytic (:mod:`meterfix.uncertainty.composition`). Where the heating value was computed
   from the analysis at the contract base, H is proportional to 1/Z_b and Z_b cancels from the energy.
 
 Each input is a :class:`Term` with one or more independent sub-sources (rows): a row is either
@@ -37,7 +37,7 @@ import pandas as pd
 from ..z import evaluate_z
 from ..z.base import EXTENDED, NORMAL, OUTSIDE
 from ..z.registry import get_method
-from .uncertainty_inputs import ATMOSPHERIC_DEFAULTS, HEATING_VALUE_DEFAULTS, INPUT_KEYS, InputSpec
+from .inputs import ATMOSPHERIC_DEFAULTS, HEATING_VALUE_DEFAULTS, INPUT_KEYS, InputSpec, relative_only as _relative_only
 
 #: step in ln p and ln T for the central differences of ln Z
 STEP_PT = 1e-3
@@ -349,7 +349,7 @@ def build_model(result, parsed) -> IntervalModel:
         h_spec = parsed.resolve("heating_value", *dflt)
         uh = h_spec.standard_at(h)
         _analysis_term(model, add, "heating_value", h_spec, _wmean(h, w), "J/m3", uh, 0.0, 1.0, in_volume=False)
-    from .uncertainty_composition import composition_term
+    from .composition import composition_term
 
     composition_term(model, result, parsed, add, method.name)
 
@@ -358,14 +358,6 @@ def build_model(result, parsed) -> IntervalModel:
     _relative_only(e_spec)
     add("estimated", e_spec, float(np.sum(vl[est])), "m3", np.where(est, e_spec.standard, 0.0), 1.0, 1.0, est)
     return model
-
-
-def _relative_only(spec: InputSpec):
-    if not spec.relative:
-        from ..errors import SettingsError
-
-        raise SettingsError(f"uncertainty setting '{spec.key}' ({spec.text!r}) must be a percentage",
-                            hint="write e.g. '0.1 %'")
 
 
 def _analysis_term(model, add, key, spec, value, unit, u, cv, ce, in_volume=True):

@@ -1,0 +1,272 @@
+"""Several files of one meter joined into the canonical interval frame.
+
+Rows of all files in time order; rows with the same interval end reduced to the first (file order,
+then row order; identical copies silently, differing ones flagged ``flag_duplicate`` and listed);
+each row's duration from its spacing; the interval volume from an interval-volume column, else
+meter-index differences (rollover, meter change), else flow rate × duration. See
+:mod:`meterfix.readers.logs` for the rules as the user sees them.
+"""
+
+from __future__ import annotations
+
+import numpy as np
+import pandas as pd
+
+from ..errors import InputError
+
+#: numeric canonical columns read from a log
+NUMERIC = ("pressure_gauge", "pressure_line", "pressure_atm", "temperature_line", "volume_line", "volume_index",
+           "flow_rate", "volume_corrected_site", "volume_corrected_site_index", "duration")
+#: flags the reader sets (always present in the frame)
+READER_FLAGS = ("flag_unparseable", "flag_missing", "flag_duplicate", "flag_time_backwards", "flag_rollover",
+                "flag_meter_change", "flag_negative_delta", "flag_implausible_delta")
+_MAX_RECORDED = 1000
+
+
+def join_parts(parts, tables, meta, interval_label, column_map, register_digits):
+    """Join the rows of one meter's files: time order, duplicates, durations, volumes → frame.
+
+    ``parts`` are the per-file column dicts of :func:`meterfix.readers.logs._read_part`,
+    ``tables`` their RawTables, ``meta`` the LogMetadata being filled.
+    """
+    kinds = {("pressure_gauge" if "pressure_gauge" in p else "pressure_line") for p in parts}
+    if len(kinds) > 1:
+        names = [s["file"] for s in meta.sources]
+        raise InputError("the files disagree: some log gauge pressure, some absolute pressure", file=", ".join(names),
+                         hint="map the pressure columns so that all files read the same quantity")
+    meta.interval_label = parts[0]["label"][0] if len(parts[0]["label"]) else interval_label
+    # the rows of all files as columns (name → array); the work below is on arrays
+    if len(parts) == 1:
+        df = dict(parts[0])
+    else:  # columns a file lacks are NaN in its rows (pandas' rules for the joined dtypes)
+        joined = pd.concat([pd.DataFrame(p) for p in parts], ignore_index=True, sort=False)
+        df = {c: joined[c].to_numpy() for c in joined.columns}
+    if not len(df["time"]):
+        raise InputError("no row of the log has a readable time", file=", ".join(s["file"] for s in meta.sources),
+                         hint="check the time column: see metadata.dropped_rows")
+    t = df["time"].astype("datetime64[ns]").astype(np.int64)
+    is_index = ~pd.isna(df["volume_index"]) if "volume_index" in df else np.zeros(len(t), bool)
+    if "volume_line" in df:
+        is_index &= pd.isna(df["volume_line"])
+    # start labels → end: forward spacing within each file (in time order)
+    label_start = np.asarray(df["label"] == "start", dtype=bool)
+    start = label_start & ~is_index  # index readings are instants
+    if (label_start & is_index).any():
+        meta.notes.append("index readings are instants: a start label does not apply to them")
+    pos_sp = np.diff(np.sort(t)) / 1e9  # (np.sort, not np.unique: hashing 10^6 stamps is slow)
+    pos_sp = pos_sp[pos_sp > 0]
+    nominal = float(np.median(pos_sp)) if len(pos_sp) else np.nan
+    own = np.asarray(df["duration"], dtype=float) if "duration" in df else np.full(len(t), np.nan)
+    if not np.isfinite(nominal):
+        nominal = float(np.nanmedian(own)) if np.isfinite(own).any() else np.nan
+    if not np.isfinite(nominal):
+        raise InputError("cannot tell the interval length from a single row", file=meta.sources[0]["file"],
+                         hint="add a 'Duration [min]' column or give more rows")
+    meta.nominal_interval_s = nominal
+    own = own.copy()
+    if start.any():
+        source_file = df["source_file"]
+        for k in pd.unique(source_file[start]):
+            sel = np.flatnonzero(start & (source_file == k))
+            order = sel[np.argsort(t[sel], kind="stable")]
+            d = _spacing_durations(t[order], nominal, np.zeros(len(order), bool), backward=False)
+            d = np.where(np.isfinite(own[order]) & (own[order] > 0), own[order], d)
+            t[order] = t[order] + np.round(d * 1e9).astype(np.int64)
+            own[order] = d
+    df["time"] = t
+    df["duration"] = own
+    # join in time order; first occurrence (file order, then row) wins. (file, row) is unique,
+    # so the order is fully determined
+    order = np.lexsort((df["source_row"], df["source_file"], t))
+    if (np.diff(order) != 1).any():
+        df = {c: v[order] for c, v in df.items()}
+    df = _dedupe(df, meta)
+    t = df["time"]
+    n = len(t)
+    own = np.asarray(df["duration"], dtype=float)
+    covers = np.zeros(n, bool)
+    if "volume_index" in df:
+        covers = ~pd.isna(df["volume_index"])
+        if "volume_line" in df:
+            covers &= pd.isna(df["volume_line"])
+    d = _spacing_durations(t, nominal, covers, backward=True)
+    dur = np.where(np.isfinite(own) & (own > 0), own, d)
+    df["duration"] = dur
+
+    # volumes
+    for f in ("flag_rollover", "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_duplicate"):
+        if f not in df:
+            df[f] = np.zeros(n, bool)
+    vol = np.asarray(df["volume_line"], dtype=float) if "volume_line" in df else np.full(n, np.nan)
+    sources = []
+    if "volume_line" in df:
+        sources.append("interval volume")
+    drop_first = False
+    if "volume_index" in df and (~pd.isna(df["volume_index"])).any():
+        reading = np.asarray(df["volume_index"], dtype=float)
+        delta, ro, ch, ng, imp, cap = _index_deltas(reading, _filled(df["volume_index_scale"], 1.0), dur,
+                                                    register_digits)
+        use = ~np.isfinite(vol) & ~np.isnan(reading)
+        vol = np.where(use, delta, vol)
+        for f, m in (("flag_rollover", ro), ("flag_meter_change", ch), ("flag_negative_delta", ng),
+                     ("flag_implausible_delta", imp)):
+            df[f] = np.asarray(df[f], dtype=bool) | (m & use)
+        meta.register_capacity = float(np.nanmax(cap)) if np.isfinite(cap).any() else None
+        sources.append("meter index")
+        first = int(np.flatnonzero(~np.isnan(reading))[0])
+        if first == 0 and ("volume_line" not in df or not np.isfinite(df["volume_line"][0])):
+            meta.opening_index = float(reading[0])
+            drop_first = True
+    if "flow_rate" in df:
+        fr = np.asarray(df["flow_rate"], dtype=float)
+        vol = np.where(np.isfinite(vol), vol, fr * dur)
+        sources.append("flow rate")
+    df["volume_line"] = vol
+    meta.volume_from = ", ".join(sources)
+    if "volume_corrected_site_index" in df and (~pd.isna(df["volume_corrected_site_index"])).any():
+        delta, ro, ch, ng, imp, _ = _index_deltas(np.asarray(df["volume_corrected_site_index"], dtype=float),
+                                                  _filled(df["volume_corrected_site_index_scale"], 1.0),
+                                                  dur, None)
+        site = np.asarray(df["volume_corrected_site"], dtype=float) if "volume_corrected_site" in df else np.full(n, np.nan)
+        df["volume_corrected_site"] = np.where(np.isfinite(site), site, delta)
+    if drop_first:
+        meta.notes.append(f"the first index reading ({meta.opening_index:g} m3 at "
+                          f"{pd.Timestamp(int(t[0]), tz='UTC').isoformat()}) opens the log; it is not an interval")
+        df = {c: v[1:] for c, v in df.items()}
+    if not len(df["time"]):
+        raise InputError("the log has no interval (an index log needs at least two readings)",
+                         file=meta.sources[0]["file"], hint="export a longer period")
+    return _finish(df, meta), meta
+
+
+def _filled(values, fill: float) -> np.ndarray:
+    """Float values with the missing ones (NaN) replaced."""
+    return np.where(pd.isna(values), fill, values).astype(float)
+
+
+def _value_columns(df):
+    return [c for c in NUMERIC if c in df]
+
+
+def _dedupe(df: dict, meta) -> dict:
+    t = np.asarray(df["time"], dtype=np.int64)
+    n = len(t)
+    dup = np.concatenate([[False], t[1:] == t[:-1]])
+    df["flag_duplicate"] = np.zeros(n, bool)
+    if not dup.any():
+        return df
+    first_pos = pd.Series(np.arange(n)).groupby(t).transform("min").to_numpy()
+    cols = _value_columns(df)
+    differs = np.zeros(n, bool)
+    diff_cols = [[] for _ in range(n)]
+    for c in cols:
+        v = np.asarray(df[c], dtype=float)
+        a, b = v[dup], v[first_pos[dup]]
+        same = (a == b) | (np.isnan(a) & np.isnan(b)) | np.isclose(a, b, rtol=1e-9, atol=0.0)
+        d = np.flatnonzero(dup)[~same]
+        differs[d] = True
+        for i in d[:_MAX_RECORDED]:
+            diff_cols[i].append(c)
+    kept_flag = np.zeros(n, bool)
+    kept_flag[first_pos[differs]] = True
+    files = [s["file"] for s in meta.sources]
+    for i in np.flatnonzero(differs)[:_MAX_RECORDED]:
+        j = first_pos[i]
+        meta.duplicates.append({"time": pd.Timestamp(int(t[i]), tz="UTC").isoformat(),
+                                "kept": f"{files[df['source_file'][j]]} row {df['source_row'][j]}",
+                                "dropped": f"{files[df['source_file'][i]]} row {df['source_row'][i]}",
+                                "columns": diff_cols[i]})
+    meta.identical_overlap_rows += int((dup & ~differs).sum())
+    df["flag_duplicate"] = kept_flag
+    keep = ~dup
+    # a dropped copy's own bad-cell flags do not carry over; its flags of time order do
+    return {c: v[keep] for c, v in df.items()}
+
+
+def _finish(df: dict, meta) -> pd.DataFrame:
+    idx = pd.DatetimeIndex(pd.to_datetime(np.asarray(df["time"], dtype=np.int64), unit="ns", utc=True),
+                           name="interval_end")
+    n = len(idx)
+    out = {}  # the canonical columns, in order (one frame is built from them at the end)
+    pcol = "pressure_gauge" if "pressure_gauge" in df else "pressure_line"
+    out[pcol] = np.asarray(df[pcol], dtype=float)
+    if "pressure_atm" in df:
+        out["pressure_atm"] = np.asarray(df["pressure_atm"], dtype=float)
+    out["temperature_line"] = np.asarray(df["temperature_line"], dtype=float)
+    out["volume_line"] = np.asarray(df["volume_line"], dtype=float)
+    out["duration"] = np.asarray(df["duration"], dtype=float)
+    for c in ("volume_corrected_site", "flow_rate", "volume_index"):
+        if c in df:
+            out[c] = np.asarray(df[c], dtype=float)
+    if "status" in df:
+        status = np.array(df["status"], dtype=object)
+        status[pd.isna(status)] = ""
+        out["status"] = status
+        files = [s["file"] for s in meta.sources]
+        nz = np.flatnonzero(status != "")
+        for i in nz[:_MAX_RECORDED]:
+            meta.status.append({"time": idx[i].isoformat(), "file": files[int(df["source_file"][i])],
+                                "row": int(df["source_row"][i]), "text": str(status[i])})
+    out["source_file"] = np.asarray(df["source_file"]).astype(np.int32)
+    out["source_row"] = np.asarray(df["source_row"]).astype(np.int64)
+    for f in READER_FLAGS:
+        out[f] = np.asarray(df[f], dtype=bool) if f in df else np.zeros(n, bool)
+    meta.flag_counts = {f[5:]: int(np.count_nonzero(out[f])) for f in READER_FLAGS}
+    out = pd.DataFrame(out, index=idx)
+    out.attrs["timezone"] = meta.timezone
+    out.attrs["nominal_interval_s"] = meta.nominal_interval_s
+    out.attrs["volume_from"] = meta.volume_from
+    return out
+
+
+def _spacing_durations(t_ns: np.ndarray, nominal: float, covers_span: np.ndarray, backward: bool) -> np.ndarray:
+    """Duration of each row [s] from its spacing to the previous (or next) row."""
+    n = len(t_ns)
+    d = np.full(n, nominal)
+    if n > 1:
+        gaps = np.diff(t_ns) / 1e9
+        if backward:
+            sp = np.concatenate([[np.nan], gaps])
+        else:
+            sp = np.concatenate([gaps, [np.nan]])
+        long = sp > 1.5 * nominal
+        use = np.isfinite(sp) & (~long | covers_span)
+        d = np.where(use, sp, nominal)
+    return d
+
+
+def _index_deltas(reading: np.ndarray, scale: np.ndarray, dur: np.ndarray, digits):
+    """Differences of a cumulative register: (delta [m3], rollover, change, negative, implausible, capacity)."""
+    n = len(reading)
+    prev = np.concatenate([[np.nan], reading[:-1]])
+    delta = reading - prev
+    raw = reading / scale
+    if digits is not None:
+        cap_raw = 10.0 ** int(digits)
+    else:
+        mx = np.nanmax(raw) if np.isfinite(raw).any() else np.nan
+        cap_raw = 10.0 ** max(1, int(np.ceil(np.log10(mx + 1e-9)))) if np.isfinite(mx) and mx > 0 else np.nan
+    cap = cap_raw * scale
+    pos = np.isfinite(delta) & (delta > 0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rate = delta / dur
+    if pos.sum() >= 3:
+        q = float(np.nanquantile(rate[pos], 0.99))
+        typical = float(np.nanmedian(delta[pos]))
+    else:
+        q, typical = np.nan, np.nan
+    max_delta = 10.0 * q * dur if np.isfinite(q) and q > 0 else np.full(n, np.nan)
+    neg = np.isfinite(delta) & (delta < 0)
+    corrected = delta + cap
+    prev_raw = prev / scale
+    cur_raw = raw
+    fits = np.where(np.isfinite(max_delta), corrected <= max_delta,
+                    (prev_raw >= 0.9 * cap_raw) & (cur_raw <= 0.1 * cap_raw))
+    rollover = neg & np.isfinite(cap) & (corrected >= 0) & fits
+    small = np.isfinite(typical) & (np.abs(delta) <= np.maximum(10.0 * typical, 0.0))
+    change = neg & ~rollover & ~small
+    negative = neg & ~rollover & ~change
+    out = np.where(rollover, corrected, delta)
+    out = np.where(change, np.nan, out)
+    implausible = np.isfinite(max_delta) & (out > max_delta) & ~rollover
+    return out, rollover, change, negative, implausible, cap
