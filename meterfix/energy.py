@@ -10,7 +10,7 @@ base-condition Z it already computed). Relative density d = (M / M_air) · (Z_ai
 Wobbe index W = Hv / sqrt(d), both at the metering reference.
 
 Component values: the ideal molar gross heating values at 25 degC printed in the AGA Report No. 8
-reference code (usnistgov/AGA8, Gross method; listed in REFERENCES.md §1). Other combustion
+reference code (usnistgov/AGA8, Gross method, AGA Report No. 8 Part 1 (2017)). Other combustion
 references between 0 and 30 degC (0, 15, 60 degF, 20 degC are the usual ones) follow from them by
 Kirchhoff's law with ideal-gas heat capacities (meterfix.gas.heat_capacity), which reproduces the
 ISO 6976:1995 component tables to about 0.005 % (tests/test_energy.py).
@@ -36,7 +36,7 @@ AIR = {"nitrogen": 0.78102, "oxygen": 0.20946, "argon": 0.00916, "carbon_dioxide
 #: combustion references accepted [K]
 COMBUSTION_RANGE = (273.15, 303.15)
 
-#: ideal molar gross heating value at 25 degC [J/mol] (AGA8 reference code, REFERENCES.md §1)
+#: ideal molar gross heating value at 25 degC [J/mol] (AGA8 reference code usnistgov/AGA8, Gross.cpp)
 _HV25_KJ = {"methane": 890.63, "ethane": 1560.69, "propane": 2219.17, "isobutane": 2868.2, "n_butane": 2877.4,
             "isopentane": 3528.83, "n_pentane": 3535.77, "n_hexane": 4194.95, "n_heptane": 4853.43,
             "n_octane": 5511.8, "n_nonane": 6171.15, "n_decane": 6829.77, "hydrogen": 285.83,

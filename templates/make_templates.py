@@ -170,10 +170,12 @@ SETTING_EXAMPLES = {
     "heating_value_reference_temperature": '"0 degC"', "heating_value_reference_pressure": '"101.325 kPa"',
     "combustion_temperature": '"25 degC"', "ideal_gas_threshold": "0.5", "substitution": '"none"',
     "max_gap_intervals": "3", "price": '"35 EUR/MWh"', "invoice_tolerance": "1.0", "fail_on": "1.0",
-    "register_digits": "8",
+    "register_digits": "8", "invoice_base": '"us-14.73-60f"', "invoice_base_pressure": '"14.73 psia"',
+    "invoice_base_temperature": '"60 degF"',
 }
-#: settings set in the template (the rest are commented out)
-ACTIVE = ("meter", "site", "base", "elevation", "timezone", "gas_day_start", "method")
+#: settings set in the template: none. A blank template must not carry live values (a month run
+#: with it must be refused until the contract's base conditions are written in).
+ACTIVE = ()
 GROUPS = [
     ("The meter", ("meter", "site")),
     ("Contract base conditions (the contract says which)", ("base", "base_pressure", "base_temperature")),
@@ -183,7 +185,7 @@ GROUPS = [
                                     "heating_value_reference_pressure", "combustion_temperature")),
     ("Findings and data quality", ("ideal_gas_threshold", "substitution", "max_gap_intervals", "register_digits",
                                    "fail_on")),
-    ("Invoice", ("price", "invoice_tolerance")),
+    ("Invoice", ("price", "invoice_tolerance", "invoice_base", "invoice_base_pressure", "invoice_base_temperature")),
 ]
 UNC_EXAMPLES = {"meter": '"1 %"', "meter_below_qt": '"2 %"', "pressure": '"0.25 %"', "atmospheric": '"0.5 kPa"',
                 "temperature": '"0.5 K"', "z": '"0.1 %"', "z_outside": '"0.5 %"', "base_z": '"0.05 %"',
@@ -203,7 +205,9 @@ def site_toml() -> str:
         "# (base_pressure <-> --base-pressure); an option given on the command line wins.",
         "# Quantities are text with a unit: \"14.73 psia\", \"101.325 kPa\", \"15 degC\", \"180 m\".",
         "# A line starting with '#' is a comment: remove the '#' in front of a setting to use it.",
-        "# The example values describe an invented meter.",
+        "# Every setting is commented out: a month is refused until the contract's base conditions",
+        "# are set (base, or base_pressure and base_temperature). The example values describe an",
+        "# invented meter; replace them with your own.",
     ]
     for title, keys in GROUPS:
         out += ["", f"# --- {title} " + "-" * max(3, 92 - len(title)), ""]

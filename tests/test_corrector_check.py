@@ -21,7 +21,7 @@ VL, PF, TF, ZF, ZB = (D[c].to_numpy(float) for c in ("volume_line", "pressure_li
 PG = FRAME["pressure_gauge"].to_numpy(float)
 PB, TB = RESULT.settings.pressure_base, RESULT.settings.temperature_base
 OURS = D["volume_base"].to_numpy(float)
-# common base conditions (REFERENCES.md §5): 14.73 psia = 101 559.775 Pa; 0 degC = 273.15 K
+# common base conditions (common practice; NIST SP 811 factors): 14.73 psia = 101 559.775 Pa; 0 degC = 273.15 K
 P_1473 = 101_559.775
 
 

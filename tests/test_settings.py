@@ -1,5 +1,7 @@
 """Site settings: TOML file + options, the option wins; presets; errors name the setting."""
 
+from pathlib import Path
+
 import pytest
 
 from meterfix.engine.settings import BASE_PRESETS, build_settings
@@ -13,7 +15,7 @@ def _site(tmp_path, text):
 
 
 def test_presets_match_references():
-    # REFERENCES.md §5 (published conversions): 14.73 psia = 101 559.775 Pa, 60 degF = 288.705 556 K
+    # NIST SP 811 appendix B conversions: 14.73 psia = 101 559.775 Pa, 60 degF = 288.705 556 K
     s = build_settings(None, {"base": "us-14.73-60f"})
     assert s.pressure_base == pytest.approx(101559.775, abs=1e-3)
     assert s.temperature_base == pytest.approx(288.705556, abs=1e-6)
@@ -58,3 +60,99 @@ def test_invalid_toml(tmp_path):
     p = _site(tmp_path, 'base = "iso-15c\n')
     with pytest.raises(SettingsError, match="not valid TOML"):
         build_settings(p, {})
+
+
+# --- issue 13 case 14: every numeric setting is finite and in range, or refused ----------------------------------
+@pytest.mark.parametrize("opts,needle", [
+    ({"gas_day_start": "inf"}, "not a time of day"),
+    ({"gas_day_start": "nan"}, "not a time of day"),
+    ({"gas_day_start": "6.5"}, "only whole hours"),
+    ({"gas_day_start": "06:30"}, "only whole hours"),
+    ({"gas_day_start": "24"}, "between"),
+    ({"fail_on": "nan"}, "not a finite number"),
+    ({"fail_on": float("nan")}, "not a finite number"),
+    ({"fail_on": "inf"}, "not a finite number"),
+    ({"fail_on": "-1"}, "outside the range"),
+    ({"ideal_gas_threshold": "1e400"}, "not a finite number"),
+    ({"ideal_gas_threshold": "150"}, "outside the range"),
+    ({"invoice_tolerance": "-0.5"}, "outside the range"),
+    ({"max_gap_intervals": "3.7"}, "not a whole number"),
+    ({"max_gap_intervals": True}, "not a number"),
+    ({"register_digits": "40"}, "outside the range"),
+    ({"register_digits": "0"}, "outside the range"),
+    ({"elevation": "1e400 m"}, "outside the plausible range"),
+    ({"elevation": "20000 m"}, "outside the plausible range"),
+    ({"atmospheric_pressure": "14.7 psig"}, "absolute"),
+    ({"atmospheric_pressure": "654 kPa"}, "outside the plausible range"),
+    ({"heating_value": "0.001 MJ/m3"}, "outside the plausible range"),
+    ({"combustion_temperature": "40 degC"}, "outside the plausible range"),
+    ({"price": "-3 USD/MMBtu"}, "finite price"),
+    ({"price": "1e400 USD/MMBtu"}, "finite price"),
+    ({"invoice_base": "mars"}, "unknown base preset"),
+    ({"invoice_base_pressure": "3 bar(a)"}, "plausible base condition"),
+    ({"invoice_base_temperature": "100 degC"}, "plausible base condition"),
+])
+def test_numeric_settings_finite_and_in_range(opts, needle):
+    with pytest.raises(SettingsError, match=needle) as e:
+        build_settings(None, {"base": "iso-15c", **opts})
+    name = next(iter(opts))
+    assert name in str(e.value)  # the message names the setting
+
+
+def test_whole_hours_and_ranges_accepted():
+    s = build_settings(None, {"base": "iso-15c", "gas_day_start": "9", "fail_on": "0", "max_gap_intervals": "4",
+                              "register_digits": 8, "elevation": "-20 m"})
+    assert (s.gas_day_start_hour, s.fail_on, s.max_gap_intervals, s.register_digits) == (9, 0.0, 4, 8)
+    assert isinstance(s.max_gap_intervals, int) and s.elevation == -20.0
+    assert build_settings(None, {"base": "iso-15c", "gas_day_start": 6.0}).gas_day_start_hour == 6
+
+
+def test_invoice_base_settings(tmp_path):
+    # 14.73 psia = 101 559.775 Pa, 60 degF = 288.705 556 K (NIST SP 811 appendix B factors)
+    s = build_settings(None, {"base": "iso-15c", "invoice_base": "us-14.73-60f"})
+    assert s.invoice_pressure_base == pytest.approx(101559.775, abs=1e-3)
+    assert s.invoice_temperature_base == pytest.approx(288.705556, abs=1e-6)
+    p = _site(tmp_path, 'base = "iso-15c"\ninvoice_base_pressure = "101.325 kPa"\ninvoice_base_temperature = "0 degC"\n')
+    s = build_settings(p, {})
+    assert (s.invoice_pressure_base, s.invoice_temperature_base) == (101325.0, 273.15)
+
+
+@pytest.mark.parametrize("args,needle", [
+    (["--gas-day-start", "inf"], "gas_day_start"),
+    (["--gas-day-start", "6.5"], "whole hours"),
+    (["--fail-on", "nan"], "fail_on"),
+    (["--ideal-gas-threshold", "inf"], "ideal_gas_threshold"),
+    (["--invoice-tolerance", "nan"], "invoice_tolerance"),
+])
+def test_cli_refuses_non_finite_settings(tmp_path, args, needle):
+    from typer.testing import CliRunner
+
+    from meterfix.cli import app
+
+    log = Path(__file__).resolve().parents[1] / "fixtures" / "logs" / "fv_m1_part1.csv"
+    r = CliRunner().invoke(app, ["correct", str(log), "--base", "iso-15c", "--gas", "methane=1",
+                                 "--out", str(tmp_path / "o"), *args])
+    assert r.exit_code == 2, r.output
+    assert needle in r.output and "Traceback" not in r.output
+    assert not (tmp_path / "o").exists()
+
+
+def test_blank_template_month_refused_with_the_fix(tmp_path):
+    # issue 13 case 17: `meterfix template DIR`, then a month with its site file untouched
+    from typer.testing import CliRunner
+
+    from meterfix.cli import app
+
+    r = CliRunner().invoke(app, ["template", str(tmp_path / "t")])
+    assert r.exit_code == 0, r.output
+    log = Path(__file__).resolve().parents[1] / "fixtures" / "logs" / "fv_m1_part1.csv"
+    r = CliRunner().invoke(app, ["correct", str(log), "--site", str(tmp_path / "t" / "site.toml"),
+                                 "--gas", "methane=1", "--out", str(tmp_path / "o")])
+    assert r.exit_code == 2, r.output
+    assert "no contract base pressure" in r.output and "--base" in r.output
+    # with the base conditions written in, the same file runs
+    site = tmp_path / "t" / "site.toml"
+    site.write_text(site.read_text(encoding="utf-8") + '\nbase = "iso-15c"\nelevation = "240 m"\n', encoding="utf-8")
+    r = CliRunner().invoke(app, ["correct", str(log), "--site", str(site), "--gas", "methane=1",
+                                 "--out", str(tmp_path / "o"), "--quiet"])
+    assert r.exit_code == 0, r.output

@@ -15,6 +15,7 @@ from typer.testing import CliRunner
 
 from meterfix.cli import TEMPLATE_FILES, app
 from meterfix.engine.settings import SETTING_KINDS, build_settings, load_site_file
+from meterfix.errors import SettingsError
 from meterfix.uncertainty.inputs import parse_uncertainty_settings
 from meterfix.readers import read_analyses, read_invoice, read_log
 from meterfix.writers.xlsx_common import repeatable_xlsx_bytes
@@ -64,8 +65,13 @@ _SETTING_LINE = re.compile(r"^# ((?:[a-z_]+|\"[^\"]+\") = .+|\[[a-z_]+\])$")
 def test_site_template_loads_and_comments_every_setting(tmp_path):
     text = (TEMPLATES / "site.toml").read_text(encoding="utf-8")
     raw = load_site_file(TEMPLATES / "site.toml")
-    s = build_settings(TEMPLATES / "site.toml", {})
-    assert s.meter == "FV-M1" and s.pressure_base == 101325.0 and s.temperature_base == 273.15
+    # issue 13 case 17: the blank template carries no live setting, so a month with it is refused until
+    # the contract's base conditions are written in (the old assertion expected the demo's live values)
+    assert raw == {}
+    with pytest.raises(SettingsError, match="no contract base pressure") as e:
+        build_settings(TEMPLATES / "site.toml", {})
+    assert "--base" in e.value.hint
+    assert build_settings(TEMPLATES / "site.toml", {"base": "iso-15c"}).timezone == "UTC"
     for key in SETTING_KINDS:
         assert re.search(rf"^(# )?{key} = ", text, re.M), f"{key} has no line in the site template"
         assert re.search(rf"^#   {key}: ", text, re.M), f"{key} is not explained"

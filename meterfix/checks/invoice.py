@@ -208,7 +208,10 @@ def reconcile_invoice(result, invoice_path, **kw) -> InvoiceReconciliation:
     """
     from ..readers.invoices import read_invoice
 
-    df, meta = read_invoice(invoice_path, timezone=result.settings.timezone)
+    s = result.settings
+    df, meta = read_invoice(invoice_path, timezone=s.timezone,
+                            pressure_base=getattr(s, "invoice_pressure_base", None),
+                            temperature_base=getattr(s, "invoice_temperature_base", None))
     if not len(df):
         raise InputError("the invoice has no billing period", file=invoice_path)
     return reconcile_frame(result, df, file=meta.file, currency=meta.currency, **kw)

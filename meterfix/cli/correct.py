@@ -15,7 +15,8 @@ _OPTION_SETTINGS = ("meter", "site", "base", "base_pressure", "base_temperature"
                     "elevation", "timezone", "gas_day_start", "interval_label", "method", "heating_value",
                     "heating_value_reference_temperature", "heating_value_reference_pressure",
                     "combustion_temperature", "ideal_gas_threshold", "substitution", "max_gap_intervals",
-                    "price", "invoice_tolerance", "fail_on", "register_digits")
+                    "price", "invoice_tolerance", "fail_on", "register_digits", "invoice_base",
+                    "invoice_base_pressure", "invoice_base_temperature")
 
 
 def _column_map(items):
@@ -58,6 +59,9 @@ def correct_command(
     meter: Optional[str] = typer.Option(None, "--meter", help="Meter name used in outputs."),
     site: Optional[str] = typer.Option(None, "--site-name", help="Site name used in outputs."),
     invoice: Optional[Path] = typer.Option(None, "--invoice", help="Supplier invoice to reconcile (CSV/XLSX)."),
+    invoice_base: Optional[str] = typer.Option(None, "--invoice-base", help="Named base conditions of the invoice's volumes when the invoice does not state them (same names as --base)."),
+    invoice_base_pressure: Optional[str] = typer.Option(None, "--invoice-base-pressure", help="Base pressure of the invoice's volumes when the invoice does not state it, e.g. '14.73 psia'."),
+    invoice_base_temperature: Optional[str] = typer.Option(None, "--invoice-base-temperature", help="Base temperature of the invoice's volumes when the invoice does not state it, e.g. '60 degF'."),
     price: Optional[str] = typer.Option(None, "--price", help="Energy price for money impact, e.g. '3.20 USD/MMBtu'."),
     invoice_tolerance: Optional[float] = typer.Option(None, "--invoice-tolerance", help="Contract tolerance for invoice differences, percent."),
     meter_uncertainty: Optional[str] = typer.Option(None, "--meter-uncertainty", help="Meter uncertainty: '1 %' (k=2) or 'mpe 1 %'."),

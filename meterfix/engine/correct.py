@@ -6,7 +6,8 @@ For a linear meter (turbine, rotary, diaphragm, ultrasonic), the volume at base 
 
 with Fp = pf/pb, Ft = Tb/Tf and the supercompressibility term Zb/Zf = Fpv² (common practice;
 AGA Report No. 7 and EN 12405-1 state the same conversion). Applying Fpv = sqrt(Zb/Zf) instead
-of Fpv² to a linear meter halves the real-gas correction (REFERENCES.md §3, common practice).
+of Fpv² to a linear meter halves the real-gas correction (common practice: the supercompressibility
+factor Fpv = sqrt(Zb/Zf) enters a volume squared).
 """
 
 from __future__ import annotations

@@ -7,6 +7,7 @@ strings with units (``"14.73 psia"``, ``"15 degC"``, ``"180 m"``) and are conver
 
 from __future__ import annotations
 
+import math
 import tomllib
 from dataclasses import asdict, dataclass, field, fields
 from pathlib import Path
@@ -14,7 +15,9 @@ from pathlib import Path
 from ..errors import SettingsError, UnitError
 from ..units import parse_quantity, parse_unit
 
-#: Named base conditions of common contracts (common practice, see REFERENCES.md §5).
+#: Named base conditions of common contracts (common practice: 14.73 psia / 60 degF in US interstate
+#: contracts, 101.325 kPa / 15 degC the ISO 13443 standard reference conditions, 101.325 kPa / 0 degC the
+#: "normal" conditions of European contracts; 1 psi = 6894.757 Pa and degF by NIST SP 811 appendix B).
 BASE_PRESETS = {
     "us-14.73-60f": ("14.73 psia", "60 degF", "US interstate contracts: 14.73 psia, 60 degF"),
     "us-14.65-60f": ("14.65 psia", "60 degF", "some US contracts: 14.65 psia, 60 degF"),
@@ -60,6 +63,8 @@ class Settings:
     column_map : dict                 explicit source header → canonical name
     display_units : dict              output display units by kind (volume, energy, pressure ...)
     fail_on : float or None           exit 1 when a finding exceeds this (percent)
+    invoice_pressure_base : float or None [Pa]   the invoice's base pressure when it does not state it
+    invoice_temperature_base : float or None [K] the invoice's base temperature when it does not state it
     """
 
     meter: str = "meter"
@@ -89,6 +94,8 @@ class Settings:
     display_units: dict = field(default_factory=dict)
     fail_on: float | None = None
     register_digits: int | None = None
+    invoice_pressure_base: float | None = None
+    invoice_temperature_base: float | None = None
     files: dict = field(default_factory=dict)  # [files] table: logs (globs), composition, invoice
     sources: dict = field(default_factory=dict)  # setting name -> 'default' | 'site file' | 'option'
 
@@ -121,6 +128,10 @@ SETTING_KINDS = {
     "max_gap_intervals": (int, "longest gap substituted, in intervals"),
     "price": ("price", "price of energy, e.g. '3.20 USD/MMBtu' or '0.031 EUR/kWh'"),
     "invoice_tolerance": (float, "percent; contract tolerance for invoice differences"),
+    "invoice_base": (str, "named base conditions of the invoice's volumes when the invoice does not state them"),
+    "invoice_base_pressure": ("pressure", "base pressure of the invoice's volumes when the invoice does not state it"),
+    "invoice_base_temperature": ("temperature", "base temperature of the invoice's volumes when the invoice does "
+                                                "not state it"),
     "fail_on": (float, "percent; exit code 1 when a finding exceeds it"),
     "register_digits": (int, "digits of the meter index register (rollover at 10^n)"),
 }
@@ -138,6 +149,9 @@ def _parse_price(text: str):
 
 
 def _hour(text) -> int:
+    """'06:00', '6' or 6 → 6; anything else (6.5, '06:30', inf, 24) is refused."""
+    if isinstance(text, bool):
+        raise SettingsError(f"gas_day_start '{text}' is not a time of day", hint="write e.g. '06:00' or '09:00'")
     s = str(text).strip()
     try:
         if ":" in s:
@@ -146,12 +160,43 @@ def _hour(text) -> int:
                 raise SettingsError(f"gas_day_start '{text}': only whole hours are supported", hint="e.g. '06:00'")
             h = int(h)
         else:
-            h = int(float(s))
+            x = float(s)
+            if not math.isfinite(x):
+                raise SettingsError(f"gas_day_start '{text}' is not a time of day", hint="write e.g. '06:00' or '09:00'")
+            if x != int(x):
+                raise SettingsError(f"gas_day_start '{text}': only whole hours are supported",
+                                    hint="write e.g. '06:00' or '09:00'")
+            h = int(x)
     except ValueError:
         raise SettingsError(f"gas_day_start '{text}' is not a time of day", hint="write e.g. '06:00' or '09:00'") from None
     if not 0 <= h <= 23:
-        raise SettingsError(f"gas_day_start '{text}' is not between 00:00 and 23:00")
+        raise SettingsError(f"gas_day_start '{text}' is not between 00:00 and 23:00", hint="write e.g. '06:00'")
     return h
+
+
+#: numeric settings: name → (attribute, type, lowest, highest, unit text); every value must be finite and in range
+NUMBER_RANGES = {
+    "ideal_gas_threshold": ("ideal_gas_threshold_pct", float, 0.0, 100.0, "%"),
+    "invoice_tolerance": ("invoice_tolerance_pct", float, 0.0, 100.0, "%"),
+    "fail_on": ("fail_on", float, 0.0, 1000.0, "%"),
+    "max_gap_intervals": ("max_gap_intervals", int, 0, 100_000, "intervals"),
+    # 15 digits: the largest register float64 holds exactly (2^53 ≈ 9.0e15)
+    "register_digits": ("register_digits", int, 1, 15, "digits"),
+}
+
+#: quantity settings: name → (attribute, kind, lowest, highest [SI], text of the range)
+QUANTITY_RANGES = {
+    "atmospheric_pressure": ("pressure_atm", "pressure", 40e3, 110e3, "40-110 kPa"),
+    # the lowest land (about -430 m) to well above any gas metering site
+    "elevation": ("elevation", "length", -500.0, 9000.0, "-500 to 9000 m"),
+    # low-calorific process gas (a few MJ/m3) to butane (about 130 MJ/m3)
+    "heating_value": ("heating_value", "heating_value", 1e6, 250e6, "1-250 MJ/m3"),
+    "heating_value_reference_temperature": ("heating_value_reference_temperature", "temperature", 250.0, 310.0,
+                                            "250-310 K"),
+    "heating_value_reference_pressure": ("heating_value_reference_pressure", "pressure", 50e3, 200e3, "50-200 kPa"),
+    # ISO 6976:2016 gives combustion references of 0, 15, 15.55, 20 and 25 degC
+    "combustion_temperature": ("temperature_combustion", "temperature", 273.15, 303.15, "0-30 degC"),
+}
 
 
 def load_site_file(path) -> dict:
@@ -252,35 +297,48 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
     if "base_temperature" in raw:
         s.temperature_base = qty("base_temperature", "temperature").value
         s.base_preset = None if "base_pressure" in raw else s.base_preset
-    if "atmospheric_pressure" in raw:
-        q = qty("atmospheric_pressure", "pressure")
-        if q.is_gauge:
-            fail("atmospheric_pressure", "atmospheric pressure is absolute; got a gauge unit")
-        s.pressure_atm = q.value
-    if "elevation" in raw:
-        s.elevation = qty("elevation", "length").value
-    if "heating_value" in raw:
-        s.heating_value = qty("heating_value", "heating_value").value
-    if "heating_value_reference_temperature" in raw:
-        s.heating_value_reference_temperature = qty("heating_value_reference_temperature", "temperature").value
-    if "heating_value_reference_pressure" in raw:
-        s.heating_value_reference_pressure = qty("heating_value_reference_pressure", "pressure").value
-    if "combustion_temperature" in raw:
-        s.temperature_combustion = qty("combustion_temperature", "temperature").value
+    for name, (attr, kind, lo, hi, text) in QUANTITY_RANGES.items():
+        if name in raw:
+            q = qty(name, kind)
+            if kind == "pressure" and q.is_gauge:
+                fail(name, "this pressure is absolute; got a gauge unit", "write e.g. '14.4 psia' or '99.2 kPa'")
+            if not (math.isfinite(q.value) and lo <= q.value <= hi):
+                fail(name, f"'{raw[name]}' is outside the plausible range {text}")
+            setattr(s, attr, q.value)
+    for prefix in ("invoice_",):
+        if prefix + "base" in raw:
+            key = str(raw[prefix + "base"]).strip().lower()
+            if key not in BASE_PRESETS:
+                fail(prefix + "base", f"unknown base preset '{raw[prefix + 'base']}'",
+                     "known presets: " + ", ".join(BASE_PRESETS))
+            s.invoice_pressure_base = parse_quantity(BASE_PRESETS[key][0], "pressure").value
+            s.invoice_temperature_base = parse_quantity(BASE_PRESETS[key][1], "temperature").value
+        if prefix + "base_pressure" in raw:
+            q = qty(prefix + "base_pressure", "pressure")
+            if q.is_gauge:
+                fail(prefix + "base_pressure", "a base pressure is absolute; got a gauge unit",
+                     "write e.g. '14.73 psia' or '101.325 kPa'")
+            s.invoice_pressure_base = q.value
+        if prefix + "base_temperature" in raw:
+            s.invoice_temperature_base = qty(prefix + "base_temperature", "temperature").value
     if "gas_day_start" in raw:
         s.gas_day_start_hour = _hour(raw["gas_day_start"])
-    for name, attr, typ in (("ideal_gas_threshold", "ideal_gas_threshold_pct", float),
-                            ("invoice_tolerance", "invoice_tolerance_pct", float),
-                            ("fail_on", "fail_on", float), ("max_gap_intervals", "max_gap_intervals", int),
-                            ("register_digits", "register_digits", int)):
+    for name, (attr, typ, lo, hi, unit) in NUMBER_RANGES.items():
         if name in raw:
+            v = raw[name]
             try:
-                val = typ(raw[name])
+                if isinstance(v, bool):
+                    raise ValueError
+                x = float(v)
             except (TypeError, ValueError):
-                fail(name, f"'{raw[name]}' is not a number")
-            if val < 0:
-                fail(name, f"{val} is negative")
-            setattr(s, attr, val)
+                fail(name, f"'{v}' is not a number")
+            if not math.isfinite(x):
+                fail(name, f"'{v}' is not a finite number")
+            if typ is int and x != int(x):
+                fail(name, f"'{v}' is not a whole number")
+            if not lo <= x <= hi:
+                fail(name, f"{v} is outside the range {lo:g}-{hi:g} {unit}")
+            setattr(s, attr, typ(x))
     for name in ("use_barometer",):
         if name in raw:
             v = raw[name]
@@ -290,7 +348,14 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
                 v = v.lower() in ("true", "yes", "1")
             setattr(s, name, bool(v))
     if "price" in raw:
-        s.price_per_energy, s.currency = _parse_price(raw["price"])
+        try:
+            s.price_per_energy, s.currency = _parse_price(raw["price"])
+        except ValueError:
+            fail("price", f"'{raw['price']}' is not a price per energy unit", "write e.g. '3.20 USD/MMBtu'")
+        except (SettingsError, UnitError) as exc:
+            fail("price", exc.message, exc.hint)
+        if not (math.isfinite(s.price_per_energy) and s.price_per_energy >= 0):
+            fail("price", f"'{raw['price']}' is not a finite price of zero or more")
     for name in ("uncertainty", "column_map", "display_units", "files"):
         if name in raw:
             setattr(s, name, dict(raw[name]))
@@ -320,12 +385,16 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
             hint=f"give --{missing.replace('_', '-')} (e.g. '14.73 psia' / '60 degF'), --base PRESET "
                  f"({', '.join(BASE_PRESETS)}), or set it in the site file",
         )
-    if s.pressure_base is not None and not (50e3 <= s.pressure_base <= 200e3):
+    if s.pressure_base is not None and not (math.isfinite(s.pressure_base) and 50e3 <= s.pressure_base <= 200e3):
         fail("base_pressure", f"{s.pressure_base:.0f} Pa is not a plausible base pressure (50-200 kPa)")
-    if s.temperature_base is not None and not (250.0 <= s.temperature_base <= 310.0):
+    if s.temperature_base is not None and not (math.isfinite(s.temperature_base)
+                                               and 250.0 <= s.temperature_base <= 310.0):
         fail("base_temperature", f"{s.temperature_base:.2f} K is not a plausible base temperature")
-    if s.pressure_atm is not None and not (40e3 <= s.pressure_atm <= 110e3):
-        fail("atmospheric_pressure", f"{s.pressure_atm:.0f} Pa is not a plausible atmospheric pressure (40-110 kPa)")
+    for name, value, lo, hi, text in (
+            ("invoice_base_pressure", s.invoice_pressure_base, 50e3, 200e3, "50-200 kPa"),
+            ("invoice_base_temperature", s.invoice_temperature_base, 250.0, 310.0, "250-310 K")):
+        if value is not None and not (math.isfinite(value) and lo <= value <= hi):
+            fail(name, f"'{raw.get(name)}' is not a plausible base condition ({text})")
     s.sources = {f.name: "default" for f in fields(Settings)}
     for k, v in src.items():
         s.sources[k] = v

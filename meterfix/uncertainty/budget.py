@@ -317,7 +317,7 @@ def build_model(result, parsed) -> IntervalModel:
     else:
         table = {c: float(v) for c, v in (method.uncertainty_pct or {}).items() if v is not None}
         z_spec = InputSpec("z", _range_text(table), True, table.get(NORMAL, 0.0) / 100, table.get(NORMAL, 0.0) / 200,
-                           is_default=True, source=f"{method.name}: {method.uncertainty_source} (REFERENCES.md §3)")
+                           is_default=True, source=f"{method.name}: {method.uncertainty_source}")
         uz = np.array([table.get(int(c), table.get(EXTENDED, table.get(NORMAL, 0.0))) for c in range(3)])[
             np.clip(rng, 0, 2)] / 200.0
         text = z_spec.text

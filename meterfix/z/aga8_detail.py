@@ -454,8 +454,7 @@ METHODS = [
                    "(40 000 psia) with the expanded composition limits",
         uncertainty_pct={NORMAL: 0.1, EXTENDED: 0.5},
         uncertainty_source="AGA Report No. 8 (1992/1994; kept in Part 1, 2017): 0.1 % in the normal range; "
-                           "0.3 % to 1 % across the extended range, 0.5 % taken as representative (from memory, "
-                           "REFERENCES §3)",
+                           "0.3 % to 1 % across the extended range, 0.5 % taken as representative (from memory)",
     )
 ]
 

@@ -487,7 +487,7 @@ _RANGE_TEXT = ("normal range only: 264.8-334.8 K (17-143 degF), p <= 12.07 MPa (
                "0.554-0.87, gross heating value 477-1150 Btu/scf at 60 degF/14.73 psia, N2 <= 50 %, CO2 <= 30 %; "
                "no H2 or CO")
 _SOURCE = ("AGA Report No. 8 (1992/1994; kept in Part 1, 2017): 0.1 % in the normal range, no extended range "
-           "(from memory, REFERENCES §3)")
+           "(from memory)")
 
 METHODS = [
     ZMethod("aga8-gross1", EDITION_1, _evaluate1, gas_input="gross", family="equation of state",

@@ -20,9 +20,9 @@ from .registry import ZMethod
 
 EDITION = "GERG-2008 (Kunz & Wagner 2012; AGA8 Part 2 2017, ISO 20765-2)"
 
-#: normal range (p_max [Pa], T_min [K], T_max [K]); Kunz & Wagner 2012 (from memory, REFERENCES §3)
+#: normal range (p_max [Pa], T_min [K], T_max [K]); Kunz & Wagner 2012 (from memory)
 NORMAL_RANGE = (35.0e6, 90.0, 450.0)
-#: extended range; Kunz & Wagner 2012 (from memory, REFERENCES §3)
+#: extended range; Kunz & Wagner 2012 (from memory)
 EXTENDED_RANGE = (70.0e6, 60.0, 700.0)
 
 #: points per block of the vectorized solve (bounds the size of the 2-D work arrays)
@@ -281,7 +281,7 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
 
     Notes
     -----
-    Range classes (Kunz & Wagner 2012, from memory, see REFERENCES §3): normal range 90-450 K
+    Range classes (Kunz & Wagner, J. Chem. Eng. Data 57 (2012) 3032, from memory): normal range 90-450 K
     and p <= 35 MPa (gas-phase density uncertainty about 0.1 %), extended range 60-700 K and
     p <= 70 MPa. GERG-2008 covers the full composition range of its 21 components, so no
     per-component limits are applied (GERG-2008 is stated for the whole composition range of
@@ -324,7 +324,7 @@ METHODS = [
         uncertainty_pct={NORMAL: 0.1, EXTENDED: 0.5},
         uncertainty_source="Kunz & Wagner, J. Chem. Eng. Data 57 (2012) 3032: gas-phase density "
                            "about 0.1 % in the normal range; 0.5 % taken for the extended range "
-                           "(from memory, REFERENCES §3)",
+                           "(from memory)",
     )
 ]
 

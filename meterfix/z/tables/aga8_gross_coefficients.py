@@ -86,7 +86,7 @@ HV_T_COEFF = 0.0001027
 HV_T_REFERENCE = 298.15
 
 #: ideal molar gross heating values at 25 degC [kJ/mol] of the 21 components used by the GROSS
-#: method from composition (reference code, from AGA Report No. 5 (2009); REFERENCES.md §1)
+#: method from composition (reference code, from AGA Report No. 5 (2009); usnistgov/AGA8 Gross.cpp)
 GROSS_MOLAR_HV_25C_KJ = (
     890.63, 0.0, 0.0, 1560.69, 2219.17, 2868.2, 2877.4, 3528.83, 3535.77, 4194.95, 4853.43, 5511.8,
     6171.15, 6829.77, 285.83, 0.0, 282.98, 44.016, 562.01, 0.0, 0.0,
