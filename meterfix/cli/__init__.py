@@ -169,6 +169,12 @@ def methods_command():
         typer.echo(f"{name:<16} {m.edition}")
         if m.range_text:
             typer.echo(f"{'':<16} range: {m.range_text}")
+    import textwrap
+
+    from ..z.phase import LIMITS_TEXT
+
+    typer.echo("")
+    typer.echo("\n".join(textwrap.wrap(LIMITS_TEXT, 100)))
 
 
 #: the blank templates shipped in meterfix.templates, in the order they are written

@@ -13,6 +13,7 @@ import numpy as np
 from ..errors import RangeWarning
 from ..gas.composition import as_composition
 from ..gas.gross import GrossCharacterization
+from .phase import REASON_NOT_GAS, mark_not_gas
 from .base import EXTENDED, NORMAL, OUTSIDE, RANGE_NAMES, ZResult
 from .registry import ZMethod, get_method, method_names, register, z_methods
 
@@ -44,12 +45,18 @@ def evaluate_z(pressure, temperature, composition, method: str = DEFAULT_METHOD,
     Returns
     -------
     ZResult
+        Where the state is not a single gas phase (meterfix.z.phase: a gas dominated by one
+        condensable component at or above its dew point) Z is NaN with reason ``not-gas``.
     """
     m = get_method(method)
     gas = _gas(composition, m)
     p = np.asarray(pressure, dtype=float)
     t = np.asarray(temperature, dtype=float)
-    return m.evaluate(p, t, gas, **options)
+    res = m.evaluate(p, t, gas, **options)
+    if gas is not None and not isinstance(gas, GrossCharacterization):
+        # a liquid or two-phase state has no gas root worth the name: NaN, reason 'not-gas' (z/phase.py)
+        res = mark_not_gas(res, p, t, gas)
+    return res
 
 
 def compressibility(pressure, temperature, composition=None, method: str = DEFAULT_METHOD, **options):
@@ -97,4 +104,4 @@ def compressibility(pressure, temperature, composition=None, method: str = DEFAU
 
 
 __all__ = ["compressibility", "evaluate_z", "ZResult", "ZMethod", "register", "get_method",
-           "method_names", "z_methods", "NORMAL", "EXTENDED", "OUTSIDE", "RANGE_NAMES", "DEFAULT_METHOD"]
+           "method_names", "z_methods", "REASON_NOT_GAS", "NORMAL", "EXTENDED", "OUTSIDE", "RANGE_NAMES", "DEFAULT_METHOD"]

@@ -14,6 +14,7 @@ RANGE_NAMES = {NORMAL: "normal", EXTENDED: "extended", OUTSIDE: "outside"}
 REASON_NO_GAS_ROOT = "no-gas-root"
 REASON_NO_CONVERGENCE = "no-convergence"
 REASON_INVALID_INPUT = "invalid-input"  # non-finite, p <= 0 or T <= 0
+REASON_NOT_GAS = "not-gas"  # liquid or two-phase state (meterfix.z.phase)
 
 
 @dataclass
@@ -24,7 +25,7 @@ class ZResult:
     ----------
     z : ndarray [-]                 compressibility factor; NaN where the method failed
     range_class : ndarray of int8   0 normal, 1 extended, 2 outside the method's range
-    reason : ndarray of str         '' or why z is NaN (no-gas-root, no-convergence, invalid-input)
+    reason : ndarray of str         '' or why z is NaN (no-gas-root, no-convergence, invalid-input, not-gas)
     method : str                    registry name, e.g. 'aga8-detail'
     edition : str                   the published edition that ran
     molar_density : ndarray or None [mol/m3]

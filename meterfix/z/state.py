@@ -285,6 +285,14 @@ def solve_state(gas, method, pressure=None, temperature=None, molar_volume=None,
     pe = np.where(ok, p, 1e5)
     te = np.where(ok, t, 300.0)
     res = m.evaluate(pe, te, gas, **options)
+    if gas is not None and not isinstance(gas, GrossCharacterization):
+        # a liquid or two-phase state is no gas state (meterfix.z.phase): NaN with reason 'not-gas'
+        from .phase import REASON_NOT_GAS, mark_not_gas
+
+        res = mark_not_gas(res, pe, te, gas)
+        liquid = ok & np.broadcast_to(np.asarray(res.reason, dtype=object) == REASON_NOT_GAS, shape)
+        ok = ok & ~liquid
+        reason = np.where(liquid, REASON_NOT_GAS, reason)
     with np.errstate(invalid="ignore", divide="ignore"):
         z = np.where(ok, p * v / (R * te), np.nan)
         if res.molar_density is not None:  # the method's own Z where it keeps its own R
