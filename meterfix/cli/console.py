@@ -50,7 +50,8 @@ def print_summary(result, written: dict) -> None:
     typer.echo(f"  base volume (Z = 1)  {t['ideal_gas_base_volume_m3']:,.2f} m3   ideal-gas error "
                f"{_fmt(t.get('ideal_gas_error_pct'), 4)} %")
     if t.get("energy_MJ") is not None:
-        typer.echo(f"  energy               {t['energy_MJ'] / 1e3:,.3f} GJ")
+        std = result.method.get("energy_standard")
+        typer.echo(f"  energy               {t['energy_MJ'] / 1e3:,.3f} GJ" + (f"   ({std})" if std else ""))
     unc = result.uncertainty
     if unc is not None and getattr(unc, "expanded_pct", None) is not None:
         typer.echo(f"  expanded uncertainty {unc.expanded_pct:.3f} % (k = 2)")

@@ -14,8 +14,8 @@ from ..errors import MeterfixError
 _OPTION_SETTINGS = ("meter", "site", "base", "base_pressure", "base_temperature", "atmospheric_pressure",
                     "elevation", "timezone", "gas_day_start", "interval_label", "method", "heating_value",
                     "heating_value_reference_temperature", "heating_value_reference_pressure",
-                    "combustion_temperature", "ideal_gas_threshold", "substitution", "max_gap_intervals",
-                    "price", "invoice_tolerance", "fail_on", "register_digits", "invoice_base",
+                    "combustion_temperature", "energy_edition", "ideal_gas_threshold", "substitution",
+                    "max_gap_intervals", "price", "invoice_tolerance", "fail_on", "register_digits", "invoice_base",
                     "invoice_base_pressure", "invoice_base_temperature")
 
 
@@ -50,7 +50,8 @@ def correct_command(
     heating_value: Optional[str] = typer.Option(None, "--heating-value", help="Supplied gross heating value instead of the analysis, e.g. '38.6 MJ/m3'."),
     heating_value_reference_temperature: Optional[str] = typer.Option(None, "--heating-value-reference-temperature", help="Metering reference temperature of --heating-value."),
     heating_value_reference_pressure: Optional[str] = typer.Option(None, "--heating-value-reference-pressure", help="Metering reference pressure of --heating-value."),
-    combustion_temperature: Optional[str] = typer.Option(None, "--combustion-temperature", help="Combustion reference temperature for the heating value, 0-30 degC: 0, 15, 20, 25 degC or 60 degF (default 25 degC)."),
+    combustion_temperature: Optional[str] = typer.Option(None, "--combustion-temperature", help="Combustion reference temperature for the heating value: 0, 15, 20, 25 degC or 60 degF as ISO 6976 tabulates (default 25 degC)."),
+    energy_edition: Optional[str] = typer.Option(None, "--energy-edition", help="ISO 6976 edition for energy from the analysis: 2016 (default) or 1995."),
     ideal_gas_threshold: Optional[float] = typer.Option(None, "--ideal-gas-threshold", help="Percent; |ideal − real| above it is a finding (default 0.5)."),
     substitution: Optional[str] = typer.Option(None, "--substitution", help="Fill gaps: none (default), interpolate, hold, profile."),
     max_gap_intervals: Optional[int] = typer.Option(None, "--max-gap-intervals", help="Longest gap filled, in intervals (default 3)."),

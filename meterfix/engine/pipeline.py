@@ -54,6 +54,8 @@ class AnalysisInForce:
     density_base: float = np.nan  # [kg/m3]
     relative_density: float = np.nan  # [-] real gas, at base conditions
     wobbe_index: float = np.nan  # [J/m3] gross, at base conditions
+    energy: object = None  # meterfix.energy.month.AnalysisEnergy: every ISO 6976 property, the edition
+    heating_value_us: dict | None = None  # Btu/scf at 14.73 psia and 60 degF, dry and water-saturated
 
 
 @dataclass
@@ -151,10 +153,12 @@ def _heating_value(gas, settings: Settings, z_base: float = None):
             temperature_metering_to=settings.temperature_base, pressure_metering_to=settings.pressure_base)
         return float(hv2), "supplied, converted to the contract base conditions"
     if isinstance(gas, Composition):
-        res = E.heating_value(gas, temperature_combustion=settings.temperature_combustion,
-                              temperature_metering=settings.temperature_base,
-                              pressure_metering=settings.pressure_base, z_metering=z_base)
-        return float(res.gross_volumetric_real), f"from the analysis ({res.edition})"
+        from ..energy.month import analysis_energy
+
+        res = analysis_energy(gas, temperature_combustion=settings.temperature_combustion,
+                              temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
+                              edition=getattr(settings, "energy_edition", "2016"), z_metering=z_base)
+        return float(res.gross_volumetric), res.source
     if isinstance(gas, GrossCharacterization) and gas.heating_value is not None:
         hv2 = E.convert_volumetric_heating_value(
             gas.heating_value, composition=None, temperature_metering_from=gas.temperature_reference_density,
@@ -162,6 +166,18 @@ def _heating_value(gas, settings: Settings, z_base: float = None):
             pressure_metering_to=settings.pressure_base)
         return float(hv2), "gross characterisation, converted to the contract base conditions"
     return np.nan, "unknown (no composition or supplied heating value)"
+
+
+def _energy_standard(in_force, settings: Settings) -> str:
+    """The standard the month's heating values come from, named in every output."""
+    if settings.heating_value is not None:
+        return "supplied heating value"
+    eds = sorted({a.energy.edition for a in in_force if a.energy is not None})
+    if eds:
+        return ", ".join(eds)
+    if any(isinstance(a.gas, GrossCharacterization) for a in in_force):
+        return "gross characterisation's heating value"
+    return f"ISO 6976:{settings.energy_edition}"
 
 
 def _molar_mass(gas) -> float:
@@ -465,17 +481,30 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
             rb = evaluate_z(settings.pressure_base, settings.temperature_base, gas, method.name)
             a.z_base = float(np.asarray(rb.z).reshape(-1)[0])
             a.molar_mass = _molar_mass(gas)
-            a.heating_value, a.heating_value_source = _heating_value(gas, settings, a.z_base)
+            if not (isinstance(gas, Composition) and settings.heating_value is None):
+                a.heating_value, a.heating_value_source = _heating_value(gas, settings, a.z_base)
             a.density_base = float(K.density_at_base(settings.pressure_base, settings.temperature_base,
                                                      a.z_base, a.molar_mass))
             if isinstance(gas, Composition):
                 from .. import energy as E
+                from ..energy.month import analysis_energy, us_heating_value
 
-                a.relative_density = float(E.relative_density(
-                    gas, temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
-                    z_metering=a.z_base, method=method.name))
-                if np.isfinite(a.heating_value):
-                    a.wobbe_index = float(E.wobbe_index(a.heating_value, a.relative_density))
+                if settings.heating_value is None:
+                    a.energy = analysis_energy(
+                        gas, temperature_combustion=settings.temperature_combustion,
+                        temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
+                        edition=settings.energy_edition, z_metering=a.z_base)
+                    a.heating_value, a.heating_value_source = float(a.energy.gross_volumetric), a.energy.source
+                    a.heating_value_us = us_heating_value(gas, settings.energy_edition)
+                if a.energy is not None and np.isfinite(a.energy.relative_density):
+                    a.relative_density = float(a.energy.relative_density)
+                    a.wobbe_index = float(a.energy.wobbe_index)
+                else:
+                    a.relative_density = float(E.relative_density(
+                        gas, temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
+                        z_metering=a.z_base, method=method.name))
+                    if np.isfinite(a.heating_value):
+                        a.wobbe_index = float(E.wobbe_index(a.heating_value, a.relative_density))
         in_force.append(a)
         sel = which == k
         if not sel.any():
@@ -549,7 +578,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         edits=edits if edits is not None else pd.DataFrame(columns=["time", "what", "original", "new", "method", "reason"]),
         flags=flags, analyses=in_force,
         method={"name": method.name, "edition": method.edition, "range": method.range_text,
-                "atmospheric_pressure_source": atm_source},
+                "atmospheric_pressure_source": atm_source, "energy_standard": _energy_standard(in_force, settings)},
         inputs=inputs, log_metadata=metadata, warnings=warn,
     )
 

@@ -53,6 +53,8 @@ class Settings:
     heating_value_reference_temperature : float or None [K]  metering reference of the supplied value
     heating_value_reference_pressure : float or None [Pa]
     temperature_combustion : float [K]  combustion reference temperature for heating value (25 degC)
+    energy_edition : str               ISO 6976 edition for energy from the analysis: "2016" (default)
+                                        or "1995" (for contracts that cite it)
     ideal_gas_threshold_pct : float   |ideal − real| above this is a finding (default 0.5 %)
     substitution : str                none, interpolate, hold or profile
     max_gap_intervals : int           longest gap filled by interpolate/hold (intervals)
@@ -83,6 +85,7 @@ class Settings:
     heating_value_reference_temperature: float | None = None
     heating_value_reference_pressure: float | None = None
     temperature_combustion: float = 298.15
+    energy_edition: str = "2016"
     ideal_gas_threshold_pct: float = 0.5
     substitution: str = "none"
     max_gap_intervals: int = 3
@@ -123,6 +126,7 @@ SETTING_KINDS = {
     "heating_value_reference_temperature": ("temperature", "metering reference temperature of the supplied heating value"),
     "heating_value_reference_pressure": ("pressure", "metering reference pressure of the supplied heating value"),
     "combustion_temperature": ("temperature", "combustion reference temperature, default 25 degC"),
+    "energy_edition": (str, "ISO 6976 edition for energy from the analysis: 2016 (default) or 1995"),
     "ideal_gas_threshold": (float, "percent; |ideal − real| above this is a finding"),
     "substitution": (str, "none, interpolate, hold or profile"),
     "max_gap_intervals": (int, "longest gap substituted, in intervals"),
@@ -280,6 +284,11 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
     for name in ("meter", "site", "timezone", "method", "substitution", "interval_label"):
         if name in raw:
             setattr(s, name, str(raw[name]))
+    if "energy_edition" in raw:
+        ed = str(raw["energy_edition"]).replace("ISO 6976:", "").replace("ISO6976:", "").strip()
+        if ed not in ("2016", "1995"):
+            fail("energy_edition", f"unknown ISO 6976 edition '{raw['energy_edition']}'", "use 2016 or 1995")
+        s.energy_edition = ed
     if "base" in raw:
         key = str(raw["base"]).strip().lower()
         if key not in BASE_PRESETS:

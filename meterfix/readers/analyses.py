@@ -37,8 +37,8 @@ import numpy as np
 import pandas as pd
 
 from ..errors import CompositionError, InputError, UnitError
-from ..gas.components import canonical_name
-from ..gas.composition import _LUMPED, Composition
+from ..gas import iso6976_components as ISO
+from ..gas.composition import Composition
 from ..gas.gross import GrossCharacterization
 from ..units import parse_unit
 from .columns import _candidates, _norm
@@ -66,14 +66,17 @@ _GROSS_FRACTIONS = {"carbon_dioxide": "x_co2", "nitrogen": "x_n2", "hydrogen": "
 
 
 def _component(text: str):
-    """Canonical component name of a header or cell, or None."""
-    name = canonical_name(str(text))
-    if name is None:
-        key = _norm(text).replace(" ", "").replace("+", "plus")
-        for k, v in _LUMPED.items():
-            if k.replace("+", "plus") == key:
-                return v
-    return name
+    """Canonical component name (ISO 6976 list, lumps counted by their rule) of a header or cell, or None."""
+    return ISO.iso_name(str(text)) or ISO.lump_name(str(text))
+
+
+_UNCERTAINTY_WORDS = ("standard uncertainty", "uncertainty", "u", "std uncertainty", "u(x)", "ux",
+                      "standard deviation")
+
+
+def _is_uncertainty(name: str) -> bool:
+    n = _norm(name)
+    return n in _UNCERTAINTY_WORDS or n.startswith("standard uncertainty") or n.startswith("uncertainty")
 
 
 def _split(header: str):
@@ -81,7 +84,7 @@ def _split(header: str):
     for name, unit, explicit in _candidates(header):
         n = _norm(name)
         if (_component(name) or n in _COMPONENT_WORDS or n in _AMOUNT_WORDS or n in _TIME_WORDS
-                or any(n in g[0] for g in _GROSS.values())):
+                or any(n in g[0] for g in _GROSS.values()) or _is_uncertainty(name)):
             if unit and not explicit and _component(name) is None and n not in _AMOUNT_WORDS:
                 continue
             return name, unit
@@ -154,6 +157,13 @@ def _fraction_scale(unit_text: str, where) -> float | None:
 
 
 def _one_analysis(t: RawTable, comp_col: int, heads) -> Composition:
+    """One analysis, one row per component. Optional columns: ``Standard uncertainty`` (same unit as
+    the amounts unless its header gives one; ISO 6976:2016 Annex B input) and a correlation matrix
+    as one column per component (headers are component names, cells the correlation coefficients
+    with the row's component)."""
+    unc = [(j, h, n, u) for j, h, n, u in heads if j != comp_col and _is_uncertainty(n)]
+    corr_cols = [(j, h, _component(n)) for j, h, n, u in heads if j != comp_col and _component(n) is not None]
+    heads = [x for x in heads if x[0] not in {c[0] for c in unc} | {c[0] for c in corr_cols}]
     amount = [(j, h, n, u) for j, h, n, u in heads if j != comp_col]
     pref = [x for x in amount if _norm(x[2]) in _AMOUNT_WORDS]
     if not (pref or amount):
@@ -167,7 +177,21 @@ def _one_analysis(t: RawTable, comp_col: int, heads) -> Composition:
         scale = 0.01
     values, empty, bad = to_numbers(t.cells[j].to_numpy(), t.decimal)
     names = t.cells[comp_col].astype(str).str.strip().to_numpy()
+    u_values = None
+    if unc:
+        ju, hu, nu, uu = unc[0]
+        u_scale = _fraction_scale(uu, t.where(t.header_row, hu))
+        u_values, u_empty, u_bad = to_numbers(t.cells[ju].to_numpy(), t.decimal)
+        for i in np.flatnonzero(u_bad):
+            raise CompositionError(f"the standard uncertainty '{t.cells[ju].iat[i]}' is not a number",
+                                   **t.where(int(t.rows[i]), hu), hint="write a plain number; the unit goes in the header")
+        if u_scale is not None:
+            # into the amounts' own unit (fractions when the amounts have a unit, else as auto-detected)
+            amount_unit = scale if scale is not None else (0.01 if np.nansum(values) > 1.5 else 1.0)
+            u_values = u_values * u_scale / amount_unit
     mapping: dict = {}
+    uncertainties: dict = {}
+    correlation: dict = {}
     notes = []
     for i in range(len(names)):
         row = int(t.rows[i])
@@ -182,9 +206,12 @@ def _one_analysis(t: RawTable, comp_col: int, heads) -> Composition:
             if _norm(nm).startswith(_PROPERTY_WORDS):
                 notes.append(f"row {row}: '{nm}' is not a component; skipped")
                 continue
-            raise CompositionError(f"unknown gas component '{nm}'", **t.where(row, t.header[comp_col]),
-                                   hint="use a canonical name (methane, ethane, n_butane ...) or an alias "
-                                        "(CH4, C2H6, nC4, CO2, N2 ...)")
+            close = ISO.closest_names(nm)
+            raise CompositionError(f"unknown gas component '{nm}'" + (f"; closest known: {', '.join(close)}"
+                                                                     if close else ""),
+                                   **t.where(row, t.header[comp_col]),
+                                   hint="use a component name of ISO 6976 (methane, n_butane, neopentane, benzene ...) "
+                                        "or an alias (CH4, C2H6, nC4, neoC5, CO2, N2 ...)")
         if bad[i]:
             raise CompositionError(f"the amount of '{nm}' is not a number: '{t.cells[j].iat[i]}'", **t.where(row, header),
                                    hint="write a plain number; the unit goes in the header")
@@ -195,15 +222,28 @@ def _one_analysis(t: RawTable, comp_col: int, heads) -> Composition:
             raise CompositionError(f"negative amount for '{nm}': {values[i]:g}", **t.where(row, header),
                                    hint="mole fractions are zero or positive")
         mapping[nm] = mapping.get(nm, 0.0) + v
+        if u_values is not None and np.isfinite(u_values[i]):
+            if u_values[i] < 0:
+                raise CompositionError(f"negative standard uncertainty for '{nm}'", **t.where(row, unc[0][1]))
+            uncertainties[nm] = float(u_values[i]) * (scale if scale is not None else 1.0)
+        for jc, hc, cname in corr_cols:
+            rv, re_, rb = to_numbers(t.cells[jc].to_numpy()[i:i + 1], t.decimal)
+            if rb[0]:
+                raise CompositionError(f"correlation '{t.cells[jc].iat[i]}' is not a number", **t.where(row, hc))
+            if np.isfinite(rv[0]) and cname != canon:
+                correlation[(nm, cname)] = float(rv[0])
     if not mapping:
         raise CompositionError("the analysis lists no component amounts", **t.where(t.header_row, header),
                                hint="one row per component with its mole percent")
     try:
-        comp = Composition.from_mapping(mapping, unit="fraction" if scale is not None else "auto", source=t.file)
+        comp = Composition.from_mapping(mapping, unit="fraction" if scale is not None else "auto", source=t.file,
+                                        uncertainties=uncertainties or None, correlation=correlation or None)
     except CompositionError as exc:
         raise CompositionError(exc.message, **t.where(None, header), hint=exc.hint) from None
     if notes:
-        comp = Composition(comp.fractions, comp.sum_as_given, comp.notes + tuple(notes))
+        import dataclasses
+
+        comp = dataclasses.replace(comp, notes=comp.notes + tuple(notes))
     return comp
 
 

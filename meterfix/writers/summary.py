@@ -36,6 +36,25 @@ def _clean(obj):
     return obj
 
 
+def _energy_record(a):
+    """Every ISO 6976 property of an analysis in SI, the edition and reference conditions (or None)."""
+    e = getattr(a, "energy", None)
+    p = getattr(e, "properties", None)
+    if p is None:
+        return None
+    out = {"standard": p.edition, "combustion_temperature_K": p.temperature_combustion,
+           "metering_temperature_K": p.temperature_metering, "metering_pressure_Pa": p.pressure_metering,
+           **p.as_dict()}
+    gas = getattr(a, "gas", None)
+    if getattr(gas, "sum_as_given", None) is not None:
+        out["analysis_total_as_given"] = gas.sum_as_given
+    if getattr(gas, "detail", None):
+        out["components"] = dict(gas.detail)
+    if getattr(a, "heating_value_us", None):
+        out["us_practice"] = a.heating_value_us
+    return out
+
+
 def build_summary(result) -> dict:
     """The summary dict of a MonthResult (contract of DESIGN.md)."""
     s = result.settings
@@ -57,6 +76,7 @@ def build_summary(result) -> dict:
                       "heating_value_J_per_m3": a.heating_value, "heating_value_source": a.heating_value_source,
                       "relative_density": getattr(a, "relative_density", None),
                       "wobbe_index_J_per_m3": getattr(a, "wobbe_index", None),
+                      "energy": _energy_record(a),
                       "gas": (a.gas.as_dict() if hasattr(a.gas, "as_dict") else
                               (a.gas.__dict__ if a.gas is not None else None))}
                      for a in result.analyses],

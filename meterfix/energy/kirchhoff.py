@@ -22,9 +22,9 @@ from dataclasses import dataclass
 
 import numpy as np
 
-from .constants import R
-from .errors import SettingsError
-from .gas.components import INDEX, N_COMPONENTS
+from ..constants import R
+from ..errors import SettingsError
+from ..gas.components import INDEX, N_COMPONENTS
 
 EDITION = ("ISO 6976 summation: 25 degC component values of the AGA8 reference code, other combustion "
            "references by Kirchhoff's law")
@@ -100,7 +100,7 @@ def component_heating_values(temperature_combustion: float = 298.15) -> np.ndarr
                             hint="use --combustion-temperature '25 degC' (or 0, 15, 20 degC, 60 degF)")
     if abs(t1 - 298.15) < 1e-9:
         return GROSS_MOLAR_25C.copy()
-    from .gas.heat_capacity import combustion_enthalpy_shift
+    from ..gas.heat_capacity import combustion_enthalpy_shift
 
     return GROSS_MOLAR_25C + combustion_enthalpy_shift(298.15, t1)
 
@@ -147,7 +147,7 @@ def convert_volumetric_heating_value(value, *, composition=None, temperature_met
 
 def _z_at(pressure: float, temperature: float, gas, method: str) -> float:
     """Z of ``gas`` at one state [-] (pressure [Pa], temperature [K]) with a registered method."""
-    from .z import evaluate_z
+    from ..z import evaluate_z
 
     return float(np.asarray(evaluate_z(pressure, temperature, gas, method).z).reshape(-1)[0])
 
