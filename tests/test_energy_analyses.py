@@ -135,3 +135,53 @@ def test_month_run_uses_iso_6976_and_names_the_edition():
     r10 = run_month(frame, [(None, GAS)], month_settings(heating_value=None, base_temperature="10 degC",
                                                          base_pressure="101.325 kPa"))
     assert "not tabulated by the standard" in r10.analyses[0].heating_value_source
+
+
+def test_annex_b_feeds_the_months_energy_budget():
+    # ISO 6976:2016 Annex B u(Hv) of the analysis (example 1's uncertainties, D.2) becomes the heating-value
+    # input of the month's GUM budget; the composition then acts on the energy through Z only
+    from meterfix.engine.pipeline import run_month
+    from meterfix.uncertainty import month_uncertainty
+    from tests.synthetic_month import month_frame, month_settings
+
+    gas = Composition.from_mapping(EX1, uncertainties=U1)
+    frame = month_frame(days=2)
+    r = run_month(frame, [(None, gas)], month_settings(heating_value=None, base="normal-0c"))
+    props = r.analyses[0].energy.properties
+    rel = props.standard_uncertainty["gross_heating_value_volumetric"] / props["gross_heating_value_volumetric"]
+    mu = month_uncertainty(r, draws=2000, max_draws=2000)
+    row = mu.energy_budget.set_index("input").loc["heating value"]
+    assert "Annex B" in row["source"]
+    assert row["standard_uncertainty_pct"] == pytest.approx(100 * rel, rel=1e-9)
+    plain = run_month(frame, [(None, Composition.from_mapping(EX1))], month_settings(heating_value=None, base="normal-0c"))
+    row0 = month_uncertainty(plain, draws=2000, max_draws=2000).energy_budget.set_index("input").loc["heating value"]
+    assert "Annex B" not in row0["source"]
+
+
+def test_table_of_analyses_with_isomers_and_a_lump(tmp_path):
+    from meterfix.readers import read_analyses
+
+    f = tmp_path / "lab.csv"
+    f.write_text("Effective from,methane [mol%],ethane [mol%],neo-C5 [mol%],2-methylpentane [mol%],C7+ [mol%],N2 [mol%]\n"
+                 "2026-10-01 06:00,94.0,4.0,0.3,0.2,0.1,1.4\n"
+                 "2026-10-15 06:00,93.0,5.0,0.3,0.2,0.1,1.4\n")
+    (w1, g1), (w2, g2) = read_analyses(f, timezone="Europe/Berlin")
+    assert g1.detail["neopentane"] == pytest.approx(0.003) and g1.detail["2_methylpentane"] == pytest.approx(0.002)
+    assert g1["n_pentane"] == pytest.approx(0.003) and g1["n_hexane"] == pytest.approx(0.002)
+    assert g1["n_heptane"] == pytest.approx(0.001)
+    assert any("lumped as n_heptane" in n for n in g1.notes)
+
+
+@pytest.mark.parametrize("h2, detail_range", [(0.05, "normal"), (0.20, "extended")])
+def test_hydrogen_ranges_of_the_z_methods_are_flagged(h2, detail_range):
+    # DETAIL: hydrogen up to 10 % in the normal range, to 100 % in the extended range (AGA8 Part 1, from
+    # memory, as in z/aga8_detail.py); GERG-2008: the whole composition range of its components (from memory)
+    from meterfix.z import evaluate_z
+    from meterfix.z.base import RANGE_NAMES
+
+    g = Composition.from_mapping({"methane": 1 - h2, "hydrogen": h2})
+    assert RANGE_NAMES[int(evaluate_z(50e5, 288.15, g, "aga8-detail").range_class)] == detail_range
+    assert RANGE_NAMES[int(evaluate_z(50e5, 288.15, g, "gerg-2008").range_class)] == "normal"
+    # energy: a hydrogen blend is within ISO 6976 (Z > 0.9 at the metering reference)
+    e = analysis_energy(g, temperature_combustion=T25, temperature_metering=T0, pressure_metering=101325.0)
+    assert e.edition == "ISO 6976:2016" and np.isfinite(e.gross_volumetric)

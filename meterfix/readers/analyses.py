@@ -250,6 +250,7 @@ def _one_analysis(t: RawTable, comp_col: int, heads) -> Composition:
 def _table(t: RawTable, heads, timezone):
     tcol = next(((j, h) for j, h, n, u in heads if _norm(n) in _TIME_WORDS), None)
     comps = [(j, h, _component(n), u) for j, h, n, u in heads if _component(n) is not None]
+    raw_names = {j: str(n).strip() for j, h, n, u in heads if _component(n) is not None}
     gross = {}
     for j, h, n, u in heads:
         k = _norm(n)
@@ -294,7 +295,8 @@ def _table(t: RawTable, heads, timezone):
                 if x < 0:
                     raise CompositionError(f"negative amount for '{h}': {x:g}", **t.where(row, h),
                                            hint="mole fractions are zero or positive")
-                mapping[c] = mapping.get(c, 0.0) + x
+                key = raw_names.get(j, c)  # the header's own name: lumps and aliases are recorded in the notes
+                mapping[key] = mapping.get(key, 0.0) + x
             try:
                 gas = Composition.from_mapping(mapping, unit="fraction" if all_units else "auto", source=t.file)
             except CompositionError as exc:

@@ -15,7 +15,11 @@ Relative sensitivity coefficients c = ∂ln V_b / ∂ln x:
   by a factor exp(±h) and the analysis renormalised to sum 1 before Z is evaluated (the sum-to-one
   constraint is kept, the balance component absorbs the change); ∂ln Hm/∂ε_j = x_j (Hm_j/Hm − 1)
   is analytic (:mod:`meterfix.uncertainty.composition`). Where the heating value was computed
-  from the analysis at the contract base, H is proportional to 1/Z_b and Z_b cancels from the energy.
+  from the analysis at the contract base, H is proportional to 1/Z_b and Z_b cancels from the energy
+  (ISO 6976's own Z at base stands for the method's there: the two agree to about 1e-5).
+* heating value from an analysis that states its standard uncertainties: u(H) by ISO 6976:2016
+  Annex B (composition with its correlations, the standard's table values), and the composition
+  term acts on the energy through Z only; the method's Z_b then enters the energy with +1.
 
 Each input is a :class:`Term` with one or more independent sub-sources (rows): a row is either
 *correlated* across intervals (one error shared by every interval it touches; a systematic input,
@@ -243,8 +247,13 @@ def build_model(result, parsed) -> IntervalModel:
     for k in der:
         der[k] = np.where(np.isfinite(der[k]), der[k], 0.0)
 
+    # ISO 6976:2016 Annex B, where the analysis gave its standard uncertainties: u(Hv) of that analysis
+    # (composition and the standard's table values) is the heating-value input, and the composition
+    # term then acts on the energy through Z only (no double count); H does not follow the method's Z_b
+    annex_b = np.array([_annex_b_relative(a) for a in result.analyses] + [np.nan] * (n_an - len(result.analyses)))
+    has_b = np.isfinite(annex_b)
     hv_comp = np.array([isinstance(a.gas, Composition) and s.heating_value is None for a in result.analyses]
-                       + [False] * (n_an - len(result.analyses)), bool)
+                       + [False] * (n_an - len(result.analyses)), bool) & ~has_b
     model = IntervalModel(used=used, volume=vb, energy=energy, analysis=analysis, n_analyses=n_an,
                           gas_day=np.asarray(df["gas_day"].to_numpy(object))[used], pressure=p, pressure_atm=patm,
                           temperature=t, z=z, dlnz_dlnp=der["p"], dlnz_dlnt=der["t"], d2lnz_dlnp2=der["pp"],
@@ -348,6 +357,14 @@ def build_model(result, parsed) -> IntervalModel:
         dflt = HEATING_VALUE_DEFAULTS["composition" if hv_comp[: len(result.analyses)].all() else "supplied"]
         h_spec = parsed.resolve("heating_value", *dflt)
         uh = h_spec.standard_at(h)
+        if "heating_value" not in parsed.given and has_b[analysis].any():
+            from dataclasses import replace
+
+            uh = np.where(has_b[analysis], annex_b[np.clip(analysis, 0, n_an - 1)], uh)
+            h_spec = replace(h_spec, text="ISO 6976:2016 Annex B", source=(
+                "ISO 6976:2016 Annex B from the analysis' standard uncertainties (and correlations when given) "
+                "and the standard's table uncertainties" + ("" if has_b[analysis].all() else
+                                                           "; other analyses: " + h_spec.source)))
         _analysis_term(model, add, "heating_value", h_spec, _wmean(h, w), "J/m3", uh, 0.0, 1.0, in_volume=False)
     from .composition import composition_term
 
@@ -358,6 +375,16 @@ def build_model(result, parsed) -> IntervalModel:
     _relative_only(e_spec)
     add("estimated", e_spec, float(np.sum(vl[est])), "m3", np.where(est, e_spec.standard, 0.0), 1.0, 1.0, est)
     return model
+
+
+def _annex_b_relative(a) -> float:
+    """Relative standard uncertainty u(Hv)/Hv of an analysis by ISO 6976:2016 Annex B, or NaN."""
+    props = getattr(getattr(a, "energy", None), "properties", None)
+    u = getattr(props, "standard_uncertainty", None)
+    if not u:
+        return np.nan
+    key = "gross_heating_value_volumetric"
+    return float(u[key] / props.values[key])
 
 
 def _analysis_term(model, add, key, spec, value, unit, u, cv, ce, in_volume=True):
