@@ -12,15 +12,31 @@ cause                       model of y                                     param
 ``base-pressure``           θ = ln(pb / pb')                               pb' [Pa]
 ``base-temperature``        θ = ln(Tb' / Tb)                               Tb' [K]
 ``atmospheric-pressure``    (1 − β) ln(1 + Δa / pf)                        Δa [Pa]
+``gauge-as-absolute``       ln((pf − pa) / pf) + ln(Zf / Z(pf − pa))       — (pa when unknown)
 ``fixed-temperature``       (1 + γ) (ln Tf − ln T')                        T' [K]
 ==========================  =============================================  ===================
 
 with β = ∂lnZ/∂lnp and γ = ∂lnZ/∂lnT at line conditions (the corrector computes Z at the
-pressure and temperature it believes). Each candidate (the seven single causes and the pairs
-that can occur together) is fitted by weighted least squares (weights: our interval volume)
-and scored by the Bayesian information criterion n·ln(MSE + σ0²) + k·ln(n), k = parameters +
-causes, σ0 = 1e-5 a floor for the corrector's rounding. The best-scoring explanations that beat
-"no misconfiguration" and whose month effect exceeds the threshold are the findings.
+pressure and temperature it believes; the leading candidates are refitted with Z evaluated there).
+Every parameter is bounded to physical values (meterfix.checks.corrector_models states the
+bounds and why); a fit that ends on a bound is tried, not credited.
+
+Robust fit: each interval weighs by its duration, capped at twice the typical interval (a long
+interval after a communication gap cannot dominate). Every candidate is first fitted with a
+robust loss (soft L1, scale from the median absolute deviation); the intervals the best robust
+fit leaves more than 5 robust standard deviations (and 0.5 %) off are outliers, shown and left
+out; then every candidate is refitted by weighted least squares on the rest and scored by the
+Bayesian information criterion BIC = n·ln(MSE + σ0²) + k·ln(n) (Schwarz 1978; k = parameters +
+causes, σ0 = 1e-5 a floor for the corrector's rounding).
+
+Evidence: a candidate is a finding when it beats the reference by ΔBIC >= 10 ("very strong"
+evidence on the scale of Kass & Raftery, J. Am. Stat. Assoc. 90 (1995) 773): for base-pressure
+and base-temperature "no misconfiguration", for every cause with a shape the better of that and
+an unexplained constant ratio (which a pulse or meter factor gives as well). It must also explain at
+least half the deviation (R² >= 0.5), has no parameter on its bound, implies a base condition in
+use when it gives a constant ratio, and changes the month by at least EVIDENCE_FLOOR_PCT. A
+finding whose month effect is below the threshold is still reported, with ``material = False``.
+A fixed Zb/Zf equal to 1 (within two standard errors) is the ideal-gas cause, not a second one.
 
 Notes
 -----
@@ -30,6 +46,12 @@ condition is ranked first), and ``ideal-gas`` together with a base error has the
 ``fixed-z`` (reported as ``fixed-z``). ``size_pct`` of a finding is the month effect of the
 fitted model, 100 (Σ V_ours e^f / Σ V_ours − 1), which equals the observed
 100 (Σ V_corrector / Σ V_ours − 1) when the model explains the data.
+
+References
+----------
+1. Schwarz, G. (1978), Estimating the dimension of a model, Ann. Statist. 6, 461.
+2. Kass, R. E. and Raftery, A. E. (1995), Bayes factors, J. Am. Stat. Assoc. 90, 773.
+3. Huber, P. J. (1981), Robust Statistics (M-estimation; the soft-L1 loss of scipy.optimize.least_squares).
 """
 
 from __future__ import annotations
@@ -38,20 +60,29 @@ from dataclasses import dataclass, field
 
 import numpy as np
 import pandas as pd
-from scipy.optimize import least_squares
 
 from ..z import evaluate_z
+from .corrector_models import (CAUSE_TEXT, COMMON_BASE_PRESSURES, COMMON_BASE_TEMPERATURES, OTHER_CAUSES,  # noqa: F401
+                               Z_CAUSES, cause_text, causes as _causes, combinations, fit, plausibility)
 
-#: default threshold of a finding [%]: two independent Z calculations of about 0.1 % each
-#: (ISO 12213-2 scope, REFERENCES.md §3), combined in quadrature (0.14 %), rounded up
+#: default threshold of a material finding [%]: two independent Z calculations of about 0.1 % each
+#: (the stated uncertainty of ISO 12213-2 / AGA Report No. 8 DETAIL in its normal range), combined in
+#: quadrature (0.14 %), rounded up
 DEFAULT_THRESHOLD_PCT = 0.15
+#: smallest month effect reported at all [%]: a tenth of the 0.5 % maximum permissible error of a
+#: volume conversion device at reference conditions (EN 12405-1 / OIML R 140, from memory)
+EVIDENCE_FLOOR_PCT = 0.05
+#: ΔBIC a cause must win by over "no misconfiguration" ("very strong", Kass & Raftery 1995)
+EVIDENCE_DELTA_BIC = 10.0
 SIGMA_FLOOR = 1e-5
-#: common base conditions (REFERENCES.md §5, common practice) used to rank indistinguishable causes
-COMMON_BASE_PRESSURES = (101325.0, 101559.775, 101007.8, 100000.0, 101352.93)
-COMMON_BASE_TEMPERATURES = (273.15, 288.15, 288.705556, 293.15)
-
-Z_CAUSES = ("ideal-gas", "fpv-not-squared", "fixed-z")
-OTHER_CAUSES = ("base-pressure", "base-temperature", "atmospheric-pressure", "fixed-temperature")
+#: outliers: residual beyond this many robust standard deviations of the best robust fit, and beyond
+#: OUTLIER_FLOOR [-] in ln(ratio): 0.5 %, the maximum permissible error of a volume conversion device at
+#: reference conditions (EN 12405-1, from memory); smaller deviations are left to the fit (the robust fit
+#: uses the causes' linearised models, which may be off by a little at the extremes)
+OUTLIER_SIGMAS = 5.0
+OUTLIER_FLOOR = 5e-3
+#: an interval weighs by its duration, at most this many typical (median) intervals
+DURATION_CAP = 2.0
 
 
 @dataclass
@@ -60,9 +91,11 @@ class CorrectorCheck:
 
     Attributes
     ----------
-    findings : list of dict       ranked explanations above the threshold (best first)
-    candidates : list of dict     every explanation tried, ranked by score
-    intervals : DataFrame         time index; ours, theirs [m3], ratio, used, fitted_ratio,
+    findings : list of dict       explanations with evidence, best first; ``material`` says whether the
+                                  month effect exceeds the threshold
+    candidates : list of dict     every explanation tried, ranked by score, with ``credited`` and, when
+                                  not credited, ``why_not``
+    intervals : DataFrame         time index; ours, theirs [m3], ratio, used, outlier, fitted_ratio,
                                   residual_pct, pressure_line [Pa], temperature_line [K]
     size_pct : float              observed 100 (Σ corrector / Σ ours − 1) over the compared intervals
     threshold_pct : float
@@ -86,7 +119,8 @@ class CorrectorCheck:
     def to_summary(self) -> dict:
         return {"findings": list(self.findings), "size_pct": self.size_pct, "threshold_pct": self.threshold_pct,
                 "best": None if self.best is None else self.best["cause"], "totals": dict(self.totals),
-                "candidates": [{k: c[k] for k in ("cause", "score", "r2", "rms_residual_pct", "size_pct")}
+                "candidates": [{k: c.get(k) for k in ("cause", "score", "delta_bic", "r2", "rms_residual_pct",
+                                                      "size_pct", "credited", "why_not")}
                                for c in self.candidates],
                 "warnings": list(self.warnings)}
 
@@ -136,158 +170,26 @@ def _z_function(result, d):
     return z_at
 
 
-class _Cause:
-    """One cause: its model function, parameter count, start value and report."""
-
-    def __init__(self, name, nparam, f, theta0=None, scale=1.0, report=None, exact=None):
-        self.name, self.nparam, self.f, self.theta0, self.scale, self.report = name, nparam, f, theta0, scale, report
-        #: the model with Z evaluated at the believed state (f is its linearisation in ln Z)
-        self.exact = exact
-
-
-def _causes(ctx, zweight=1.0):
-    """The seven causes; ``zweight`` is how much of Z the corrector applies (1, ½ for Fpv, 0 for Z = 1)."""
-    L, beta, gamma, pf, lnT = ctx["L"], ctx["beta"], ctx["gamma"], ctx["pf"], ctx["lnT"]
-    pb, tb, zb = ctx["pressure_base"], ctx["temperature_base"], ctx["z_base_mean"]
-    atm = ctx["atm_mean"]
-
-    atm_j = ctx["atm"]
-    known = np.isfinite(atm_j)
-    gauge = np.where(known, ctx["pf"] - np.where(known, atm_j, 0.0), np.nan)
-
-    def p_used(th):
-        # a fixed atmospheric pressure th[0] where we know the one we used; else an offset th[0]
-        return np.where(known, gauge + th[0], ctx["pf"] + th[0]) if ctx["atm_known"] else ctx["pf"] + th[0]
-
-    def atm_f(th):
-        return (1.0 - zweight * beta) * np.log(np.maximum(p_used(th) / pf, 1e-9))
-
-    def atm_exact(th):
-        pu = np.maximum(p_used(th), 1.0)
-        if zweight == 0.0:
-            return np.log(pu / pf)
-        return np.log(pu / pf) + zweight * (ctx["lnZ"] - np.log(ctx["z_at"](pu, ctx["T"])))
-
-    def atm_report(th):
-        if ctx["atm_known"]:
-            return {"pressure_atm_used_Pa": float(th[0]),
-                    "atmospheric_pressure_offset_Pa": float(th[0] - atm)}
-        return {"atmospheric_pressure_offset_Pa": float(th[0])}
-
-    def ft_exact(th):
-        if zweight == 0.0:
-            return lnT - th[0]
-        return lnT - th[0] + zweight * (ctx["lnZ"] - np.log(ctx["z_at"](pf, np.full_like(pf, np.exp(th[0])))))
-
-    return {
-        "ideal-gas": _Cause("ideal-gas", 0, lambda th: L, report=lambda th: {"z_line_used": 1.0, "z_base_used": 1.0}),
-        "fpv-not-squared": _Cause("fpv-not-squared", 0, lambda th: 0.5 * L,
-                                  report=lambda th: {"factor_applied": "Fpv = sqrt(Zb/Zf) instead of Zb/Zf"}),
-        "fixed-z": _Cause("fixed-z", 1, lambda th: L + th[0], [0.0], 0.01,
-                          report=lambda th: {"factor_z_used": float(np.exp(th[0])),
-                                             "z_line_used": float(zb / np.exp(th[0]))}),
-        "base-pressure": _Cause("base-pressure", 1, lambda th: np.full_like(L, th[0]), [0.0], 0.01,
-                                report=lambda th: {"pressure_base_used_Pa": _base_used(ctx, th[0], "p")}),
-        "base-temperature": _Cause("base-temperature", 1, lambda th: np.full_like(L, th[0]), [0.0], 0.01,
-                                   report=lambda th: {"temperature_base_used_K": _base_used(ctx, th[0], "t")}),
-        "atmospheric-pressure": _Cause("atmospheric-pressure", 1, atm_f, [atm if ctx["atm_known"] else 0.0], 1000.0,
-                                       report=atm_report, exact=atm_exact),
-        "fixed-temperature": _Cause("fixed-temperature", 1, lambda th: (1.0 + zweight * gamma) * (lnT - th[0]),
-                                    [float(np.average(lnT, weights=ctx["w"]))], 0.01,
-                                    report=lambda th: {"temperature_line_used_K": float(np.exp(th[0]))}, exact=ft_exact),
-    }
+def _generalises(name: str) -> set:
+    """The causes an explanation contains or generalises (a fixed Zb/Zf contains Z = 1, ideal gas)."""
+    out = set(name.split("+"))
+    if "fixed-z" in out:
+        out.add("ideal-gas")
+    return out
 
 
-def _base_used(ctx, theta, which):
-    """The base pressure [Pa] or temperature [K] the corrector used, from the constant log ratio θ.
-
-    The corrector evaluates Zb at its own base: e^θ = (pb/pb')·(Zb'/Zb) or (Tb'/Tb)·(Zb'/Zb);
-    solved by fixed-point iteration with the main analysis' Z."""
-    pb, tb, zb = ctx["pressure_base"], ctx["temperature_base"], ctx["z_base_main"]
-    x = pb * np.exp(-theta) if which == "p" else tb * np.exp(theta)
-    if not np.isfinite(x) or not ((1e3 < x < 1e7) if which == "p" else (100.0 < x < 1000.0)):
-        return float(x)
-    for _ in range(3):
-        zx = ctx["z_base_at"](x if which == "p" else pb, tb if which == "p" else x)
-        x = pb * zx / zb * np.exp(-theta) if which == "p" else tb * zb / zx * np.exp(theta)
-    return float(x)
+def _weights(duration, used):
+    """Duration weights of the used intervals, each capped at DURATION_CAP typical intervals."""
+    d = np.asarray(duration, float)[used]
+    d = np.where(np.isfinite(d) & (d > 0), d, np.nan)
+    typical = float(np.nanmedian(d)) if np.isfinite(d).any() else 1.0
+    w = np.minimum(np.nan_to_num(d, nan=typical), DURATION_CAP * typical)
+    return w / w.sum()
 
 
-def _combinations():
-    combos = [(c,) for c in Z_CAUSES + OTHER_CAUSES]
-    for z in Z_CAUSES:
-        for o in OTHER_CAUSES:
-            if z == "fixed-z" and (o.startswith("base-") or o == "fixed-temperature"):
-                continue  # collinear: a constant Zb/Zf absorbs a constant ratio
-            combos.append((z, o))
-    for i, a in enumerate(OTHER_CAUSES):
-        for b in OTHER_CAUSES[i + 1:]:
-            if a.startswith("base-") and (b.startswith("base-") or b == "fixed-temperature"):
-                continue  # collinear constants
-            combos.append((a, b))
-    return combos
-
-
-def _plausibility_penalty(report: dict) -> float:
-    """2 score units when an implied base condition is not a common one (breaks exact ties only)."""
-    pen = 0.0
-    if "pressure_base_used_Pa" in report:
-        x = report["pressure_base_used_Pa"]
-        pen += 0.0 if min(abs(x - c) / c for c in COMMON_BASE_PRESSURES) < 2e-4 else 2.0
-    if "temperature_base_used_K" in report:
-        x = report["temperature_base_used_K"]
-        pen += 0.0 if min(abs(x - c) / c for c in COMMON_BASE_TEMPERATURES) < 2e-4 else 2.0
-    return pen
-
-
-def _fit(combo, causes, y, sw, exact=False):
-    parts = [causes[c] for c in combo]
-    sizes = [p.nparam for p in parts]
-    theta0 = sum((list(p.theta0) for p in parts if p.nparam), [])
-    scales = sum(([p.scale] for p in parts if p.nparam), [])
-
-    def split(theta):
-        out, i = [], 0
-        for s in sizes:
-            out.append(theta[i:i + s])
-            i += s
-        return out
-
-    def model(theta):
-        return sum(p.f(th) for p, th in zip(parts, split(theta)))
-
-    if theta0:
-        sol = least_squares(lambda th: sw * (y - model(th)), np.array(theta0, float), x_scale=np.array(scales),
-                            method="lm", xtol=1e-14, ftol=1e-14, gtol=1e-14)
-        theta = sol.x
-    else:
-        theta = np.zeros(0)
-    if exact and any(p.exact is not None for p in parts):
-        theta = _refine(parts, split, model, theta, np.array(scales), y, sw)
-        return theta, split(theta), parts, _exact_model(parts, split(theta))
-    return theta, split(theta), parts, model(theta)
-
-
-def _exact_model(parts, thetas):
-    return sum((p.exact if p.exact is not None else p.f)(th) for p, th in zip(parts, thetas))
-
-
-def _refine(parts, split, model, theta, scales, y, sw, iterations=4):
-    """Gauss-Newton on the exact model, with the Jacobian of its linearisation (cheap, close)."""
-    theta = np.array(theta, float)
-    for _ in range(iterations):
-        r = y - _exact_model(parts, split(theta))
-        jac = np.empty((len(y), len(theta)))
-        f0 = model(theta)
-        for i in range(len(theta)):
-            t2 = theta.copy()
-            t2[i] += 1e-6 * scales[i]
-            jac[:, i] = (model(t2) - f0) / (1e-6 * scales[i])
-        step, *_ = np.linalg.lstsq(sw[:, None] * jac, sw * r, rcond=None)
-        theta = theta + step
-        if np.all(np.abs(step) <= 1e-12 * np.maximum(np.abs(theta), scales)):
-            break
-    return theta
+def _mad(x):
+    x = np.asarray(x, float)
+    return 1.4826 * float(np.median(np.abs(x - np.median(x)))) if len(x) else 0.0
 
 
 def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure_base=None,
@@ -299,8 +201,8 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     result : MonthResult
     frame : DataFrame             the canonical log with ``volume_corrected_site`` [m3 at the
                                   corrector's base], same index as ``result.intervals``
-    threshold_pct : float, optional [%]   a finding's month effect must exceed it; default from the
-                                  site settings' [uncertainty] key ``corrector_check_pct``, else
+    threshold_pct : float, optional [%]   a finding is material above it; default from the site
+                                  settings' [uncertainty] key ``corrector_check_pct``, else
                                   DEFAULT_THRESHOLD_PCT
     pressure_base, temperature_base : float, optional [Pa], [K]
                                   the corrector's configured base when it differs from the contract
@@ -330,126 +232,209 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     est = d["estimated"].to_numpy(bool)
     used = np.isfinite(theirs) & np.isfinite(ours) & (ours > 0) & (theirs > 0) & ~est
     warnings = []
-    n = int(used.sum())
+    n_all = int(used.sum())
     iv = pd.DataFrame({"ours": ours, "theirs": theirs}, index=d.index)
     iv["ratio"] = iv["theirs"] / iv["ours"]
     iv["used"] = used
+    iv["outlier"] = False
     iv["pressure_line"] = d["pressure_line"].to_numpy(float)
     iv["temperature_line"] = d["temperature_line"].to_numpy(float)
     iv["fitted_ratio"] = np.nan
     iv["residual_pct"] = np.nan
-    if n < 3:
-        warnings.append(f"only {n} interval(s) with both corrector and our volume: no check")
-        return CorrectorCheck([], [], iv, np.nan, threshold_pct, {"intervals_compared": n}, warnings)
+    if n_all < 3:
+        warnings.append(f"only {n_all} interval(s) with both corrector and our volume: no check")
+        return CorrectorCheck([], [], iv, np.nan, threshold_pct, {"intervals_compared": n_all}, warnings)
     du = d[used]
     vo = ours[used]
     vt = theirs[used]
-    w = vo / vo.sum()
-    sw = np.sqrt(w)
+    w_all = _weights(d["duration"].to_numpy(float) if "duration" in d else np.ones(len(d)), used)
     y = np.log(vt / vo)
     zf = du["z_line"].to_numpy(float)
     zb = du["z_base"].to_numpy(float)
     beta, gamma = _log_derivatives(result, du)
-    atm = du["pressure_atm"].to_numpy(float)
+    atm = du["pressure_atm"].to_numpy(float) if "pressure_atm" in du else np.full(len(du), np.nan)
+    fin = np.isfinite(atm)
     ctx = {"L": np.log(zf / zb), "beta": beta, "gamma": gamma, "pf": du["pressure_line"].to_numpy(float),
-           "lnT": np.log(du["temperature_line"].to_numpy(float)), "w": w, "pressure_base": pb,
-           "temperature_base": tb, "z_base_mean": float(np.average(zb, weights=w)),
-           "atm_mean": float(np.average(atm[np.isfinite(atm)], weights=w[np.isfinite(atm)])) if np.isfinite(atm).any()
-           else np.nan}
-    ctx["atm"] = atm
-    ctx["atm_known"] = bool(np.isfinite(atm).any())
-    ctx["lnZ"] = np.log(zf)
-    ctx["T"] = du["temperature_line"].to_numpy(float)
-    ctx["z_at"] = _z_function(result, du)
+           "lnT": np.log(du["temperature_line"].to_numpy(float)), "w": w_all, "pressure_base": pb,
+           "temperature_base": tb, "z_base_mean": float(np.average(zb, weights=w_all)),
+           "atm_mean": float(np.average(atm[fin], weights=w_all[fin])) if fin.any() else np.nan,
+           "atm": atm, "atm_known": bool(fin.any()), "lnZ": np.log(zf), "T": du["temperature_line"].to_numpy(float),
+           "z_at": _z_function(result, du)}
     main = int(du.groupby("analysis")["volume_base"].sum().idxmax())
     ctx["z_base_main"] = float(result.analyses[main].z_base)
     gas_main = result.analyses[main].gas
     ctx["z_base_at"] = (lambda p_, t_: 1.0) if (gas_main is None or result.method["name"] == "ideal") else (
         lambda p_, t_: float(np.asarray(evaluate_z(p_, t_, gas_main, result.method["name"]).z).reshape(-1)[0]))
     cause_sets = {zw: _causes(ctx, zw) for zw in (1.0, 0.5, 0.0)}
-    causes = cause_sets[1.0]
     real_gas = float(np.max(np.abs(ctx["L"]))) > 1e-6
+    combos = combinations(real_gas)
+
+    def zw_of(combo):
+        return 0.0 if ("ideal-gas" in combo or "fixed-z" in combo) else (0.5 if "fpv-not-squared" in combo else 1.0)
+
+    # 1. robust fits (soft L1) of every candidate: the best one says which intervals are outliers
+    s0 = max(_mad(y), SIGMA_FLOOR)
+    sw_all = np.sqrt(w_all)
+    best_scale, best_resid = _mad(y), y - np.median(y)
+    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        for c in combos:
+            _, _, _, f, _, _ = fit(c, cause_sets[zw_of(c)], y, sw_all, loss="soft_l1",
+                                   f_scale=s0 * float(np.median(sw_all)))
+            r = y - f
+            sc = _mad(r)
+            if np.isfinite(sc) and sc < best_scale:
+                best_scale, best_resid = sc, r
+    dev = np.abs(best_resid - np.median(best_resid))
+    outlier = dev > max(OUTLIER_SIGMAS * max(best_scale, SIGMA_FLOOR), OUTLIER_FLOOR)
+    if outlier.sum() > 0.2 * len(y):  # no explanation fits most intervals: reject nothing
+        outlier[:] = False
+    keep = ~outlier
+    iv.loc[iv.index[used][outlier], "outlier"] = True
+    n = int(keep.sum())
+    w = np.where(keep, w_all, 0.0)
+    w = w / w.sum()
+    sw = np.sqrt(w)
+    ctx["w"] = np.where(keep, w_all, 1e-300)
+    cause_sets = {zw: _causes(ctx, zw) for zw in (1.0, 0.5, 0.0)}
+    causes_1 = cause_sets[1.0]
     hv = du["heating_value"].to_numpy(float)
     price = s.price_per_energy
-    size_obs = 100.0 * (vt.sum() / vo.sum() - 1.0)
+    vk = np.where(keep, vo, 0.0)
+    size_obs = 100.0 * (vt[keep].sum() / vo[keep].sum() - 1.0)
     ss0 = float(np.sum(w * y**2))
 
     def month_effect(f):
-        dv = vo * np.expm1(f)
+        dv = vk * np.expm1(f)
         e = float(np.nansum(dv * hv)) if np.isfinite(hv).any() else np.nan
-        return 100.0 * float(dv.sum()) / vo.sum(), float(dv.sum()), e
+        return 100.0 * float(dv.sum()) / vk.sum(), float(dv.sum()), e
 
-    candidates = []
-    none_score = n * np.log(float(np.sum(w * y**2)) + SIGMA_FLOOR**2)
-    candidates.append({"cause": "none", "causes": [], "score": float(none_score), "r2": 0.0,
-                       "rms_residual_pct": 100.0 * np.sqrt(ss0), "size_pct": 0.0, "parameters": {}})
-    fitted = {"none": np.zeros(n)}
+    none_score = n * np.log(ss0 + SIGMA_FLOOR**2)
+    candidates = [{"cause": "none", "causes": [], "score": float(none_score), "delta_bic": 0.0, "r2": 0.0,
+                   "rms_residual_pct": 100.0 * np.sqrt(ss0), "size_pct": 0.0, "parameters": {},
+                   "credited": False, "why_not": "the reference: no misconfiguration"}]
+    fitted = {"none": np.zeros(len(y))}
+    # a constant ratio (a base condition, a pulse or meter factor: the data cannot say which) is the
+    # reference a cause with a shape must beat; base-pressure and base-temperature are judged against none
+    theta_c = float(np.sum(w * y))
+    mse_c = float(np.sum(w * (y - theta_c) ** 2))
+    constant_score = n * np.log(mse_c + SIGMA_FLOOR**2) + 2 * np.log(n)
+    candidates.append({"cause": "constant-ratio", "causes": [], "score": float(constant_score),
+                       "delta_bic": float(none_score - constant_score),
+                       "r2": float(1.0 - mse_c / ss0) if ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse_c),
+                       "size_pct": 100.0 * float(np.expm1(theta_c)), "parameters": {"ratio": float(np.exp(theta_c))},
+                       "credited": False, "why_not": "the reference for causes with a shape: a constant ratio is a base "
+                                                     "condition, a pulse factor or a meter factor"})
+    fitted["constant-ratio"] = np.full(len(y), theta_c)
+
     def evaluate(combo, exact):
-        zw = 0.0 if ("ideal-gas" in combo or "fixed-z" in combo) else (0.5 if "fpv-not-squared" in combo else 1.0)
-        theta, thetas, parts, f = _fit(combo, cause_sets[zw], y, sw, exact=exact)
+        theta, thetas, parts, f, at_bound, jac = fit(combo, cause_sets[zw_of(combo)], y, sw, exact=exact)
         resid = y - f
         mse = float(np.sum(w * resid**2))
         k = sum(p.nparam for p in parts) + len(parts)
-        comps, params, pen = [], {}, 0.0
+        se = np.full(len(theta), np.nan)
+        if jac is not None and n > k:
+            try:
+                se = np.sqrt(np.diag(np.linalg.inv(jac.T @ jac)) * mse / (n - k))
+            except np.linalg.LinAlgError:
+                pass
+        comps, params, pen, why = [], {}, 0.0, []
         for p, th in zip(parts, thetas):
             rep = p.report(th) if p.report else {}
-            pen += _plausibility_penalty(rep)
+            pp, wy = plausibility(rep)
+            pen += pp
+            if wy:
+                why.append(wy)
             fi = p.exact(th) if (exact and p.exact is not None) else p.f(th)
             sz, dv, de = month_effect(fi)
-            comps.append({"cause": p.name, "size_pct": sz, "volume_impact_m3": dv,
-                          "energy_impact_MJ": de / 1e6 if np.isfinite(de) else None,
+            comps.append({"cause": p.name, "description": CAUSE_TEXT.get(p.name, p.name), "size_pct": sz,
+                          "volume_impact_m3": dv, "energy_impact_MJ": de / 1e6 if np.isfinite(de) else None,
                           "money_impact": de * price if (price is not None and np.isfinite(de)) else None,
                           "parameters": rep})
             params.update(rep)
+        if at_bound:
+            why.append("a parameter ended on its physical bound")
+        if "fixed-z" in combo:
+            i = sum(p.nparam for p in parts[:combo.index("fixed-z")])
+            if abs(theta[i]) <= max(2.0 * (se[i] if np.isfinite(se[i]) else 0.0), 1e-4):
+                why.append("the fixed Zb/Zf is 1: that is the ideal-gas cause, not another")
         score = n * np.log(mse + SIGMA_FLOOR**2) + k * np.log(n) + pen
         sz, dv, de = month_effect(f)
         name = "+".join(combo)
         fitted[name] = f
+        constant_shaped = all(c.startswith("base-") for c in combo)
+        reference = none_score if constant_shaped else min(none_score, constant_score)
         return {
-            "cause": name, "causes": comps, "score": float(score),
+            "cause": name, "description": cause_text(name), "causes": comps, "score": float(score),
+            "delta_bic": float(reference - score),
+            "reference": "none" if reference == none_score else "constant-ratio",
             "r2": float(1.0 - mse / ss0) if ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse),
             "size_pct": sz, "volume_impact_m3": dv, "energy_impact_MJ": de / 1e6 if np.isfinite(de) else None,
             "money_impact": de * price if (price is not None and np.isfinite(de)) else None,
-            "parameters": params, "currency": s.currency, "_combo": combo,
+            "parameters": params, "parameter_standard_errors": [float(x) for x in se],
+            "currency": s.currency, "_combo": combo, "_why": why,
         }
 
-    combos = [c for c in _combinations() if real_gas or not any(x in Z_CAUSES for x in c)]
+    # 2. weighted least squares on the intervals kept, the leading ones refitted with Z at the believed state
     with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
         linear = sorted((evaluate(c, False) for c in combos), key=lambda c: c["score"])
-    # refit the leading candidates whose model was linearised in ln Z with Z at the believed state
-    refit = [c["_combo"] for c in linear[:6] if any(causes[x].exact is not None for x in c["_combo"])]
-    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+        refit = [c["_combo"] for c in linear[:6] if any(causes_1[x].exact is not None for x in c["_combo"])]
         exact = {c: evaluate(c, True) for c in refit}
     candidates += [exact.get(c["_combo"], c) for c in linear]
     candidates.sort(key=lambda c: c["score"])
-    for c in candidates:
-        c.pop("_combo", None)
     findings = []
     for c in candidates:
-        if c["cause"] == "none" or not (c["score"] < none_score and abs(c["size_pct"]) > threshold_pct
-                                        and c["r2"] >= 0.5):
+        c.pop("_combo", None)
+        if c["cause"] in ("none", "constant-ratio"):
             continue
-        mine = set(c["cause"].split("+"))
-        if any(set(f["cause"].split("+")) <= mine for f in findings):
-            continue  # adds a cause to a better explanation without explaining more
-        findings.append(dict(c))
-        if len(findings) == 5:
-            break
+        why = c.pop("_why", [])
+        if c["delta_bic"] < EVIDENCE_DELTA_BIC:
+            ref = "a constant ratio" if c.get("reference") == "constant-ratio" else "no misconfiguration"
+            why.append(f"does not beat {ref} decisively (ΔBIC {c['delta_bic']:.1f} < {EVIDENCE_DELTA_BIC:g})")
+        if c["r2"] < 0.5:
+            why.append(f"explains only {100 * max(c['r2'], 0):.0f} % of the deviation")
+        if abs(c["size_pct"]) < EVIDENCE_FLOOR_PCT:
+            why.append(f"month effect {c['size_pct']:.3f} % is below {EVIDENCE_FLOOR_PCT} %")
+        mine = _generalises(c["cause"])
+        if not why and any(set(f["cause"].split("+")) <= mine for f in findings):
+            why.append("adds a cause to a better explanation without explaining more")
+        c["credited"] = not why and len(findings) < 5
+        c["why_not"] = "; ".join(why)
+        if c["credited"]:
+            f = dict(c)
+            f["material"] = bool(abs(c["size_pct"]) > threshold_pct)
+            findings.append(f)
+    # material findings first, each group best score first
+    findings.sort(key=lambda f: (not f["material"], f["score"]))
     for i, f in enumerate(findings):
         f["rank"] = i + 1
     best = findings[0]["cause"] if findings else "none"
     fr = np.exp(fitted[best])
-    iv.loc[used, "fitted_ratio"] = fr
-    iv.loc[used, "residual_pct"] = 100.0 * (vt / (vo * fr) - 1.0)
+    idx = iv.index[used]
+    iv.loc[idx, "fitted_ratio"] = fr
+    iv.loc[idx, "residual_pct"] = 100.0 * (vt / (vo * fr) - 1.0)
+    iv.loc[idx[outlier], "used"] = False
+    if outlier.any():
+        warnings.append(f"{int(outlier.sum())} interval(s) left out as outliers (corrector and our volume disagree "
+                        f"beyond {OUTLIER_SIGMAS:g} robust standard deviations of the best fit; e.g. an interval "
+                        f"after a communication gap): first at {idx[outlier][0]}")
     if findings and findings[0]["r2"] < 0.95:
         warnings.append(f"the best explanation ({best}) leaves {100 * (1 - findings[0]['r2']):.1f} % of the "
                         "deviation unexplained: look at the intervals")
+    immaterial = [f for f in findings if not f["material"]]
+    if immaterial:
+        warnings.append("evidenced but below the threshold of " + f"{threshold_pct:g} %: "
+                        + ", ".join(f"{f['cause']} ({f['size_pct']:+.3f} %)" for f in immaterial))
+    if not findings and abs(size_obs) > threshold_pct:
+        warnings.append(f"the corrector differs from ours by {size_obs:+.3f} % and no misconfiguration tried "
+                        "explains it with plausible settings: check its configuration and pulse factor")
     if (~used & np.isfinite(theirs)).any():
         warnings.append(f"{int((~used & np.isfinite(theirs)).sum())} interval(s) not compared "
-                        "(estimated, zero or missing volume)")
-    totals = {"intervals_compared": n, "volume_ours_m3": float(vo.sum()), "volume_corrector_m3": float(vt.sum()),
-              "volume_difference_m3": float(vt.sum() - vo.sum()),
-              "energy_difference_MJ": float(np.nansum((vt - vo) * hv)) / 1e6 if np.isfinite(hv).any() else None}
+                        "(estimated, zero, missing volume or outlier)")
+    totals = {"intervals_compared": n, "intervals_outlier": int(outlier.sum()),
+              "volume_ours_m3": float(vo[keep].sum()), "volume_corrector_m3": float(vt[keep].sum()),
+              "volume_difference_m3": float(vt[keep].sum() - vo[keep].sum()),
+              "energy_difference_MJ": float(np.nansum((vt[keep] - vo[keep]) * hv[keep])) / 1e6
+              if np.isfinite(hv).any() else None}
     if price is not None and totals["energy_difference_MJ"] is not None:
         totals["money_difference"] = totals["energy_difference_MJ"] * 1e6 * price
     return CorrectorCheck(findings, candidates, iv, float(size_obs), float(threshold_pct), totals, warnings)
