@@ -7,22 +7,35 @@ ones, in this order:
 
 1. ``base pressure`` — our volume re-stated at the invoice's base pressure (real gas);
 2. ``base temperature`` — and at its base temperature: after these two steps our figure stands
-   at the invoice's base, so every later step compares like with like. Energy does not change
-   in these two steps (the same gas, the heating value re-stated at the same base);
-3. ``ideal gas`` — Z = 1 at line and base conditions;
-4. ``fixed atmospheric pressure`` — gauge + a fixed atmospheric pressure (default 101 325 Pa)
-   instead of the one we used (skipped when the log was absolute);
-5. ``heating value`` — the invoice's heating value instead of the analysis' (energy only);
-6. ``estimated intervals`` — the remaining difference up to the volume (energy) of the
-   intervals we estimated: substituted values may be billed differently. This step is a bound,
-   not a recomputation;
-7. ``unexplained`` — the rest.
+   at the invoice's base, so every later step compares like with like. These two are
+   **restatements** (status ``restatement``), not causes: the invoice states its base. Energy
+   does not change in them (the same gas, the heating value re-stated at the same base);
+3. ``ideal gas`` — Z = 1 at line and base conditions (no parameter);
+4. ``fixed atmospheric pressure`` — gauge + 101 325 Pa, the sea-level standard atmosphere
+   (ISO 2533 / U.S. Standard Atmosphere 1976), instead of the one we used (skipped when the log was
+   absolute). The parameter is fixed, not fitted: fitting a value would "explain" any difference;
+5. ``heating value`` — the invoice's own stated heating value instead of the analysis' (energy only);
+6. ``estimated intervals`` — the remaining difference up to the volume (energy) of the intervals
+   we estimated: the supplier may have estimated them differently. A bound, not a recomputation;
+7. ``unexplained`` — the rest (status ``rest``).
 
-Steps 1–2 are facts stated by the invoice and are always applied. Steps 3–5 are hypotheses: one
-is applied only where it brings our figure closer to the billed one (volume for 3–4, energy for
-5); otherwise it is listed with 0 and ``applied = False``. Because each step is the difference
-of two consecutive recomputations and the last is the rest, the steps add up to the total
-difference exactly (up to floating-point rounding).
+Steps 3–6 are hypotheses. One is **credited** (status ``credited``, applied) only with evidence:
+
+- monthly figures: the difference before it lies outside the combined expanded uncertainty U
+  (there is something to explain), the difference after it lies within U (it explains it), and its
+  own effect exceeds U (it is resolvable from noise); or
+- daily figures (at least DAILY_MIN_PERIODS billing periods): it fits the per-period differences
+  decisively better than no cause, ΔBIC = m·ln(RSS_none / RSS_hypothesis) >= 10 with one constant
+  level fitted in both (Schwarz 1978; "very strong" on the scale of Kass & Raftery, J. Am. Stat.
+  Assoc. 90 (1995) 773). A fit decisively worse (ΔBIC <= -10) rejects it.
+
+Otherwise it is listed as **tried** (status ``tried``, 0, not applied) with the reason. So a
+plain over-billing stays in ``unexplained``: no hypothesis with a fixed, physical assumption
+reproduces a constant factor. U is the combined expanded uncertainty of the comparison (ours and
+the billing meter's, meterfix.checks.invoice.combined_uncertainty_pct); when the month ran
+without its uncertainty, FALLBACK_UNCERTAINTY_PCT stands in and the parameter text says so.
+Because each step is the difference of two consecutive recomputations and the last is the rest,
+the steps add up to the total difference exactly (up to floating-point rounding).
 """
 
 from __future__ import annotations
@@ -33,6 +46,14 @@ import numpy as np
 import pandas as pd
 
 from ..z import evaluate_z
+
+#: billing periods from which the per-period (daily) criterion applies
+DAILY_MIN_PERIODS = 7
+#: ΔBIC of decisive evidence (Kass & Raftery 1995: > 10 "very strong")
+EVIDENCE_DELTA_BIC = 10.0
+#: stands in for U when the month ran without its uncertainty [%]: the stated uncertainty of the
+#: Z methods in their normal range (AGA Report No. 8 / ISO 12213-2, 0.1 %)
+FALLBACK_UNCERTAINTY_PCT = 0.1
 
 STEP_ORDER = ("base pressure", "base temperature", "ideal gas", "fixed atmospheric pressure", "heating value",
               "estimated intervals", "unexplained")
@@ -144,8 +165,46 @@ def _steps_for_period(result, a, assumed_pressure_atm):
     return out
 
 
-def attribute_difference(result, invoice: pd.DataFrame, chunks, *, assumed_pressure_atm=101325.0) -> pd.DataFrame:
-    """The sequential waterfall over all billing periods (see the module docstring for the order).
+def _rel(a, b):
+    return 100.0 * (a - b) / b if b else np.nan
+
+
+def evidence(cur, new, billed, u_pct):
+    """Is a hypothesis credited? (credited, reason); per-period arrays of the figure before and after
+    it and as billed (volume or energy), U [%] (see the module docstring)."""
+    cur, new, billed = (np.asarray(x, float) for x in (cur, new, billed))
+    ok = np.isfinite(cur) & np.isfinite(new) & np.isfinite(billed) & (cur > 0) & (new > 0)
+    if not ok.any():
+        return False, "no figures to compare"
+    before = _rel(billed[ok].sum(), cur[ok].sum())
+    after = _rel(billed[ok].sum(), new[ok].sum())
+    effect = _rel(new[ok].sum(), cur[ok].sum())
+    if not abs(effect) > 0:
+        return False, "changes nothing here"
+    m = int(ok.sum())
+    if m >= DAILY_MIN_PERIODS:
+        rb = billed[ok] / cur[ok] - 1.0
+        ra = billed[ok] / new[ok] - 1.0
+        rss_b = float(np.sum((rb - rb.mean()) ** 2)) + 1e-18
+        rss_a = float(np.sum((ra - ra.mean()) ** 2)) + 1e-18
+        dbic = m * np.log(rss_b / rss_a)
+        if dbic >= EVIDENCE_DELTA_BIC:
+            return True, f"fits the {m} periods decisively better than no cause (ΔBIC {dbic:.0f})"
+        if dbic <= -EVIDENCE_DELTA_BIC:
+            return False, f"fits the {m} periods decisively worse than no cause (ΔBIC {dbic:.0f})"
+    if abs(before) <= u_pct:
+        return False, f"the difference {before:+.3g} % is within the combined uncertainty ±{u_pct:.3g} %: nothing to explain"
+    if abs(effect) <= u_pct:
+        return False, f"its effect {effect:+.3g} % is within the combined uncertainty ±{u_pct:.3g} %"
+    if abs(after) > u_pct:
+        return False, f"leaves {after:+.3g} % (outside ±{u_pct:.3g} %): it does not explain the difference"
+    return True, f"explains the difference: {before:+.3g} % → {after:+.3g} % (within ±{u_pct:.3g} %)"
+
+
+def attribute_difference(result, invoice: pd.DataFrame, chunks, *, assumed_pressure_atm=101325.0,
+                         uncertainty_pct=None) -> pd.DataFrame:
+    """The sequential waterfall over all billing periods (see the module docstring for the order and
+    the evidence a hypothesis needs).
 
     Parameters
     ----------
@@ -153,82 +212,109 @@ def attribute_difference(result, invoice: pd.DataFrame, chunks, *, assumed_press
     invoice : DataFrame           read_invoice output
     chunks : list of dict         period_arrays() of each invoice row
     assumed_pressure_atm : float [Pa]   the fixed atmospheric pressure tried in step 4
+    uncertainty_pct : float, optional [%]   combined expanded uncertainty of the comparison (U);
+                                  None: FALLBACK_UNCERTAINTY_PCT, said in the parameter text
 
     Returns
     -------
-    DataFrame with columns step, kind, applied, volume_m3, energy_MJ, cumulative_volume_m3,
-    cumulative_energy_MJ, parameter
+    DataFrame with columns step, kind, status (start, restatement, credited, tried, rest, end),
+    applied, volume_m3, energy_MJ, cumulative_volume_m3, cumulative_energy_MJ, parameter, evidence
     """
     per = [_steps_for_period(result, a, assumed_pressure_atm) for a in chunks]
     tot = lambda key: float(sum(p[key] for p in per))  # noqa: E731
-    v_billed = float(sum(a["volume_billed"] for a in chunks))
-    e_billed_parts = [a["energy_billed"] for a in chunks]
-    e_billed = float(np.sum(e_billed_parts)) if all(np.isfinite(e_billed_parts)) else np.nan
+    each = lambda key: np.array([p[key] for p in per], float)  # noqa: E731
+    v_billed_p = np.array([a["volume_billed"] for a in chunks], float)
+    e_billed_p = np.array([a["energy_billed"] for a in chunks], float)
+    v_billed = float(v_billed_p.sum())
+    e_billed = float(np.sum(e_billed_p)) if np.all(np.isfinite(e_billed_p)) else np.nan
     has_hv = [np.isfinite(a["heating_value_invoice"]) for a in chunks]
+    u = float(uncertainty_pct) if uncertainty_pct is not None and np.isfinite(uncertainty_pct) else None
+    u_used = u if u is not None else FALLBACK_UNCERTAINTY_PCT
+    u_note = "" if u is not None else f" (U = {FALLBACK_UNCERTAINTY_PCT} %: the month ran without its uncertainty)"
 
     rows = []
     v_cur, e_cur = tot("S0"), tot("E0")
-    rows.append(("ours", "start", True, v_cur, e_cur, "our base, real gas, our heating value"))
+    cur_v, cur_e = each("S0"), each("E0")
+    rows.append(("ours", "start", "start", True, v_cur, e_cur, "our base, real gas, our heating value", ""))
 
-    def add(step, applied, v_new, e_new, parameter=""):
-        nonlocal v_cur, e_cur
-        rows.append((step, "step", applied, v_new - v_cur, e_new - e_cur, parameter))
+    def add(step, status, v_new, e_new, parameter="", why="", v_p=None, e_p=None):
+        nonlocal v_cur, e_cur, cur_v, cur_e
+        applied = status != "tried"
+        rows.append((step, "step", status, applied, v_new - v_cur, e_new - e_cur, parameter, why))
         v_cur, e_cur = v_new, e_new
+        if v_p is not None:
+            cur_v = v_p
+        if e_p is not None:
+            cur_e = e_p
 
     pis = sorted({a["pressure_base_invoice"] for a in chunks})
     tis = sorted({a["temperature_base_invoice"] for a in chunks})
-    add("base pressure", True, tot("S1"), e_cur, "invoice base pressure " + ", ".join(f"{x:.6g} Pa" for x in pis))
-    add("base temperature", True, tot("S2"), e_cur,
-        "invoice base temperature " + ", ".join(f"{x:.6g} K" for x in tis))
+    add("base pressure", "restatement", tot("S1"), e_cur,
+        "invoice base pressure " + ", ".join(f"{x:.6g} Pa" for x in pis), "stated by the invoice", each("S1"))
+    add("base temperature", "restatement", tot("S2"), e_cur,
+        "invoice base temperature " + ", ".join(f"{x:.6g} K" for x in tis), "stated by the invoice", each("S2"))
 
-    def closer(v_new):
-        return abs(v_billed - v_new) < abs(v_billed - v_cur)
+    def tried(step, parameter, why):
+        add(step, "tried", v_cur, e_cur, parameter, why + u_note)
 
-    ideal = closer(tot("S3i"))
-    if ideal:
-        add("ideal gas", True, tot("S3i"), tot("E3i"), "Z = 1 at line and base conditions")
+    ok, why = evidence(cur_v, each("S3i"), v_billed_p, u_used)
+    ideal = ok
+    if ok:
+        add("ideal gas", "credited", tot("S3i"), tot("E3i"), "Z = 1 at line and base conditions", why + u_note,
+            each("S3i"), each("E3i"))
     else:
-        add("ideal gas", False, v_cur, e_cur, "Z = 1 at line and base conditions: not indicated")
+        tried("ideal gas", "Z = 1 at line and base conditions", why)
     key_v, key_e, arr = ("S4i", "E4i", "V4i") if ideal else ("S4r", "E4r", "V4r")
     any_atm = any(np.isfinite(a["frame"]["pressure_atm"].to_numpy(float)).any() for a in chunks if a["n"])
-    atm_param = f"fixed {assumed_pressure_atm:.6g} Pa"
-    if any_atm and closer(tot(key_v)):
-        add("fixed atmospheric pressure", True, tot(key_v), tot(key_e), atm_param)
-        vol_key = arr
+    atm_param = f"fixed {assumed_pressure_atm:.6g} Pa (sea-level standard atmosphere)"
+    vol_key = "V3i" if ideal else "V2"
+    if any_atm:
+        ok, why = evidence(cur_v, each(key_v), v_billed_p, u_used)
+        if ok:
+            add("fixed atmospheric pressure", "credited", tot(key_v), tot(key_e), atm_param, why + u_note,
+                each(key_v), each(key_e))
+            vol_key = arr
+        else:
+            tried("fixed atmospheric pressure", atm_param, why)
     else:
-        add("fixed atmospheric pressure", False, v_cur, e_cur,
-            atm_param + (": not indicated" if any_atm else ": log pressure was absolute"))
-        vol_key = "V3i" if ideal else "V2"
+        tried("fixed atmospheric pressure", atm_param, "the log pressure was absolute")
     # heating value: energy only
-    if all(has_hv) and chunks:
-        e_hv = float(sum(np.sum(p[vol_key]) * a["heating_value_invoice"] for p, a in zip(per, chunks) if a["n"]))
-        if np.isfinite(e_billed) and abs(e_billed - e_hv) < abs(e_billed - e_cur):
-            add("heating value", True, v_cur, e_hv, "the invoice's heating value")
+    if all(has_hv) and chunks and np.isfinite(e_billed):
+        e_hv_p = np.array([np.sum(p[vol_key]) * a["heating_value_invoice"] if a["n"] else 0.0
+                           for p, a in zip(per, chunks)])
+        ok, why = evidence(cur_e, e_hv_p, e_billed_p, u_used)
+        if ok:
+            add("heating value", "credited", v_cur, float(e_hv_p.sum()), "the invoice's heating value", why + u_note,
+                e_p=e_hv_p)
             hv_used = [np.full(a["n"], a["heating_value_invoice"]) for a in chunks]
         else:
-            add("heating value", False, v_cur, e_cur, "the invoice's heating value: not indicated")
+            tried("heating value", "the invoice's heating value", why)
             hv_used = [p.get("hv_i", np.zeros(0)) for p in per]
     else:
-        add("heating value", False, v_cur, e_cur, "the invoice gives no heating value")
+        tried("heating value", "", "the invoice gives no heating value" if not all(has_hv) else "no billed energy")
         hv_used = [p.get("hv_i", np.zeros(0)) for p in per]
     # estimated intervals: bounded by their own volume and energy
     v_est = float(sum(np.sum(p[vol_key][p["est"]]) for p in per if "est" in p))
     e_est = float(sum(np.nansum(p[vol_key][p["est"]] * h[p["est"]]) for p, h in zip(per, hv_used) if "est" in p))
-    if v_est > 0 and abs(v_billed - v_cur) <= v_est:
+    rest_pct = _rel(v_billed, v_cur)
+    est_param = f"the supplier's estimate for our {v_est:.6g} m3 of estimated intervals"
+    if v_est > 0 and abs(v_billed - v_cur) <= v_est and abs(rest_pct) > u_used:
         # the rest is no larger than the volume we estimated: a different estimate by the supplier
         # for the same intervals explains it
         de = float(np.clip(e_billed - e_cur, -e_est, e_est)) if np.isfinite(e_billed) else 0.0
-        add("estimated intervals", True, v_billed, e_cur + de,
-            f"the supplier's estimate for our {v_est:.6g} m3 of estimated intervals")
+        add("estimated intervals", "credited", v_billed, e_cur + de, est_param,
+            f"the rest {rest_pct:+.3g} % is no more than the estimated volume" + u_note)
     elif v_est > 0:
-        # a rest larger than all estimated volume is not a matter of estimating: claim nothing
-        add("estimated intervals", False, v_cur, e_cur,
-            f"not indicated: the rest exceeds the {v_est:.6g} m3 of estimated intervals")
+        tried("estimated intervals", est_param,
+              f"the rest {rest_pct:+.3g} % is within ±{u_used:.3g} %: nothing to explain" if abs(rest_pct) <= u_used
+              else f"the rest exceeds the {v_est:.6g} m3 of estimated intervals")
     else:
-        add("estimated intervals", False, v_cur, e_cur, "no estimated intervals")
-    rows.append(("unexplained", "step", True, v_billed - v_cur, e_billed - e_cur, "the rest"))
-    rows.append(("invoice", "end", True, v_billed, e_billed, "as billed, at the invoice's base"))
-    out = pd.DataFrame(rows, columns=["step", "kind", "applied", "volume_m3", "energy_J", "parameter"])
+        tried("estimated intervals", "", "no estimated intervals")
+    rows.append(("unexplained", "step", "rest", True, v_billed - v_cur, e_billed - e_cur, "the rest",
+                 f"{_rel(v_billed, v_cur):+.3g} % of volume against ±{u_used:.3g} %" + u_note))
+    rows.append(("invoice", "end", "end", True, v_billed, e_billed, "as billed, at the invoice's base", ""))
+    out = pd.DataFrame(rows, columns=["step", "kind", "status", "applied", "volume_m3", "energy_J", "parameter",
+                                      "evidence"])
     start_v, start_e = out["volume_m3"].iat[0], out["energy_J"].iat[0]
     is_step = out["kind"] == "step"
     cum_v = start_v + out["volume_m3"].where(is_step, 0.0).cumsum()
@@ -238,5 +324,5 @@ def attribute_difference(result, invoice: pd.DataFrame, chunks, *, assumed_press
     out["energy_MJ"] = out["energy_J"] / 1e6
     out.loc[out["kind"] == "end", "cumulative_volume_m3"] = v_billed
     out.loc[out["kind"] == "end", "cumulative_energy_MJ"] = e_billed / 1e6
-    return out[["step", "kind", "applied", "volume_m3", "energy_MJ", "cumulative_volume_m3", "cumulative_energy_MJ",
-                "parameter"]]
+    return out[["step", "kind", "status", "applied", "volume_m3", "energy_MJ", "cumulative_volume_m3",
+                "cumulative_energy_MJ", "parameter", "evidence"]]

@@ -44,9 +44,10 @@ class InvoiceReconciliation:
         ``amount_difference_pct``, ``uncertainty_pct`` (combined, expanded), ``exceeds_uncertainty``,
         ``exceeds_tolerance`` (None when unknown).
     attribution : DataFrame
-        The waterfall over all periods: ``step``, ``kind`` (start, step, end), ``applied``,
-        ``volume_m3``, ``energy_MJ``, ``cumulative_volume_m3``, ``cumulative_energy_MJ``,
-        ``parameter``. The ``step`` rows add up exactly to end − start.
+        The waterfall over all periods: ``step``, ``kind`` (start, step, end), ``status`` (start,
+        restatement, credited, tried, rest, end), ``applied``, ``volume_m3``, ``energy_MJ``,
+        ``cumulative_volume_m3``, ``cumulative_energy_MJ``, ``parameter``, ``evidence`` (why a
+        hypothesis was credited or only tried). The ``step`` rows add up exactly to end − start.
     totals : dict
     uncertainty : dict        the parts of the combined uncertainty [%]
     currency : str
@@ -75,6 +76,9 @@ class InvoiceReconciliation:
             "periods": per.to_dict(orient="records"),
             "attribution": self.attribution.to_dict(orient="records"),
             "attribution_order": [s for s in self.attribution["step"] if s not in ("ours", "invoice")],
+            "credited": [s for s, st in zip(self.attribution["step"], self.attribution["status"]) if st == "credited"],
+            "tried_not_credited": [s for s, st in zip(self.attribution["step"], self.attribution["status"])
+                                   if st == "tried"],
             "warnings": list(self.warnings),
         }
 
@@ -174,7 +178,8 @@ def reconcile_frame(result, invoice: pd.DataFrame, *, meter_uncertainty_pct=None
             "exceeds_tolerance": None if tol is None or not np.isfinite(basis_pct) else bool(abs(basis_pct) > tol),
         })
     periods = pd.DataFrame(rows)
-    attribution = attribute_difference(result, invoice, chunks, assumed_pressure_atm=assumed_pressure_atm)
+    attribution = attribute_difference(result, invoice, chunks, assumed_pressure_atm=assumed_pressure_atm,
+                                       uncertainty_pct=U)
     tot = {c: float(periods[c].sum(skipna=False)) for c in ("volume_billed_m3", "volume_ours_m3", "volume_difference_m3",
                                                     "energy_billed_MJ", "energy_ours_MJ", "energy_difference_MJ",
                                                     "amount_billed", "amount_ours", "amount_difference")}

@@ -9,12 +9,6 @@ import sys
 import typer
 
 
-def _fmt(v, digits=6):
-    if v is None:
-        return "-"
-    return f"{v:,.{digits}g}" if isinstance(v, float) else str(v)
-
-
 @contextlib.contextmanager
 def progress_bar(enabled: bool = True):
     """A progress bar on the terminal (stderr) while a month runs; yields ``progress(text, fraction)``
@@ -36,67 +30,172 @@ def progress_bar(enabled: bool = True):
 
 
 def _finite(v) -> bool:
-    return isinstance(v, (int, float)) and math.isfinite(v)
+    return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+
+
+def _num(v, u=None, sig=6) -> str:
+    """``v`` with no more digits than its uncertainty ``u`` supports (same unit as v).
+
+    The uncertainty is kept to two significant digits and the value rounded to the same decimal
+    place (JCGM 100:2008, GUM §7.2.6); without an uncertainty, ``sig`` significant digits."""
+    if not _finite(v):
+        return "-"
+    v = float(v)
+    if _finite(u) and u > 0:
+        place = math.floor(math.log10(float(u))) - 1  # the second significant digit of u
+    elif v != 0:
+        place = math.floor(math.log10(abs(v))) - (sig - 1)
+    else:
+        return "0"
+    if place >= 0:
+        return f"{round(v / 10**place) * 10**place:,.0f}"
+    return f"{v:,.{-place}f}"
+
+
+def _unc(u) -> str:
+    """An uncertainty to two significant digits (GUM §7.2.6)."""
+    return _num(u, u if _finite(u) and u > 0 else None)
+
+
+def _residual(v) -> str:
+    return "< 0.001 %" if _finite(v) and v < 1e-3 else f"{_unc(v)} %"
+
+
+def _pct(v, u=None) -> str:
+    return f"{'+' if _finite(v) and v > 0 else ''}{_num(v, u, sig=3)} %"
+
+
+class _Display:
+    """The user's display units (site file ``[display_units]``); SI in, text out."""
+
+    DEFAULT = {"volume": "m3", "energy": "GJ", "pressure": "kPa", "temperature": "degC"}
+
+    def __init__(self, table):
+        from ..units import parse_unit
+
+        self.units, self.names = {}, {}
+        for kind, name in self.DEFAULT.items():
+            want = str((table or {}).get(kind, name)).strip()
+            try:
+                self.units[kind], self.names[kind] = parse_unit(want, kind), want
+            except Exception:  # noqa: BLE001 - a bad display unit is refused by the writers; fall back here
+                self.units[kind], self.names[kind] = parse_unit(name, kind), name
+
+    def value(self, kind, si):
+        return float(self.units[kind].from_si(float(si))) if _finite(si) else float("nan")
+
+    def text(self, kind, si, u_si=None):
+        """'35,890,000 m3': the value in the display unit, rounded to its uncertainty [same SI unit]."""
+        u = None
+        if _finite(u_si) and _finite(si):
+            u = abs(self.value(kind, si + u_si) - self.value(kind, si))
+        return f"{_num(self.value(kind, si), u)} {self.names[kind]}"
 
 
 def print_summary(result, written: dict) -> None:
     t = result.totals
     s = result.settings
-    typer.echo(f"meterfix: {s.meter}  method {result.method['name']} ({result.method['edition']})")
-    typer.echo(f"  base conditions      {s.pressure_base / 1e3:.4f} kPa, {s.temperature_base - 273.15:.2f} degC")
-    typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
-    typer.echo(f"  uncorrected volume   {t['uncorrected_volume_m3']:,.2f} m3")
-    typer.echo(f"  base volume (real)   {t['base_volume_m3']:,.2f} m3")
-    typer.echo(f"  base volume (Z = 1)  {t['ideal_gas_base_volume_m3']:,.2f} m3   ideal-gas error "
-               f"{_fmt(t.get('ideal_gas_error_pct'), 4)} %")
-    if t.get("energy_MJ") is not None:
-        std = result.method.get("energy_standard")
-        typer.echo(f"  energy               {t['energy_MJ'] / 1e3:,.3f} GJ" + (f"   ({std})" if std else ""))
+    du = _Display(getattr(s, "display_units", None))
     unc = result.uncertainty
-    if unc is not None and getattr(unc, "expanded_pct", None) is not None:
-        typer.echo(f"  expanded uncertainty {unc.expanded_pct:.3f} % (k = 2)")
+    u_rel = getattr(unc, "expanded_pct", None) if unc is not None else None
+    u_rel = u_rel / 100.0 if _finite(u_rel) else None
+    u_erel = getattr(unc, "expanded_energy_pct", None) if unc is not None else None
+    u_erel = u_erel / 100.0 if _finite(u_erel) else u_rel
+
+    def vol(v):  # a month volume [m3] with the month's relative uncertainty
+        return du.text("volume", v, abs(v) * u_rel if (u_rel and _finite(v)) else None)
+
+    typer.echo(f"meterfix: {s.meter}  method {result.method['name']} ({result.method['edition']})")
+    typer.echo(f"  base conditions      {du.text('pressure', s.pressure_base)} (absolute), "
+               f"{du.text('temperature', s.temperature_base)}")
+    typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
+    typer.echo(f"  uncorrected volume   {vol(t['uncorrected_volume_m3'])}")
+    typer.echo(f"  base volume (real)   {vol(t['base_volume_m3'])}")
+    # the ideal-gas error is the difference of two corrections of the same data: the Z method's own
+    # uncertainty bounds its digits
+    from ..z.registry import get_method
+
+    try:
+        u_z = (get_method(result.method["name"]).uncertainty_pct or {}).get(0) or 0.1
+    except Exception:  # noqa: BLE001 - a method no longer registered: the common 0.1 %
+        u_z = 0.1
+    typer.echo(f"  base volume (Z = 1)  {vol(t['ideal_gas_base_volume_m3'])}   ideal-gas error "
+               f"{_pct(t.get('ideal_gas_error_pct'), u_z)}")
+    if t.get("energy_MJ") is not None:
+        e = t["energy_MJ"] * 1e6
+        std = result.method.get("energy_standard")
+        typer.echo(f"  energy               {du.text('energy', e, abs(e) * u_erel if u_erel else None)}"
+                   + (f"   ({std})" if std else ""))
+    if u_rel is not None:
+        typer.echo(f"  expanded uncertainty {_unc(100 * u_rel)} % (k = 2); figures above are rounded to it")
     rec = result.reconciliation
     if rec is not None:
         rt = rec.totals or {}
-        dv = rt.get("volume_difference_pct")
-        typer.echo(f"  invoice              {len(rec.periods)} period(s); billed − ours "
-                   f"{_fmt(dv, 4)} % of volume"
-                   + (f", {_fmt(rt.get('energy_difference_pct'), 4)} % of energy"
-                      if _finite(rt.get("energy_difference_pct")) else ""))
         u = (rec.uncertainty or {}).get("combined_expanded_pct")
+        u = u if _finite(u) else None
+        typer.echo(f"  invoice              {len(rec.periods)} period(s); billed − ours "
+                   f"{_pct(rt.get('volume_difference_pct'), u)} of volume"
+                   + (f", {_pct(rt.get('energy_difference_pct'), u)} of energy"
+                      if _finite(rt.get("energy_difference_pct")) else ""))
         verdict = []
-        if _finite(u):
+        if u is not None:
             verdict.append(("exceeds" if rt.get("exceeds_uncertainty") else "within")
-                           + f" the combined uncertainty ±{u:.3g} %")
+                           + f" the combined uncertainty ±{_unc(u)} %")
         if _finite(rt.get("tolerance_pct")):
             verdict.append(("exceeds" if rt.get("exceeds_tolerance") else "within")
-                           + f" the contract tolerance ±{rt['tolerance_pct']:.3g} %")
+                           + f" the contract tolerance ±{rt['tolerance_pct']:g} %")
         if verdict:
             typer.echo("    " + "; ".join(verdict))
         att = rec.attribution
-        steps = att[(att["kind"] == "step") & att["applied"].astype(bool) & (att["volume_m3"].abs() > 0)] \
-            if len(att) else None
-        if steps is not None and len(steps):
-            top = steps.reindex(steps["volume_m3"].abs().sort_values(ascending=False).index).head(3)
-            for _, r in top.iterrows():
-                label = "not explained" if r["step"] == "unexplained" else f"explained by {r['step']}"
-                typer.echo(f"    {label:<40} {r['volume_m3']:+,.1f} m3")
+        if len(att):
+            u_v = abs(rt.get("volume_ours_m3") or 0.0) * u / 100.0 if u is not None else None
+            shown = att[(att["kind"] == "step") & (att["volume_m3"].abs() > 0)
+                        & att["step"].isin(["base pressure", "base temperature"])]
+            for _, r in shown.iterrows():
+                typer.echo(f"    {'restated to the invoice ' + r['step']:<44} "
+                           f"{'+' if r['volume_m3'] > 0 else ''}{du.text('volume', r['volume_m3'], u_v)}")
+            status = att["status"] if "status" in att.columns else att["applied"].map(
+                lambda a: "credited" if a else "tried")
+            for (_, r), st in zip(att.iterrows(), status):
+                if r["kind"] != "step" or r["step"] in ("base pressure", "base temperature"):
+                    continue
+                if r["step"] == "unexplained":
+                    label = "not explained"
+                elif st == "credited":
+                    label = f"explained by {r['step']}"
+                else:
+                    continue
+                if r["volume_m3"] == 0 and label == "not explained":
+                    continue
+                typer.echo(f"    {label:<44} {'+' if r['volume_m3'] > 0 else ''}"
+                           f"{du.text('volume', r['volume_m3'], u_v)}")
+            tried = [r["step"] for (_, r), st in zip(att.iterrows(), status) if st == "tried"]
+            if tried:
+                typer.echo(f"    tried, not credited: {', '.join(tried)}")
     cc = result.corrector_check
     if cc is not None:
-        typer.echo(f"  site corrector       {_fmt(cc.size_pct, 4)} % against ours over the month")
-        if cc.findings:
-            best = cc.findings[0]
-            typer.echo(f"    likely cause: {best['cause']} ({_fmt(best.get('size_pct'), 4)} % of the month, "
-                       f"fit residual {_fmt(best.get('rms_residual_pct'), 2)} % rms)")
-            tie = [f["cause"] for f in cc.findings[1:]
+        u_c = cc.threshold_pct if _finite(cc.threshold_pct) else None
+        typer.echo(f"  site corrector       {_pct(cc.size_pct, u_c)} against ours over the month")
+        material = [f for f in cc.findings if f.get("material", True)]
+        minor = [f for f in cc.findings if not f.get("material", True)]
+        if material:
+            best = material[0]
+            typer.echo(f"    likely cause: {best.get('description', best['cause'])} ({_pct(best.get('size_pct'), u_c)} "
+                       f"of the month, fit residual {_residual(best.get('rms_residual_pct'))} rms)")
+            tie = [f.get("description", f["cause"]) for f in material[1:]
                    if _finite(f.get("rms_residual_pct")) and _finite(best.get("rms_residual_pct"))
                    and f["rms_residual_pct"] <= 2 * best["rms_residual_pct"] + 1e-6]
             if tie:
                 typer.echo(f"    fits as well: {', '.join(tie)} (the data cannot tell these apart)")
+        for f in minor:
+            typer.echo(f"    below the {cc.threshold_pct:g} % threshold, strongly evidenced: "
+                       f"{f.get('description', f['cause'])} ({_pct(f.get('size_pct'), u_c)})")
         if not cc.findings:
-            typer.echo("    no misconfiguration found above the threshold")
+            typer.echo("    no misconfiguration found with evidence")
     for w in result.warnings:
         typer.echo(f"  note: {w}")
+    typer.echo("  meterfix supports review and invoice queries; it is not an approved conversion device and")
+    typer.echo("  defers to the contract, legal-metrology rules and licensed practice.")
     typer.echo("  outputs:")
     for kind, path in written.items():
         typer.echo(f"    {kind:<11} {path}")
