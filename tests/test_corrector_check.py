@@ -264,3 +264,23 @@ def test_parameters_bounded_to_physical_values():
     for cause in ("fixed-z", "base-pressure", "fixed-temperature"):
         theirs, _ = inject(cause)
         _credited_within_bounds(check_corrector(RESULT, FRAME.assign(volume_corrected_site=np.round(theirs, 2))))
+
+
+@pytest.mark.parametrize("factor,unit", [(1 / 28.316846592, "Mcf"), (35.3146667, "ft3"), (1000.0, "L"), (3.0, "")])
+def test_site_column_of_impossible_ratio_is_flagged(factor, unit):
+    # issue 13 case 2: a 'corrected volume' column in Mcf read as m3 is 0.0353 times ours: no base condition,
+    # Z or atmospheric setting gives that (NIST SP 811: 1 Mcf = 28.316846592 m3)
+    theirs = OURS * factor
+    check = check_corrector(RESULT, FRAME.assign(volume_corrected_site=theirs))
+    assert check.findings == [] and check.totals["column_suspect"]
+    assert check.totals["ratio_median"] == pytest.approx(factor, rel=1e-9)
+    assert np.isnan(check.size_pct)
+    assert "not a corrected volume in the unit its header says" in check.warnings[0]
+    if unit:
+        assert unit in check.warnings[0]
+
+
+def test_plausible_ratio_is_checked_not_flagged():
+    theirs, _ = inject("ideal-gas")
+    check = check_corrector(RESULT, FRAME.assign(volume_corrected_site=theirs))
+    assert not check.totals.get("column_suspect") and check.best["cause"] == "ideal-gas"

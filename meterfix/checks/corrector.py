@@ -83,6 +83,25 @@ OUTLIER_SIGMAS = 5.0
 OUTLIER_FLOOR = 5e-3
 #: an interval weighs by its duration, at most this many typical (median) intervals
 DURATION_CAP = 2.0
+#: issue 13 case 2: the median ratio corrector/ours a configuration can give. Base conditions in use
+#: differ by at most about 6 % (0 vs 25 degC: 9 %), Z of pipeline gas at up to 12 MPa lies between about
+#: 0.65 and 1.05 (common practice), an atmospheric setting moves a few percent at the lowest line
+#: pressures; outside 0.5-2 (or below what gauge-read-as-absolute gives at this month's pressures) the
+#: column is not a corrected volume in the unit its header says, and the check is not run
+PLAUSIBLE_RATIO = (0.5, 2.0)
+#: m3 → other volume units (NIST SP 811: 1 ft3 = 0.028316846592 m3), to name a likely unit mix-up
+_UNIT_FACTORS = {"ft3": 1 / 0.028316846592, "ccf": 1 / 2.8316846592, "Mcf": 1 / 28.316846592,
+                 "MMcf": 1 / 28316.846592, "L": 1000.0, "thousand m3": 1e-3}
+
+
+def _unit_mixup(ratio: float) -> str:
+    """A likely unit mix-up for a ratio corrector/ours, or ''."""
+    for unit, f in _UNIT_FACTORS.items():
+        if abs(ratio / f - 1.0) < 0.15:
+            return f"; the ratio is close to m3 → {unit} ({f:.6g}): the column may hold {unit} read as m3"
+        if abs(ratio * f - 1.0) < 0.15:
+            return f"; the ratio is close to {unit} → m3 ({1 / f:.6g}): the column may hold m3 read as {unit}"
+    return ""
 
 
 @dataclass
@@ -247,6 +266,23 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     du = d[used]
     vo = ours[used]
     vt = theirs[used]
+    ratio_median = float(np.median(vt / vo))
+    lo, hi = PLAUSIBLE_RATIO
+    atm_u = du["pressure_atm"].to_numpy(float) if "pressure_atm" in du else np.full(len(du), np.nan)
+    if np.isfinite(atm_u).any():  # gauge read as absolute reaches (pf - pa)/pf
+        pf_u = du["pressure_line"].to_numpy(float)
+        g = np.nanmedian((pf_u - atm_u) / pf_u)
+        lo = min(lo, 0.9 * float(g)) if np.isfinite(g) else lo
+    if not lo <= ratio_median <= hi:
+        warnings.append(
+            f"the site corrected volume is {ratio_median:.4g} times ours (median over {n_all} intervals): no base "
+            f"condition, Z or atmospheric setting gives a ratio outside {lo:.2g}-{hi:.2g}, so the column is not a "
+            f"corrected volume in the unit its header says{_unit_mixup(ratio_median)}. The corrector check was not "
+            "run; check the column and its unit (--column to pick another)")
+        iv["used"] = False
+        return CorrectorCheck([], [], iv, float("nan"), threshold_pct,
+                              {"intervals_compared": 0, "column_suspect": True, "ratio_median": ratio_median,
+                               "plausible_ratio": [lo, hi]}, warnings)
     w_all = _weights(d["duration"].to_numpy(float) if "duration" in d else np.ones(len(d)), used)
     y = np.log(vt / vo)
     zf = du["z_line"].to_numpy(float)

@@ -175,7 +175,10 @@ def print_summary(result, written: dict) -> None:
     cc = result.corrector_check
     if cc is not None:
         u_c = cc.threshold_pct if _finite(cc.threshold_pct) else None
-        typer.echo(f"  site corrector       {_pct(cc.size_pct, u_c)} against ours over the month")
+        if _finite(cc.size_pct):
+            typer.echo(f"  site corrector       {_pct(cc.size_pct, u_c)} against ours over the month")
+        else:
+            typer.echo("  site corrector       not compared")
         material = [f for f in cc.findings if f.get("material", True)]
         minor = [f for f in cc.findings if not f.get("material", True)]
         if material:
@@ -190,8 +193,10 @@ def print_summary(result, written: dict) -> None:
         for f in minor:
             typer.echo(f"    below the {cc.threshold_pct:g} % threshold, strongly evidenced: "
                        f"{f.get('description', f['cause'])} ({_pct(f.get('size_pct'), u_c)})")
-        if not cc.findings:
+        if not cc.findings and not (cc.totals or {}).get("column_suspect"):
             typer.echo("    no misconfiguration found with evidence")
+        for w in cc.warnings:
+            typer.echo(f"    note: {w}")
     for w in result.warnings:
         typer.echo(f"  note: {w}")
     typer.echo("  meterfix supports review and invoice queries; it is not an approved conversion device and")

@@ -10,14 +10,22 @@ Quirks handled:
 
 - the header row is found among the first 30 rows (title and note rows above it are kept in the
   metadata); the unit may be written in brackets or parentheses (``Volume (Mcf)``);
-- common variations of the header names (``From``/``To``, ``Start date``, ``Volume``,
-  ``Quantity``, ``GCV``/``HHV``, ``Energy``, ``Rate``, ``Total``);
+- common variations of the header names (``From``/``To``, ``Start date``, ``Service period
+  from``/``to``, ``Service start``/``end``, one ``Service period`` column '2026-10-01 - 2026-10-31',
+  ``Volume``, ``Quantity``, ``GCV``/``HHV``, ``Temp base``, ``Pressure base``, ``Energy``, ``Rate``,
+  ``Total``);
+- headers that are a unit themselves: ``Mcf``, ``Ccf``, ``MMBtu``, ``Dth``/``Dekatherms``,
+  ``Therms``, ``kWh`` (also ``Billed Therms``);
+- a heating value as a bare ``Btu factor`` (or ``Therm factor``): MMBtu per Mcf when every value
+  lies in 0.3-2.5, Btu per cubic foot when every value lies in 300-2500 (the two cannot be
+  confused), refused otherwise;
 - dates are gas days; the end date is inclusive; ISO dates (2026-03-01), spreadsheet dates and
   day.month.year are read; slash dates are read day/month or month/day when some date of the
   file shows which (a part above 12), otherwise refused as ambiguous;
 - a base pressure or base temperature column may be missing when the caller passes the value
-  (``pressure_base=``, ``temperature_base=``); a cell may also carry its own unit
-  (``14.73 psia``);
+  (``pressure_base=``, ``temperature_base=``: the settings ``invoice_base``,
+  ``invoice_base_pressure``, ``invoice_base_temperature``); a base the invoice states wins; a cell
+  may also carry its own unit (``14.73 psia``);
 - a row whose first cell starts with "total" is a totals row and is skipped (kept in metadata);
   fully empty rows are skipped;
 - billed volumes are at the invoice's base conditions (``Sm3``, ``m3``, ``Mcf``, ``scf`` are all
@@ -44,21 +52,51 @@ from ..units import parse_quantity, parse_unit
 #: canonical invoice column → (unit kind or None, required, header spellings in lower case)
 INVOICE_COLUMNS = {
     "period_start": (None, True, ("period start", "start", "from", "start date", "period from", "billing start",
-                                  "date from", "begin", "period begin", "first gas day", "from gas day")),
+                                  "date from", "begin", "period begin", "first gas day", "from gas day",
+                                  "service period from", "service from", "service start", "service period start",
+                                  "service start date", "from date", "start of service", "billing period from",
+                                  "billing period start", "bill from", "period start date", "read date from",
+                                  "meter read from", "service date from")),
     "period_end": (None, True, ("period end", "end", "to", "end date", "period to", "billing end", "date to",
-                                "until", "last gas day", "to gas day", "through")),
+                                "until", "last gas day", "to gas day", "through", "service period to", "service to",
+                                "service end", "service period end", "service end date", "to date", "end of service",
+                                "billing period to", "billing period end", "bill to", "period end date",
+                                "service through", "read date to", "meter read to", "service date to")),
     "volume_billed": ("volume", True, ("billed volume", "volume", "quantity", "billed quantity", "volume billed",
-                                       "base volume", "corrected volume", "standard volume", "billed")),
+                                       "base volume", "corrected volume", "standard volume", "billed", "mcf", "ccf",
+                                       "mscf", "scf", "sm3", "nm3", "billed mcf", "billed ccf", "volume mcf",
+                                       "gas volume", "metered volume")),
     "pressure_base": ("pressure", False, ("base pressure", "pressure base", "reference pressure",
-                                          "contract pressure", "pressure basis", "base p")),
+                                          "contract pressure", "pressure basis", "base p", "base press",
+                                          "press base", "press. base", "pressure base psia", "psia base")),
     "temperature_base": ("temperature", False, ("base temperature", "temperature base", "reference temperature",
-                                                "contract temperature", "temperature basis", "base t")),
+                                                "contract temperature", "temperature basis", "base t", "base temp",
+                                                "temp base", "temp. base", "temp basis")),
     "heating_value": ("heating_value", False, ("heating value", "gross heating value", "calorific value",
-                                               "gross calorific value", "gcv", "hhv", "hv", "cv")),
-    "energy_billed": ("energy", False, ("billed energy", "energy", "energy billed", "billed quantity energy")),
+                                               "gross calorific value", "gcv", "hhv", "hv", "cv", "btu factor",
+                                               "btu", "therm factor", "heat factor", "heat content", "btu content",
+                                               "heating value factor", "energy factor")),
+    "energy_billed": ("energy", False, ("billed energy", "energy", "energy billed", "billed quantity energy",
+                                        "mmbtu", "dth", "dekatherms", "dekatherm", "therms", "therm", "kwh", "mwh",
+                                        "gj", "billed mmbtu", "billed dth", "billed therms", "billed kwh",
+                                        "energy quantity", "quantity mmbtu")),
     "price": ("price", False, ("price", "unit price", "rate", "energy price", "tariff")),
-    "amount": ("currency", False, ("amount", "total", "charge", "cost", "amount due", "total amount", "value")),
+    "amount": ("currency", False, ("amount", "total", "charge", "cost", "amount due", "total amount", "value",
+                                   "gas charge", "commodity charge")),
+    "period": (None, False, ("service period", "billing period", "period", "bill period", "gas days")),
 }
+
+#: headers that are a unit themselves ('MMBtu', 'Dth', 'Mcf'): the unit the column holds
+_UNIT_HEADERS = {"mcf": "Mcf", "ccf": "ccf", "mscf": "Mcf", "scf": "scf", "sm3": "m3", "nm3": "m3",
+                 "mmbtu": "MMBtu", "dth": "Dth", "dekatherms": "Dth", "dekatherm": "Dth", "therms": "therm",
+                 "therm": "therm", "kwh": "kWh", "mwh": "MWh", "gj": "GJ"}
+#: a heating value written as a factor without unit ("Btu factor" 1.035): MMBtu per Mcf (= therms per
+#: ccf = 1000 Btu/cf) when every value lies in 0.3-2.5, Btu per cubic foot when every value lies in
+#: 300-2500 (common practice in gas bills; the two ranges cannot be confused)
+_FACTOR_HEADERS = ("btu factor", "btu", "therm factor", "heat factor", "energy factor", "heating value factor",
+                   "heat content", "btu content")
+_FACTOR_RANGES = (((0.3, 2.5), "MMBtu/Mcf"), ((300.0, 2500.0), "Btu/cf"))
+_PERIOD_SPLIT = re.compile(r"^\s*(.+?)\s+(?:-|–|to|through|until)\s+(.+?)\s*$", re.I)
 
 _HEADER_SCAN_ROWS = 30
 _UNIT_IN_HEADER = re.compile(r"^(?P<name>.*?)\s*[\[(](?P<unit>[^\])]*)[\])]\s*$")
@@ -136,6 +174,8 @@ def _find_header(rows, path, sheet):
     best = None
     for i, row in enumerate(rows[:_HEADER_SCAN_ROWS]):
         m = _match_header(row)
+        if "period" in m and "period_start" not in m and "period_end" not in m:
+            m["period_start"] = m["period_end"] = m["period"]  # one column 'start - end'
         score = sum(1 for c in ("period_start", "period_end", "volume_billed") if c in m)
         if score == 3:
             return i, m
@@ -252,6 +292,34 @@ def _unit(kind, unit_text, where):
         raise UnitError(exc.message, **where, hint=exc.hint) from None
 
 
+def _factor_unit(rows, hi, j, header, where):
+    """The unit of a heating value written as a bare factor, from the range of its values."""
+    vals = []
+    for r in rows[hi + 1:]:
+        if r is None or j >= len(r) or r[j] is None or str(r[j]).strip() == "":
+            continue
+        try:
+            vals.append(float(str(r[j]).replace(",", ".")))
+        except ValueError:
+            continue
+    for (lo, hi_), unit in _FACTOR_RANGES:
+        if vals and all(lo <= v <= hi_ for v in vals):
+            return unit
+    raise UnitError(f"column '{header}' has no unit and its values fit neither MMBtu/Mcf (0.3-2.5) nor Btu/cf "
+                    "(300-2500)", **where, row=hi + 1, column=header,
+                    hint=f"write the unit in the header, e.g. '{header} [MMBtu/Mcf]' or '{header} [Btu/cf]'")
+
+
+def _split_period(value, where):
+    """'2026-10-01 - 2026-10-31' → ('2026-10-01', '2026-10-31')."""
+    m = _PERIOD_SPLIT.match(str(value)) if isinstance(value, str) else None
+    if not m:
+        raise InputError(f"'{value}' is not a period 'start - end'", **where,
+                         hint="write the period as '2026-10-01 - 2026-10-31', or use two columns "
+                              "'Period start' and 'Period end'")
+    return m.group(1), m.group(2)
+
+
 def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature_base=None):
     """Read a supplier invoice in the meterfix template layout.
 
@@ -289,7 +357,18 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
                            notes=[" ".join(str(c) for c in r if c is not None) for r in rows[:hi]
                                   if any(c is not None for c in r)])
     scales = {}
+    for canon, (j, header, unit_text) in list(cols.items()):
+        if canon == "period":
+            continue
+        name = _split_header(header)[0]
+        if not unit_text and name.replace("billed ", "").replace("quantity ", "") in _UNIT_HEADERS:
+            unit_text = _UNIT_HEADERS[name.replace("billed ", "").replace("quantity ", "")]
+        elif not unit_text and canon == "heating_value" and name in _FACTOR_HEADERS:
+            unit_text = _factor_unit(rows, hi, j, header, loc)
+        cols[canon] = (j, header, unit_text)
     for canon, (j, header, unit_text) in cols.items():
+        if canon == "period":
+            continue
         meta.columns[canon] = header
         meta.units[canon] = unit_text
         kind = INVOICE_COLUMNS[canon][0]
@@ -319,11 +398,22 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
         given = pressure_base if canon == "pressure_base" else temperature_base
         if canon not in cols and given is None:
             label = "Base pressure [kPa]" if canon == "pressure_base" else "Base temperature [degC]"
+            opt = "invoice_base_pressure" if canon == "pressure_base" else "invoice_base_temperature"
             raise InputError(f"the invoice has no '{label.split(' [')[0]}' column", **loc, row=hi + 1,
-                             hint=f"add a column '{label}' or give the invoice's base conditions to the reader")
+                             hint=f"add a column '{label}', or give the base the invoice's volumes are stated at: "
+                                  f"--invoice-base (e.g. us-14.73-60f) or --{opt.replace('_', '-')}, or "
+                                  f"invoice_base / {opt} in the site file")
 
-    date_cells = [r[cols[c][0]] for r in rows[hi + 1:] for c in ("period_start", "period_end")
-                  if r is not None and cols[c][0] < len(r)]
+    combined = cols["period_start"][0] == cols["period_end"][0]
+    if combined:
+        date_cells = []
+        for r in rows[hi + 1:]:
+            j = cols["period_start"][0]
+            if r is not None and j < len(r) and isinstance(r[j], str) and _PERIOD_SPLIT.match(r[j]):
+                date_cells += list(_PERIOD_SPLIT.match(r[j]).groups())
+    else:
+        date_cells = [r[cols[c][0]] for r in rows[hi + 1:] for c in ("period_start", "period_end")
+                      if r is not None and cols[c][0] < len(r)]
     order = _slash_order(date_cells)
     if order == "mixed":
         raise InputError("the dates mix day/month/year and month/day/year", **loc, column=cols["period_start"][1],
@@ -344,9 +434,13 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
             return r[j] if j < len(r) else None
 
         rec = {"row": i + 1}
+        pair = None
+        if combined:
+            where = {**loc, "row": i + 1, "column": cols["period_start"][1]}
+            pair = dict(zip(("period_start", "period_end"), _split_period(cell("period_start"), where)))
         for canon in ("period_start", "period_end"):
             where = {**loc, "row": i + 1, "column": cols[canon][1]}
-            v = cell(canon)
+            v = pair[canon] if pair else cell(canon)
             if v is None or str(v).strip() == "":
                 raise InputError("empty date", **where, hint="every billing period needs its start and end gas day")
             rec[canon] = _date(v, timezone, where, order)
@@ -384,11 +478,13 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
                              hint="every billing period needs its billed volume")
         if not np.isfinite(rec["pressure_base"]):
             if pressure_base is None:
-                raise InputError("base pressure is empty", **loc, row=i + 1, column=cols["pressure_base"][1])
+                raise InputError("base pressure is empty", **loc, row=i + 1, column=cols["pressure_base"][1],
+                                 hint="fill it in, or give --invoice-base / --invoice-base-pressure")
             rec["pressure_base"] = float(pressure_base)
         if not np.isfinite(rec["temperature_base"]):
             if temperature_base is None:
-                raise InputError("base temperature is empty", **loc, row=i + 1, column=cols["temperature_base"][1])
+                raise InputError("base temperature is empty", **loc, row=i + 1, column=cols["temperature_base"][1],
+                                 hint="fill it in, or give --invoice-base / --invoice-base-temperature")
             rec["temperature_base"] = float(temperature_base)
         if not (50e3 <= rec["pressure_base"] <= 200e3):
             raise InputError(f"base pressure {rec['pressure_base']:.0f} Pa is not plausible (50-200 kPa absolute)",
