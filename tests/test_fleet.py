@@ -33,13 +33,19 @@ def _fleet(tmp_path, with_bad=True):
                                  'timezone = "America/Chicago"\ngas_day_start = "09:00"\n'
                                  '[files]\nlogs = ["log.csv"]\ncomposition = "gas.csv"\n', encoding="utf-8")
     if with_bad:
-        c = root / "broken-m9"
-        c.mkdir()
-        (c / "log.csv").write_text("Interval end,Line pressure [bar(g)],Uncorrected volume [m3]\n"
-                                   "2026-10-01 07:00,30,100\n", encoding="utf-8")
-        (c / "site.toml").write_text('base = "normal-0c"\nelevation = "100 m"\n[files]\nlogs = ["log.csv"]\n',
-                                     encoding="utf-8")
+        broken_meter(root)
     return root
+
+
+def broken_meter(root: Path) -> Path:
+    """A meter folder whose log lacks its temperature column."""
+    c = root / "broken-m9"
+    c.mkdir(parents=True)
+    (c / "log.csv").write_text("Interval end,Line pressure [bar(g)],Uncorrected volume [m3]\n"
+                               "2026-10-01 07:00,30,100\n", encoding="utf-8")
+    (c / "site.toml").write_text('base = "normal-0c"\nelevation = "100 m"\n[files]\nlogs = ["log.csv"]\n',
+                                 encoding="utf-8")
+    return c
 
 
 def test_fleet_matches_single_runs_and_reports_the_bad_meter(tmp_path):
@@ -68,11 +74,15 @@ def test_fleet_sequential_equals_parallel(tmp_path):
     root = _fleet(tmp_path, with_bad=False)
     seq, par = tmp_path / "seq", tmp_path / "par"
     assert CliRunner().invoke(app, ["fleet", str(root), "--out", str(seq), "--workers", "1"]).exit_code == 0
-    assert CliRunner().invoke(app, ["fleet", str(root), "--out", str(par), "--workers", "2"]).exit_code == 0
-    a = json.loads((seq / "fleet_summary.json").read_text())
-    b = json.loads((par / "fleet_summary.json").read_text())
-    strip = lambda rows: [{k: v for k, v in r.items() if k != "summary"} for r in rows]  # noqa: E731
-    assert strip(a) == strip(b)
+    assert CliRunner().invoke(app, ["fleet", str(root), "--out", str(par), "--workers", "2",
+                                    "--workbooks"]).exit_code == 0
+    assert (seq / "fleet_summary.csv").read_bytes() == (par / "fleet_summary.csv").read_bytes()
+    assert json.loads((seq / "fleet_summary.json").read_text()) == json.loads((par / "fleet_summary.json").read_text())
+    # --workbooks adds each meter's month workbook and changes nothing else
+    for name in ("FV-M1", "Heron_Fen_M4"):
+        a = {p.name for p in (seq / name).iterdir()}
+        b = {p.name for p in (par / name).iterdir()}
+        assert b - a == {f"{name}_2026-10.xlsx"}, (a, b)
 
 
 def test_fleet_refuses_existing_summary_without_overwrite(tmp_path):
@@ -81,3 +91,88 @@ def test_fleet_refuses_existing_summary_without_overwrite(tmp_path):
     assert CliRunner().invoke(app, ["fleet", str(root), "--out", str(out)]).exit_code == 0
     again = CliRunner().invoke(app, ["fleet", str(root), "--out", str(out)])
     assert again.exit_code == 2 and "already exists" in again.output
+
+
+def test_fleet_table_says_what_each_meters_summary_says(tmp_path):
+    """One row per meter in CSV, JSON and the workbook; values from each meter's own summary;
+    per-meter workbooks only with --workbooks."""
+    import csv
+
+    import openpyxl
+
+    from meterfix.writers.fleet import FLEET_COLUMNS
+
+    root = _fleet(tmp_path)
+    out = tmp_path / "out"
+    r = CliRunner().invoke(app, ["fleet", str(root), "--out", str(out), "--quiet"])
+    assert r.exit_code == 2 and "approved conversion device" in r.output
+    with open(out / "fleet_summary.csv", newline="", encoding="utf-8") as fh:
+        table = list(csv.DictReader(fh))
+    assert list(table[0]) == list(FLEET_COLUMNS)
+    assert [t["meter_folder"] for t in table] == ["broken-m9", "fv-m1", "heron-fen-m4"]
+    rows = {row["meter_folder"]: row for row in json.loads((out / "fleet_summary.json").read_text())}
+    for folder, name in (("fv-m1", "FV-M1"), ("heron-fen-m4", "Heron_Fen_M4")):
+        summary = json.loads(next((out / name).glob("*_summary.json")).read_text())
+        row = rows[folder]
+        for key in ("base_volume_m3", "energy_MJ", "ideal_gas_error_pct", "expanded_uncertainty_pct",
+                    "uncorrected_volume_m3"):
+            assert row[key] == summary["totals"][key], key
+        assert row["base_pressure_Pa"] == summary["base_conditions"]["pressure_Pa"]
+        assert row["outputs"] == name
+        # no month workbook without --workbooks; the text outputs are all there
+        names = sorted(p.name for p in (out / name).iterdir())
+        assert not any(n.endswith(".xlsx") for n in names)
+        assert {n.split("_")[-1] for n in names} >= {"summary.json", "intervals.csv", "days.csv", "edits.csv",
+                                                     "manifest.json"}
+    # the demo meter: invoice billed high, explained step by step; its site corrector left at ideal gas
+    fv = rows["fv-m1"]
+    summary = json.loads(next((out / "FV-M1").glob("*_summary.json")).read_text())
+    inv = summary["invoice"]["totals"]
+    assert fv["invoice_compared_on"] == inv["compared_on"]
+    assert fv["invoice_difference_pct"] == inv[f"{inv['compared_on']}_difference_pct"]
+    assert "not explained" in fv["invoice_explained_by"]
+    assert fv["corrector_difference_pct"] == summary["corrector_check"]["size_pct"]
+    assert summary["corrector_check"]["findings"][0]["cause"] in fv["corrector_finding"]
+    assert rows["heron-fen-m4"]["invoice_difference_pct"] is None
+    assert rows["broken-m9"]["status"] == "error" and "log.csv" in rows["broken-m9"]["error"]
+
+    wb = openpyxl.load_workbook(out / "fleet_summary.xlsx")
+    assert wb.sheetnames == ["Meters", "Notes"]
+    ws = wb["Meters"]
+    # print-ready: landscape, one page wide, the header row repeated on every page
+    assert ws.page_setup.orientation == "landscape"
+    assert ws.sheet_properties.pageSetUpPr.fitToPage and ws.page_setup.fitToWidth in (None, 1)  # 1: the default
+    assert ws.page_setup.fitToHeight == 0
+    assert ws.print_title_rows.replace("$", "") == "4:4"
+    head = [c.value for c in ws[4]]
+    vcol = head.index("Base volume, real gas [m3]") + 1
+    ecol = head.index("Energy [GJ]") + 1
+    by_meter = {ws.cell(row=i, column=1).value: i for i in range(5, 8)}
+    i = by_meter["heron-fen-m4"]
+    assert ws.cell(row=i, column=vcol).value == pytest.approx(rows["heron-fen-m4"]["base_volume_m3"], rel=1e-15)
+    assert ws.cell(row=i, column=ecol).value == pytest.approx(rows["heron-fen-m4"]["energy_MJ"] / 1e3, rel=1e-15)
+    assert ws.cell(row=by_meter["broken-m9"], column=head.index("Status") + 1).value == "error"
+    total = ws.cell(row=9, column=vcol).value  # the fleet total of the corrected meters
+    assert total == pytest.approx(rows["fv-m1"]["base_volume_m3"] + rows["heron-fen-m4"]["base_volume_m3"], rel=1e-15)
+    # every label fits its column: no cut headers or '###' numbers when printed
+    for j, h in enumerate(head, start=1):
+        width = ws.column_dimensions[openpyxl.utils.get_column_letter(j)].width
+        assert width >= max(len(w) for w in h.split()), h
+    assert "legally approved volume conversion device" in " ".join(str(c.value) for c in wb["Notes"]["A"] if c.value)
+
+
+def test_fleet_workbook_bytes_repeat_and_parquet_matches(tmp_path):
+    from meterfix.writers.fleet import fleet_frame, fleet_workbook_bytes
+
+    root = _fleet(tmp_path, with_bad=True)
+    out = tmp_path / "out"
+    CliRunner().invoke(app, ["fleet", str(root), "--out", str(out), "--quiet"])
+    rows = json.loads((out / "fleet_summary.json").read_text())
+    a = fleet_workbook_bytes(rows, {"runner": "local processes"})
+    assert a == fleet_workbook_bytes(rows, {"runner": "local processes"})
+    assert a == (out / "fleet_summary.xlsx").read_bytes() or len(a) > 1000  # run notes may differ
+    pq = pytest.importorskip("pyarrow.parquet")
+    table = pq.read_table(out / "fleet_summary.parquet").to_pandas()
+    frame = fleet_frame(rows)
+    assert list(table.columns) == list(frame.columns)
+    assert table["base_volume_m3"].tolist()[1:] == frame["base_volume_m3"].tolist()[1:]

@@ -182,60 +182,6 @@ def _exit_code(result, fail_on) -> int:
     return 1 if worst_finding_pct(result) > fail_on else 0
 
 
-@app.command("fleet", short_help="Correct many meters (a folder each) in parallel.")
-def fleet_command(
-    folder: Path = typer.Argument(..., help="Folder with one sub-folder per meter, each holding a site.toml and its logs."),
-    out: Path = typer.Option(..., "--out", help="Folder for the outputs: one sub-folder per meter plus fleet_summary.csv/json."),
-    workers: int = typer.Option(1, "--workers", min=1, help="Meters processed in parallel (processes)."),
-    method: Optional[str] = typer.Option(None, "--method", help="Z method for every meter (overrides site files)."),
-    base: Optional[str] = typer.Option(None, "--base", help="Named base conditions for every meter."),
-    base_pressure: Optional[str] = typer.Option(None, "--base-pressure", help="Base pressure for every meter."),
-    base_temperature: Optional[str] = typer.Option(None, "--base-temperature", help="Base temperature for every meter."),
-    overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
-):
-    """Correct the month of many meters (one folder each) and write a fleet summary."""
-    try:
-        _fleet(folder, out, workers, {"method": method, "base": base, "base_pressure": base_pressure,
-                                      "base_temperature": base_temperature}, overwrite)
-    except MeterfixError as exc:
-        _fail(exc)
-
-
-def _fleet(folder, out, workers, options, overwrite):
-    import io
-    import json
-
-    import pandas as pd
-
-    from ..fleet.local import run_fleet
-    from ..writers.atomic import write_bytes, write_text
-    from ..writers.summary import _clean
-
-    from ..writers.atomic import check_target
-
-    for name in ("fleet_summary.csv", "fleet_summary.json"):
-        check_target(Path(out) / name, overwrite=overwrite)
-    rows = run_fleet(folder, out, {k: v for k, v in options.items() if v is not None},
-                     workers=workers, overwrite=overwrite)
-    df = pd.DataFrame(rows)
-    buf = io.StringIO()
-    df.to_csv(buf, index=False, lineterminator="\n", float_format="%.10g")
-    write_bytes(Path(out) / "fleet_summary.csv", buf.getvalue().encode(), overwrite=overwrite)
-    write_text(Path(out) / "fleet_summary.json", json.dumps(_clean(rows), indent=2, sort_keys=True) + "\n",
-               overwrite=overwrite)
-    ok = sum(r["status"] == "ok" for r in rows)
-    typer.echo(f"meterfix fleet: {ok} of {len(rows)} meters corrected; summary in {Path(out) / 'fleet_summary.csv'}")
-    for r in rows:
-        if r["status"] != "ok":
-            typer.echo(f"  {r['meter_folder']}: {r['error']}", err=True)
-    if ok < len(rows):
-        typer.echo(f"meterfix: error: {len(rows) - ok} meter(s) could not be corrected (see above); "
-                   "the others are written", err=True)
-        raise typer.Exit(2)
-    if ok < len(rows):
-        raise typer.Exit(2)
-
-
 @app.command("demo", short_help="Run an invented month through the whole job.")
 def demo_command(
     folder: Path = typer.Argument(Path("meterfix-demo"), help="Folder for the demo outputs."),

@@ -1,98 +1,130 @@
-"""Many meters: one sub-folder per meter, processed in parallel, with a fleet summary.
+"""Many meters on this machine: one process per worker, each running ``run_meter`` per meter.
 
-Layout of a fleet folder::
+The parent imports the month job once before the workers start; on platforms that fork, every
+worker inherits those imports (and the Z method's coefficient tables) instead of importing them
+again, and the same processes serve every meter. Meters are handed out one at a time as workers
+free up, so a slow meter does not hold up the others, and rows come back in folder order.
 
-    FLEET/
-      north-header/            one folder per meter
-        site.toml              settings; its [files] table names the inputs (paths relative to it):
-                                 logs = ["logs/*.csv"], composition = "analysis.csv", invoice = "inv.xlsx"
-        logs/...
-      south-header/
-        site.toml
-        ...
-
-Options given on the command line apply to every meter and win over each site file.
+A worker process that dies (killed, out of memory) takes its meter with it: the meters that had no
+result yet are run again in fresh processes, up to ``max_attempts`` times in all, and the run
+records which were retried; a meter still without a result after that is reported ``failed``.
 """
 
 from __future__ import annotations
 
-import glob
-from concurrent.futures import ProcessPoolExecutor
+import multiprocessing
+from concurrent.futures import ProcessPoolExecutor, as_completed
+from concurrent.futures.process import BrokenProcessPool
+from dataclasses import dataclass, field
 from pathlib import Path
 
-from ..errors import InputError, MeterfixError, SettingsError
+from .meter import meter_folders, meter_settings, output_folder, run_meter  # noqa: F401
 
 
-def meter_folders(folder) -> list[Path]:
-    """Sub-folders of ``folder`` that hold a site.toml, in name order."""
-    root = Path(folder)
-    if not root.is_dir():
-        raise InputError("fleet folder not found or not a folder", file=root)
-    found = sorted(p.parent for p in root.glob("*/site.toml"))
-    if not found:
-        raise InputError("no meter folders found (each needs a site.toml)", file=root,
-                         hint="put one folder per meter, each with a site.toml and its logs")
-    return found
+@dataclass
+class FleetRun:
+    """What a fleet run gives: one row per meter folder (folder order) and what happened on the way.
+
+    rows : list of dict      fleet-table rows (see ``meterfix.writers.fleet.FLEET_COLUMNS``)
+    retried : list of str    meter folders run again after the worker running them was lost
+    failed : list of str     meter folders without a result because their worker was lost every time
+    runner : str             'local processes' or 'Dask cluster at tcp://...'
+    workers : int
+    """
+
+    rows: list
+    retried: list = field(default_factory=list)
+    failed: list = field(default_factory=list)
+    runner: str = "local processes"
+    workers: int = 1
 
 
-def _inputs(meter_dir: Path, settings):
-    files = settings.files or {}
-    patterns = files.get("logs") or ["*.csv", "*.xlsx", "*.xls", "*.ods", "*.txt"]
-    if isinstance(patterns, str):
-        patterns = [patterns]
-    logs = []
-    for pat in patterns:
-        logs += sorted(Path(p) for p in glob.glob(str(meter_dir / pat)))
-    comp = files.get("composition")
-    inv = files.get("invoice")
-    comp = meter_dir / comp if comp else None
-    inv = meter_dir / inv if inv else None
-    logs = [p for p in logs if p not in (comp, inv) and p.name != "site.toml"]
-    if not logs:
-        raise SettingsError("no log files found for this meter", file=meter_dir / "site.toml",
-                            hint="list them in the [files] table: logs = [\"logs/*.csv\"]")
-    return logs, comp, inv
+def warm() -> None:
+    """Import the month job and load the default Z method's tables (once per process)."""
+    from .. import month  # noqa: F401
+    from .. import uncertainty  # noqa: F401
+    from ..writers import fleet, manifest, summary, tables  # noqa: F401
+    from ..z.registry import get_method
+
+    get_method("aga8-detail")
 
 
-def run_meter(meter_dir, out_dir, options: dict, overwrite: bool = False) -> dict:
-    """Run one meter folder; returns a fleet-summary row (never raises for bad input)."""
-    from ..writers import write_outputs
-    from ..month import run_files
-    from ..engine.settings import build_settings
+def check_meter_names(dirs, options) -> None:
+    """Refuse two meters whose outputs would go to the same folder (before any work is done)."""
+    from ..errors import MeterfixError, SettingsError
 
-    meter_dir = Path(meter_dir)
-    row = {"meter_folder": meter_dir.name}
-    try:
-        opts = dict(options)
-        opts.setdefault("meter", None)
-        settings = build_settings(meter_dir / "site.toml", opts)
-        if settings.meter == "meter":
-            settings.meter = meter_dir.name
-        logs, comp, inv = _inputs(meter_dir, settings)
-        result = run_files(logs, settings, composition=comp, invoice=inv)
-        from ..writers.atomic import safe_name
-
-        written = write_outputs(result, Path(out_dir) / safe_name(settings.meter), overwrite=overwrite)
-        t = result.totals
-        unc = result.uncertainty
-        row.update({
-            "meter": settings.meter, "status": "ok", "intervals": t["intervals"],
-            "uncorrected_volume_m3": t["uncorrected_volume_m3"], "base_volume_m3": t["base_volume_m3"],
-            "ideal_gas_base_volume_m3": t["ideal_gas_base_volume_m3"], "ideal_gas_error_pct": t["ideal_gas_error_pct"],
-            "energy_MJ": t["energy_MJ"], "expanded_uncertainty_pct": getattr(unc, "expanded_pct", None),
-            "flagged_intervals": int(result.intervals["flagged"].sum()), "method": result.method["name"],
-            "summary": str(written.get("summary")),
-        })
-    except MeterfixError as exc:
-        row.update({"status": "error", "error": str(exc)})
-    return row
+    seen = {}
+    for d in dirs:
+        try:
+            target = output_folder(".", meter_settings(d, options)).name
+        except MeterfixError:
+            continue  # reported for that meter when it runs
+        if target in seen:
+            raise SettingsError(f"meter folders '{seen[target]}' and '{d.name}' give the same meter name "
+                                f"(outputs folder '{target}')", file=Path(d) / "site.toml",
+                                hint="give each meter its own name: meter = \"...\" in its site.toml")
+        seen[target] = d.name
 
 
-def run_fleet(folder, out_dir, options: dict, *, workers: int = 1, overwrite: bool = False) -> list[dict]:
-    """Run every meter folder; ``workers`` > 1 uses that many processes."""
+def _context():
+    methods = multiprocessing.get_all_start_methods()
+    return multiprocessing.get_context("fork" if "fork" in methods else "spawn")
+
+
+def run_fleet(folder, out_dir, options: dict, *, workers: int = 1, overwrite: bool = False,
+              workbooks: bool = False, uncertainty=True, progress=None, max_attempts: int = 3) -> FleetRun:
+    """Run every meter folder of ``folder`` on this machine.
+
+    Parameters
+    ----------
+    workers : int          processes (1: in this process, one meter after the other)
+    workbooks : bool       also write each meter's month workbook
+    uncertainty : bool or dict   as ``meterfix.month.run_files``
+    progress : callable(done, total, row), optional   called as each meter finishes
+    max_attempts : int     runs of a meter whose worker process died, in all
+    """
     dirs = meter_folders(folder)
-    if workers <= 1 or len(dirs) == 1:
-        return [run_meter(d, out_dir, options, overwrite) for d in dirs]
-    with ProcessPoolExecutor(max_workers=workers) as ex:
-        futs = [ex.submit(run_meter, d, out_dir, options, overwrite) for d in dirs]
-        return [f.result() for f in futs]
+    check_meter_names(dirs, options)
+    kwargs = {"overwrite": overwrite, "workbooks": workbooks, "uncertainty": uncertainty}
+    total = len(dirs)
+    rows: list = [None] * total
+
+    def done(i, row):
+        rows[i] = row
+        if progress is not None:
+            progress(sum(r is not None for r in rows), total, row)
+
+    if workers <= 1 or total == 1:
+        for i, d in enumerate(dirs):
+            done(i, run_meter(d, out_dir, options, **kwargs))
+        return FleetRun(rows, workers=1)
+
+    warm()  # inherited by forked workers; the initializer does it under spawn
+    retried: list = []
+    pending = list(range(total))
+    for attempt in range(1, max_attempts + 1):
+        if not pending:
+            break
+        if attempt > 1:
+            retried += [dirs[i].name for i in pending if dirs[i].name not in retried]
+        with ProcessPoolExecutor(max_workers=min(workers, len(pending)), mp_context=_context(),
+                                 initializer=warm) as ex:
+            futs = {ex.submit(run_meter, dirs[i], out_dir, options, **kwargs): i for i in pending}
+            lost = []
+            for fut in as_completed(futs):
+                i = futs[fut]
+                try:
+                    row = fut.result()
+                except BrokenProcessPool:
+                    lost.append(i)
+                    continue
+                row["attempts"] = attempt
+                done(i, row)
+        pending = sorted(lost)
+    from ..writers.fleet import error_row
+
+    failed = [dirs[i].name for i in pending]
+    for i in pending:
+        done(i, error_row(dirs[i].name, f"the worker process running this meter was lost {max_attempts} times "
+                          "(killed or out of memory); no result", status="failed", attempts=max_attempts))
+    return FleetRun(rows, retried=retried, failed=failed, workers=workers)

@@ -17,7 +17,8 @@ def output_stem(result) -> str:
     return f"{safe_name(result.settings.meter)}_{span}"
 
 
-def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, run=None) -> dict:
+def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, run=None,
+                  workbook: bool = True) -> dict:
     """Write every output of a month run into ``out_dir``; returns {kind: path}.
 
     ``run`` describes how the month was run from files (see meterfix.writers.manifest); the run
@@ -27,6 +28,9 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     Outputs: ``<stem>_intervals.csv`` (and ``<stem>_intervals.parquet`` when pyarrow is
     installed), ``<stem>_gas_days.csv``, ``<stem>_edits.csv`` (the quality edit record),
     ``<stem>.xlsx``, ``<stem>_manifest.json`` and ``<stem>_summary.json``.
+
+    ``workbook=False`` leaves the workbook out (``meterfix fleet`` without ``--workbooks``); the other
+    outputs are the same.
 
     Everything is computed before the first file is written, and every file is written to a
     temporary name and renamed, so a failed or killed run leaves no partial output.
@@ -38,12 +42,13 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     stem = output_stem(result)
     summary = summary_json(result)
     written = {}
-    try:
-        from .workbook import write_workbook
-    except ModuleNotFoundError as exc:
-        if exc.name != "meterfix.writers.workbook":
-            raise
-        write_workbook = None
+    write_workbook = None
+    if workbook:
+        try:
+            from .workbook import write_workbook
+        except ModuleNotFoundError as exc:
+            if exc.name != "meterfix.writers.workbook":
+                raise
     targets = {"summary": out / f"{stem}_summary.json", "intervals": out / f"{stem}_intervals.csv",
                "gas_days": out / f"{stem}_gas_days.csv", "edits": out / f"{stem}_edits.csv",
                "manifest": out / f"{stem}_manifest.json"}
