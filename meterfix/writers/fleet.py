@@ -73,6 +73,8 @@ def invoice_explanation(invoice: dict) -> str:
     parts = []
     for s in steps:
         name = "not explained" if s.get("step") == "unexplained" else str(s.get("step"))
+        if s.get("status") == "restatement":
+            name = f"restated to the invoice's {name}"
         parts.append(f"{name} {100.0 * s[key] / ours:+.3g} %")
     return "; ".join(parts) if parts else "nothing: no difference to explain"
 
@@ -83,7 +85,8 @@ def corrector_finding(check: dict) -> str:
     if findings:
         best = findings[0]
         causes = best.get("cause") or check.get("best") or "?"
-        return f"{causes} ({_pct_text(best.get('size_pct'))} of the month)"
+        below = ", below the threshold" if best.get("material") is False else ""
+        return f"{causes} ({_pct_text(best.get('size_pct'))} of the month{below})"
     return "tried, none found above the threshold" if check else ""
 
 
