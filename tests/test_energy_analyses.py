@@ -185,3 +185,14 @@ def test_hydrogen_ranges_of_the_z_methods_are_flagged(h2, detail_range):
     # energy: a hydrogen blend is within ISO 6976 (Z > 0.9 at the metering reference)
     e = analysis_energy(g, temperature_combustion=T25, temperature_metering=T0, pressure_metering=101325.0)
     assert e.edition == "ISO 6976:2016" and np.isfinite(e.gross_volumetric)
+
+
+def test_an_unknown_component_column_is_refused_with_the_closest_names(tmp_path):
+    from meterfix.readers import read_analyses
+
+    f = tmp_path / "lab.csv"
+    f.write_text("Effective from,methane [mol%],ethane [mol%],neopentan [mol%],N2 [mol%]\n"
+                 "2026-10-01 06:00,94.0,4.0,0.5,1.5\n")
+    with pytest.raises(CompositionError, match="closest known: neopentane") as e:
+        read_analyses(f)
+    assert e.value.column == "neopentan [mol%]"

@@ -91,7 +91,8 @@ def _properties(composition, gas, t1_text, t2_text, p2_text, edition, as_json):
                f"{t2 - 273.15:.4g} degC and {pq.value / 1000:.6g} kPa")
     typer.echo(f"  analysis total as given  {g.sum_as_given * 100:.6g} mol% (normalised to 100 %)")
     for n in g.notes:
-        typer.echo(f"  note: {n}")
+        if "for Z" not in n and "energy only" not in n:  # the Z methods play no part here
+            typer.echo(f"  note: {n}")
     unc = res.standard_uncertainty
     head = f"  {'':34} {'value':>14}  {'unit':<7}" + ("  u (k = 1)" if unc else "")
     typer.echo(head)

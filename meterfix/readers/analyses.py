@@ -145,6 +145,14 @@ def parse_analyses(fileobj, *, name: str = "<analysis>", timezone: str = "UTC", 
     return _table(t, heads, timezone)
 
 
+def _is_fraction_unit(unit_text: str) -> bool:
+    try:
+        parse_unit(unit_text, "fraction")
+        return True
+    except UnitError:
+        return False
+
+
 def _fraction_scale(unit_text: str, where) -> float | None:
     """Scale to mole fractions for an amount unit; None when no unit is given."""
     if not unit_text:
@@ -250,6 +258,19 @@ def _one_analysis(t: RawTable, comp_col: int, heads) -> Composition:
 def _table(t: RawTable, heads, timezone):
     tcol = next(((j, h) for j, h, n, u in heads if _norm(n) in _TIME_WORDS), None)
     comps = [(j, h, _component(n), u) for j, h, n, u in heads if _component(n) is not None]
+    for j, h, n, u in heads:
+        # a column in an amount unit that names no known component is refused, never dropped
+        if _component(n) is not None or _norm(n).startswith(_PROPERTY_WORDS):
+            continue
+        named = [(cn, cu) for cn, cu, explicit in _candidates(h) if explicit and cu and _is_fraction_unit(cu)]
+        if named and _component(named[0][0]) is None and not _norm(named[0][0]).startswith(_PROPERTY_WORDS) \
+                and _norm(named[0][0]) not in _AMOUNT_WORDS:
+            n = named[0][0]
+            close = ISO.closest_names(n)
+            raise CompositionError(f"unknown gas component '{n}'" + (f"; closest known: {', '.join(close)}"
+                                                                    if close else ""), **t.where(t.header_row, h),
+                                   hint="name the column after a component of ISO 6976 (methane, neopentane, "
+                                        "benzene ...) or an alias (CH4, nC4, neoC5, CO2)")
     raw_names = {j: str(n).strip() for j, h, n, u in heads if _component(n) is not None}
     gross = {}
     for j, h, n, u in heads:
