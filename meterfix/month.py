@@ -12,7 +12,7 @@ from .engine.settings import Settings
 
 
 def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=None,
-              uncertainty: bool = True, progress=None) -> MonthResult:
+              uncertainty: bool = True, progress=None, with_frame: bool = False):
     """Read the log file(s) of one meter and the analyses, run the month, attach later steps.
 
     Parameters
@@ -24,6 +24,12 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
     invoice : path, optional        supplier invoice to reconcile
     uncertainty : bool              attach the month's uncertainty (GUM budget and Monte Carlo)
     progress : callable, optional   ``progress(stage: str, fraction: float)`` as the run goes on
+    with_frame : bool               also return the quality-checked interval frame the engine ran
+                                    on (the store keeps its records): ``(result, frame)``
+
+    Returns
+    -------
+    MonthResult, or (MonthResult, DataFrame) with ``with_frame``
     """
     def step(text, fraction):
         if progress is not None:
@@ -53,4 +59,4 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
         step("checking the site corrector", 0.9)
         result.corrector_check = CC.check_corrector(result, frame)
     step("done", 1.0)
-    return result
+    return (result, frame) if with_frame else result

@@ -230,6 +230,7 @@ def main(argv: Optional[List[str]] = None) -> int:
 from . import correct  # noqa: E402,F401  (registers 'correct' and the commands built on it)
 from . import fleet  # noqa: E402,F401  (registers 'fleet')
 from . import properties  # noqa: E402,F401  (registers 'properties')
+from . import store  # noqa: E402,F401  (registers 'history' and 'verify')
 
 if __name__ == "__main__":  # pragma: no cover
     sys.exit(main())

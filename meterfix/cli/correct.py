@@ -74,6 +74,9 @@ def correct_command(
     fail_on: Optional[float] = typer.Option(None, "--fail-on", help="Exit 1 when a finding (ideal-gas, invoice or corrector error) exceeds this percent."),
     overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
     manifest: Optional[Path] = typer.Option(None, "--manifest", help="Re-run a month exactly from a run manifest written earlier."),
+    store: Optional[str] = typer.Option(None, "--store", help="Close the month into a store: a SQLite file (created if missing) or a PostgreSQL URL; also the site-file key 'store'."),
+    by: Optional[str] = typer.Option(None, "--by", help="Who closes the month (kept in the store with the closing and its edits)."),
+    reason: Optional[str] = typer.Option(None, "--reason", help="Why; required when the month is already closed in the store (a new version is added)."),
     quiet: bool = typer.Option(False, "--quiet", help="No console summary."),
 ):
     """Correct a month of one meter's log to contract base conditions and write the outputs."""
@@ -109,20 +112,33 @@ def _correct(a: dict) -> int:
     protect_inputs(inputs)
     from .console import progress_bar
 
-    with progress_bar(enabled=not a.get("quiet")) as progress:
-        result = run_files(a["logs"], settings, composition=a.get("composition"), gas=a.get("gas"),
-                           invoice=a.get("invoice"), progress=progress)
-    from ..writers import write_outputs
+    from ..store.job import Closer
 
+    closer = Closer(a.get("store"), a.get("by"), a.get("reason"))
     run = {"logs": list(a["logs"]), "composition": a.get("composition"), "gas": a.get("gas"),
            "invoice": a.get("invoice"), "site_file": a.get("site_file"), "uncertainty": True,
            "options": {k: v for k, v in options.items() if v is not None}}
-    written = write_outputs(result, a["out"], overwrite=a.get("overwrite", False), json_file=a.get("json_file"),
-                            run=run)
+
+    def compute():
+        with progress_bar(enabled=not a.get("quiet")) as progress:
+            return run_files(a["logs"], settings, composition=a.get("composition"), gas=a.get("gas"),
+                             invoice=a.get("invoice"), progress=progress, with_frame=True)
+
+    def write(result):
+        from ..writers import write_outputs
+
+        return write_outputs(result, a["out"], overwrite=a.get("overwrite", False), json_file=a.get("json_file"),
+                             run=run)
+
+    site_dir = Path(a["site_file"]).resolve().parent if a.get("site_file") else None
+    result, written, closing = closer.run(settings, compute, write, base_dir=site_dir)
     if not a.get("quiet"):
         from .console import print_summary
 
         print_summary(result, written)
+        if closing is not None:
+            typer.echo(f"  closed             {closing['meter']} {closing['month']} version {closing['version']} "
+                       f"into {closing['store']} at {closing['closed_at']}")
     return _exit_code(result, settings.fail_on)
 
 

@@ -26,13 +26,23 @@ def fleet_command(
     base_pressure: Optional[str] = typer.Option(None, "--base-pressure", help="Base pressure for every meter."),
     base_temperature: Optional[str] = typer.Option(None, "--base-temperature", help="Base temperature for every meter."),
     overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
+    store: Optional[str] = typer.Option(None, "--store", help="Close every meter's month into this store (SQLite file or PostgreSQL URL; with --scheduler a URL or a path every worker sees); else each site file's 'store', if any."),
+    by: Optional[str] = typer.Option(None, "--by", help="Who closes the months (kept in the store)."),
+    reason: Optional[str] = typer.Option(None, "--reason", help="Why; required for a meter whose month is already closed in the store."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress; only the closing lines."),
 ):
     """Correct the month of many meters (one folder each) and write the fleet table."""
     try:
+        from ..store.job import Closer
+
+        closer = Closer(store, by, reason)
+        if store:
+            from ..store import check_store, open_store
+
+            check_store(open_store(store))  # before any meter is computed
         code = _fleet(folder, out, workers=workers, scheduler=scheduler, workbooks=workbooks, overwrite=overwrite,
                       quiet=quiet, options={"method": method, "base": base, "base_pressure": base_pressure,
-                                            "base_temperature": base_temperature})
+                                            "base_temperature": base_temperature}, closer=closer)
     except MeterfixError as exc:
         _fail(exc)
     raise typer.Exit(code)
@@ -76,7 +86,7 @@ def _progress(enabled: bool):
         yield update
 
 
-def _fleet(folder, out, *, workers, scheduler, workbooks, overwrite, quiet, options) -> int:
+def _fleet(folder, out, *, workers, scheduler, workbooks, overwrite, quiet, options, closer=None) -> int:
     from ..writers.atomic import protect_inputs
     from ..writers.fleet import check_fleet_targets, write_fleet_outputs
 
@@ -91,12 +101,12 @@ def _fleet(folder, out, *, workers, scheduler, workbooks, overwrite, quiet, opti
             from ..fleet.dask import run_fleet_dask
 
             run = run_fleet_dask(folder, out, options, scheduler=scheduler, overwrite=overwrite,
-                                 workbooks=workbooks, progress=progress)
+                                 workbooks=workbooks, progress=progress, closer=closer)
         else:
             from ..fleet.local import run_fleet
 
             run = run_fleet(folder, out, options, workers=workers, overwrite=overwrite, workbooks=workbooks,
-                            progress=progress)
+                            progress=progress, closer=closer)
     seconds = time.perf_counter() - t0
     written = write_fleet_outputs(run.rows, out, overwrite=overwrite, run={
         "runner": run.runner, "workers": run.workers, "workbooks": workbooks,

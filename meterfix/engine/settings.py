@@ -67,6 +67,8 @@ class Settings:
     fail_on : float or None           exit 1 when a finding exceeds this (percent)
     invoice_pressure_base : float or None [Pa]   the invoice's base pressure when it does not state it
     invoice_temperature_base : float or None [K] the invoice's base temperature when it does not state it
+    store : str or None               where closed months are kept: a SQLite file (relative to the
+                                      site file) or a PostgreSQL URL (meterfix.store); --store wins
     """
 
     meter: str = "meter"
@@ -99,6 +101,7 @@ class Settings:
     register_digits: int | None = None
     invoice_pressure_base: float | None = None
     invoice_temperature_base: float | None = None
+    store: str | None = None
     files: dict = field(default_factory=dict)  # [files] table: logs (globs), composition, invoice
     sources: dict = field(default_factory=dict)  # setting name -> 'default' | 'site file' | 'option'
 
@@ -138,6 +141,7 @@ SETTING_KINDS = {
                                                 "not state it"),
     "fail_on": (float, "percent; exit code 1 when a finding exceeds it"),
     "register_digits": (int, "digits of the meter index register (rollover at 10^n)"),
+    "store": (str, "where closed months are kept: a SQLite file (relative to this file) or a PostgreSQL URL"),
 }
 
 
@@ -281,7 +285,7 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
         except UnitError as exc:
             fail(name, exc.message, exc.hint)
 
-    for name in ("meter", "site", "timezone", "method", "substitution", "interval_label"):
+    for name in ("meter", "site", "timezone", "method", "substitution", "interval_label", "store"):
         if name in raw:
             setattr(s, name, str(raw[name]))
     if "energy_edition" in raw:

@@ -56,7 +56,8 @@ def task_key(folder_name: str, token: str) -> str:
 
 
 def run_fleet_dask(folder, out_dir, options: dict, *, scheduler: str, overwrite: bool = False,
-                   workbooks: bool = False, uncertainty=True, progress=None, connect_timeout: float = 20.0) -> FleetRun:
+                   workbooks: bool = False, uncertainty=True, progress=None, connect_timeout: float = 20.0,
+                   closer=None) -> FleetRun:
     """Run every meter folder of ``folder`` on the Dask cluster at ``scheduler``.
 
     Parameters as :func:`meterfix.fleet.local.run_fleet`; ``scheduler`` is the scheduler's
@@ -77,7 +78,7 @@ def run_fleet_dask(folder, out_dir, options: dict, *, scheduler: str, overwrite:
         futures = {}
         for i, d in enumerate(dirs):
             fut = client.submit(run_meter, str(d), str(out), dict(options), overwrite=overwrite, workbooks=workbooks,
-                                uncertainty=uncertainty, key=task_key(d.name, token), pure=False)
+                                uncertainty=uncertainty, closer=closer, key=task_key(d.name, token), pure=False)
             futures[fut] = i
         rows: list = [None] * len(dirs)
         failed = []

@@ -72,7 +72,8 @@ def _context():
 
 
 def run_fleet(folder, out_dir, options: dict, *, workers: int = 1, overwrite: bool = False,
-              workbooks: bool = False, uncertainty=True, progress=None, max_attempts: int = 3) -> FleetRun:
+              workbooks: bool = False, uncertainty=True, progress=None, max_attempts: int = 3,
+              closer=None) -> FleetRun:
     """Run every meter folder of ``folder`` on this machine.
 
     Parameters
@@ -82,10 +83,11 @@ def run_fleet(folder, out_dir, options: dict, *, workers: int = 1, overwrite: bo
     uncertainty : bool or dict   as ``meterfix.month.run_files``
     progress : callable(done, total, row), optional   called as each meter finishes
     max_attempts : int     runs of a meter whose worker process died, in all
+    closer : meterfix.store.job.Closer, optional   closes each month into a store (see run_meter)
     """
     dirs = meter_folders(folder)
     check_meter_names(dirs, options)
-    kwargs = {"overwrite": overwrite, "workbooks": workbooks, "uncertainty": uncertainty}
+    kwargs = {"overwrite": overwrite, "workbooks": workbooks, "uncertainty": uncertainty, "closer": closer}
     total = len(dirs)
     rows: list = [None] * total
 

@@ -85,7 +85,7 @@ def output_folder(out_dir, settings) -> Path:
 
 
 def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, workbooks: bool = False,
-              uncertainty: bool | dict = True) -> dict:
+              uncertainty: bool | dict = True, closer=None) -> dict:
     """Run one meter folder and write its outputs; returns its fleet-table row.
 
     Parameters
@@ -96,6 +96,8 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
     overwrite : bool       replace existing outputs
     workbooks : bool       also write the meter's month workbook
     uncertainty : bool or dict   as ``meterfix.month.run_files``
+    closer : meterfix.store.job.Closer, optional   closes the month into a store (handed down by
+                           the CLI: ``closer.run(settings, compute, write, base_dir=meter_dir)``)
 
     Never raises for bad input or settings: the row's ``status`` is ``"error"`` and ``error`` holds
     the message (file, sheet, row, column and the fix, as ``meterfix correct`` prints it).
@@ -109,16 +111,28 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
 
         settings = meter_settings(meter_dir, options)
         logs, comp, inv = meter_inputs(meter_dir, settings)
-        result = run_files(logs, settings, composition=comp, invoice=inv, uncertainty=uncertainty)
         run = {"logs": logs, "composition": comp, "gas": None, "invoice": inv, "site_file": meter_dir / "site.toml",
                "uncertainty": uncertainty, "options": {k: v for k, v in options.items() if v is not None}}
         target = output_folder(out_dir, settings)
-        written = write_outputs(result, target, overwrite=overwrite, run=run, workbook=workbooks)
+
+        def write(result):
+            return write_outputs(result, target, overwrite=overwrite, run=run, workbook=workbooks)
+
+        closing = None
+        if closer is None:
+            result = run_files(logs, settings, composition=comp, invoice=inv, uncertainty=uncertainty)
+            written = write(result)
+        else:
+            result, written, closing = closer.run(
+                settings, lambda: run_files(logs, settings, composition=comp, invoice=inv, uncertainty=uncertainty,
+                                            with_frame=True), write, base_dir=meter_dir)
         # the row says what the meter's own summary says: read back as written (cheaper than building it again)
         summary = json.loads(Path(written["summary"]).read_text(encoding="utf-8"))
         row = fleet_row(meter_dir.name, summary, written, out_dir)
         row["flagged_intervals"] = int(result.intervals["flagged"].sum())
         row["_display_units"] = dict(settings.display_units or {})
+        if closing is not None:
+            row["store_month"], row["store_version"] = closing["month"], closing["version"]
         return row
     except MeterfixError as exc:
         return error_row(meter_dir.name, str(exc))
