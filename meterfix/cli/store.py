@@ -73,25 +73,26 @@ def _fleet_view(df, meters):
     from ..store.history import trend
 
     echo = typer.echo
-    head = (f"  {'meter':<16} {'months':<17} {'vers':>4} {'latest':>7} {'base volume':>14} {'energy':>10} "
-            f"{'ideal-gas':>9} {'invoice':>8} {'U':>6} {'trend':>12}")
+    head = (f"  {'meter':<16} {'months':<19} {'closings':>8}  {'latest':<7} {'base volume':>14} {'energy':>10} "
+            f"{'ideal-gas':>9} {'invoice':>8} {'U':>5} {'trend':>8}")
     echo("")
     echo(head)
-    echo(f"  {'':<16} {'':<17} {'':>4} {'month':>7} {'m3':>14} {'GJ':>10} {'error %':>9} {'diff %':>8} "
-         f"{'%':>6} {'%/month':>12}")
+    echo(f"  {'':<16} {'':<19} {'':>8}  {'month':<7} {'m3':>14} {'GJ':>10} {'error %':>9} {'diff %':>8} "
+         f"{'%':>5} {'%/month':>8}")
     for m in meters:
         g = df[df["meter"] == m]
         lat = g[g["latest"]].sort_values("month")
         last = lat.iloc[-1]
         tr = trend(g)
         span = lat["month"].iloc[0] + (f" to {last['month']}" if len(lat) > 1 else "")
-        echo(f"  {m[:16]:<16} {span:<17} {len(g):>4} {last['month'][2:]:>7} {_num(last['base_volume_m3'], ',.1f'):>14} "
+        echo(f"  {m[:16]:<16} {span:<19} {len(g):>8}  {last['month']:<7} {_num(last['base_volume_m3'], ',.1f'):>14} "
              f"{_num(_gj(last['energy_mj']), ',.1f'):>10} {_num(last['ideal_gas_error_pct'], '+.3f'):>9} "
-             f"{_num(last['invoice_difference_pct'], '+.2f'):>8} {_num(last['expanded_uncertainty_pct'], '.2f'):>6} "
-             f"{_num(tr['base_volume_pct_per_month'], '+.2f'):>12}")
+             f"{_num(last['invoice_difference_pct'], '+.2f'):>8} {_num(last['expanded_uncertainty_pct'], '.2f'):>5} "
+             f"{_num(tr['base_volume_pct_per_month'], '+.2f'):>8}")
     echo("")
-    echo("  trend: least-squares slope of the base volume over the months (latest version of each), three "
-         "months or more; 'meterfix history --meter M' shows a meter's versions")
+    echo("  trend: least-squares slope of the monthly base volume (latest version of each month), in % of its "
+         "mean per month;")
+    echo("  three months or more. 'meterfix history --store S --meter M' shows a meter's months and versions.")
 
 
 def _meter_view(df, meter):
@@ -132,7 +133,9 @@ def _difference_lines(d: dict) -> list:
     out = []
     for k, e in (d.get("totals") or {}).items():
         pct = e.get("change_pct")
-        out.append(f"{k}: {e.get('old')} -> {e.get('new')}" + (f" ({pct:+.4f} %)" if isinstance(pct, float) else ""))
+        old, new = e.get("old"), e.get("new")
+        fmt = (lambda v: format(v, ".9g") if isinstance(v, float) else str(v))  # noqa: E731
+        out.append(f"{k}: {fmt(old)} -> {fmt(new)}" + (f" ({pct:+.4f} %)" if isinstance(pct, float) else ""))
     for kind, files in (d.get("inputs") or {}).items():
         out.append(f"inputs {kind}: " + ", ".join(files))
     for s in d.get("settings") or []:

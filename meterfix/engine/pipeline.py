@@ -80,6 +80,9 @@ class MonthResult:
     inputs : list of dict      file names and sha256
     warnings : list of str
     uncertainty, reconciliation, corrector_check : filled by the later steps (or None)
+    history : DataFrame or None  the meter's stored months (meterfix.store fills it when a store is
+                               used; one row per month and version, newest last, SI with units in
+                               the column names)
     """
 
     settings: Settings
@@ -100,6 +103,7 @@ class MonthResult:
     uncertainty: object = None
     reconciliation: object = None
     corrector_check: object = None
+    history: object = None
 
 
 # ---------------------------------------------------------------------------------------------
