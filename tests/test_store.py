@@ -340,3 +340,23 @@ def test_postgres_wrong_password_and_missing_database_exit_2():
         assert r.exit_code == 2 and "password" in r.output and "not-the-password" not in r.output
         r = CliRunner().invoke(app, ["history", "--store", user_host + "/mf_no_such_database"])
         assert r.exit_code == 2 and "does not exist" in r.output
+
+
+def test_the_demo_month_closes_and_verifies_with_its_invoice_and_corrector_checks(tmp_path):
+    """The shipped demo month (two analyses, six substituted hours, an invoice, a site corrector)."""
+    demo = Path(__file__).resolve().parents[1] / "fixtures" / "demo"
+    store = tmp_path / "months.sqlite"
+    r = CliRunner().invoke(app, ["correct", str(demo / "fv-m1_log_2026-10.csv"), "--site", str(demo / "site.toml"),
+                                 "--composition", str(demo / "fv-m1_analyses_2026-10.csv"),
+                                 "--invoice", str(demo / "harrowgate_invoice_2026-10.xlsx"),
+                                 "--out", str(tmp_path / "out"), "--store", str(store), "--by", "R. Okafor"])
+    assert r.exit_code == 0, r.output
+    assert "version 1" in r.output
+    r = CliRunner().invoke(app, ["verify", "--store", str(store), "--meter", "FV-M1", "--month", "2026-10"])
+    assert r.exit_code == 0, r.output
+    e = json.loads(CliRunner().invoke(app, ["history", "--store", str(store), "--meter", "FV-M1", "--json"]).output)
+    entry = e["entries"][0]
+    summary = json.loads(next((tmp_path / "out").glob("*_summary.json")).read_text())
+    assert entry["totals"]["energy_MJ"] == summary["totals"]["energy_MJ"]
+    assert entry["invoice_difference_pct"] is not None and entry["corrector_deviation_pct"] is not None
+    assert entry["expanded_uncertainty_pct"] == pytest.approx(summary["totals"]["expanded_uncertainty_pct"])

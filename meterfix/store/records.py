@@ -128,22 +128,45 @@ def closing_hash(row: dict) -> str:
 
 
 # ---------------------------------------------------------------------------------------------
+def _encode(v):
+    """A dataclass field as plain JSON data; arrays keep their shape, tuples their kind."""
+    if isinstance(v, np.ndarray):
+        return {"__array__": [float(x) for x in v.astype(float).ravel()], "shape": list(v.shape)}
+    if isinstance(v, tuple):
+        return {"__tuple__": [_encode(x) for x in v]}
+    if isinstance(v, dict):
+        return {str(k): _encode(x) for k, x in v.items()}
+    if isinstance(v, list):
+        return [_encode(x) for x in v]
+    return _plain(v)
+
+
+def _decode(v):
+    if isinstance(v, dict):
+        if "__array__" in v:
+            return np.asarray(v["__array__"], float).reshape(v["shape"])
+        if "__tuple__" in v:
+            return tuple(_decode(x) for x in v["__tuple__"])
+        return {k: _decode(x) for k, x in v.items()}
+    if isinstance(v, list):
+        return [_decode(x) for x in v]
+    return v
+
+
 def analyses_record(analyses) -> list:
-    """The analyses in force (effective time and gas) as plain data."""
+    """The analyses in force (effective time and every field of the gas) as plain data."""
+    import dataclasses
+
     out = []
     for a in analyses:
         gas = a.gas
         when = None if a.effective_from is None else pd.Timestamp(a.effective_from).isoformat()
         if gas is None:
             out.append({"effective_from": when, "kind": "none"})
-        elif hasattr(gas, "fractions"):
-            out.append({"effective_from": when, "kind": "composition",
-                        "fractions": [float(x) for x in np.asarray(gas.fractions, float)],
-                        "sum_as_given": float(gas.sum_as_given), "notes": list(gas.notes)})
-        else:
-            import dataclasses
-
-            out.append({"effective_from": when, "kind": "gross", **plain(dataclasses.asdict(gas))})
+            continue
+        kind = "composition" if hasattr(gas, "fractions") else "gross"
+        fields = {f.name: _encode(getattr(gas, f.name)) for f in dataclasses.fields(gas)}
+        out.append({"effective_from": when, "kind": kind, "fields": fields})
     return out
 
 
@@ -157,13 +180,10 @@ def analyses_from_record(items) -> list:
         when = None if a.get("effective_from") is None else pd.Timestamp(a["effective_from"])
         kind = a.get("kind")
         if kind == "none":
-            gas = None
-        elif kind == "composition":
-            gas = Composition(fractions=np.asarray(a["fractions"], float), sum_as_given=a["sum_as_given"],
-                              notes=tuple(a.get("notes") or ()))
-        else:
-            gas = GrossCharacterization(**{k: v for k, v in a.items() if k not in ("effective_from", "kind")})
-        out.append((when, gas))
+            out.append((when, None))
+            continue
+        cls = Composition if kind == "composition" else GrossCharacterization
+        out.append((when, cls(**{k: _decode(v) for k, v in a["fields"].items()})))
     return out
 
 
