@@ -125,6 +125,7 @@ def sheet_frame(df: pd.DataFrame, months: int = 12) -> pd.DataFrame:
     keep = sorted(df["month"].unique())[-months:]
     part = df[df["month"].isin(keep)].sort_values(["month", "version"])
     out = part[list(SHEET_COLUMNS)].rename(columns=SHEET_COLUMNS).reset_index(drop=True)
+    out["closed_at_utc"] = pd.to_datetime(out["closed_at_utc"], utc=True)
     for c in out.columns:
         if c.endswith(("_m3", "_MJ", "_pct")):
             out[c] = pd.to_numeric(out[c], errors="coerce").astype(float)
