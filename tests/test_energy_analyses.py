@@ -172,16 +172,19 @@ def test_table_of_analyses_with_isomers_and_a_lump(tmp_path):
     assert any("lumped as n_heptane" in n for n in g1.notes)
 
 
-@pytest.mark.parametrize("h2, detail_range", [(0.05, "normal"), (0.20, "extended")])
-def test_hydrogen_ranges_of_the_z_methods_are_flagged(h2, detail_range):
-    # DETAIL: hydrogen up to 10 % in the normal range, to 100 % in the extended range (AGA8 Part 1, from
-    # memory, as in z/aga8_detail.py); GERG-2008: the whole composition range of its components (from memory)
+@pytest.mark.parametrize("h2, detail_range, gross_range", [(0.05, "normal", "normal"), (0.20, "extended", "outside")])
+def test_hydrogen_ranges_of_the_z_methods_are_flagged(h2, detail_range, gross_range):
+    # DETAIL: hydrogen up to 10 % in the normal range, to 100 % in the extended range; GROSS: the same
+    # normal composition range, outside it beyond (AGA8 Part 1, from memory, as in z/aga8_detail.py and
+    # z/aga8_gross.py); GERG-2008: the whole composition range of its components (from memory)
     from meterfix.z import evaluate_z
     from meterfix.z.base import RANGE_NAMES
 
-    g = Composition.from_mapping({"methane": 1 - h2, "hydrogen": h2})
+    g = Composition.from_mapping({"methane": 0.93 - h2, "hydrogen": h2, "nitrogen": 0.02, "ethane": 0.05})
     assert RANGE_NAMES[int(evaluate_z(50e5, 288.15, g, "aga8-detail").range_class)] == detail_range
     assert RANGE_NAMES[int(evaluate_z(50e5, 288.15, g, "gerg-2008").range_class)] == "normal"
+    for gross in ("aga8-gross1", "aga8-gross2"):
+        assert RANGE_NAMES[int(evaluate_z(50e5, 288.15, g, gross).range_class)] == gross_range
     # energy: a hydrogen blend is within ISO 6976 (Z > 0.9 at the metering reference)
     e = analysis_energy(g, temperature_combustion=T25, temperature_metering=T0, pressure_metering=101325.0)
     assert e.edition == "ISO 6976:2016" and np.isfinite(e.gross_volumetric)
