@@ -176,3 +176,61 @@ def test_fleet_workbook_bytes_repeat_and_parquet_matches(tmp_path):
     frame = fleet_frame(rows)
     assert list(table.columns) == list(frame.columns)
     assert table["base_volume_m3"].tolist()[1:] == frame["base_volume_m3"].tolist()[1:]
+
+
+def test_meters_of_a_lost_local_worker_are_run_again(tmp_path):
+    """A worker process killed mid-run (as by the out-of-memory killer): its meters run again in
+    fresh processes, the fleet table and the closing lines say so, and nothing is lost."""
+    import os
+    import signal
+    import subprocess
+    import sys
+    import threading
+    import time
+
+    psutil = pytest.importorskip("psutil")
+    from test_fleet_dask import _feed_fifo, _meter
+
+    if not hasattr(os, "mkfifo"):
+        pytest.skip("named pipes")
+    root = tmp_path / "fleet"
+    _meter(root, "lark-hollow-1", "Lark Hollow 1", seed=0)
+    slow = _meter(root, "slow-m5", "Slow M5", seed=7)
+    gas = (slow / "gas.csv").read_bytes()
+    (slow / "gas.csv").unlink()
+    os.mkfifo(slow / "gas.csv")  # the worker running this meter waits on it until the test feeds it
+    out = tmp_path / "out"
+    env = dict(os.environ, PYTHONPATH=str(FIXTURES.parent) + os.pathsep + os.environ.get("PYTHONPATH", ""))
+    run = subprocess.Popen([sys.executable, "-m", "meterfix", "fleet", str(root), "--out", str(out), "--workers", "2"],
+                           stdout=subprocess.PIPE, stderr=subprocess.STDOUT, env=env)
+    stop = threading.Event()
+    feeder = threading.Thread(target=_feed_fifo, args=(slow / "gas.csv", gas, stop), daemon=True)
+    try:
+        deadline = time.monotonic() + 60
+        # the other meter done, the slow one waiting: kill a worker process of the pool
+        while not list((out / "Lark_Hollow_1").glob("*_summary.json")) if (out / "Lark_Hollow_1").exists() else True:
+            assert time.monotonic() < deadline and run.poll() is None, "the fleet run did not get going"
+            time.sleep(0.05)
+        workers = psutil.Process(run.pid).children()
+        assert workers
+        os.kill(workers[0].pid, signal.SIGKILL)
+        time.sleep(0.5)
+        feeder.start()
+        output, _ = run.communicate(timeout=90)
+    finally:
+        stop.set()
+        if run.poll() is None:
+            run.kill()
+            run.wait(timeout=10)
+        if feeder.is_alive():
+            try:
+                os.close(os.open(slow / "gas.csv", os.O_RDONLY | os.O_NONBLOCK))
+            except OSError:
+                pass
+            feeder.join(timeout=10)
+    text = output.decode()
+    assert run.returncode == 0, text
+    assert "run again after their worker was lost: slow-m5" in text
+    rows = {r["meter_folder"]: r for r in json.loads((out / "fleet_summary.json").read_text())}
+    assert rows["slow-m5"]["status"] == "ok" and rows["slow-m5"]["attempts"] == 2
+    assert rows["lark-hollow-1"]["attempts"] == 1

@@ -84,6 +84,13 @@ def output_folder(out_dir, settings) -> Path:
     return Path(out_dir) / safe_name(settings.meter)
 
 
+def interrupted(target: Path, stem: str) -> bool:
+    """True when ``target`` holds outputs of this month without its summary: the leftovers of a run
+    that was killed while writing (the summary is written last), which a new run replaces."""
+    return (Path(target).is_dir() and not (Path(target) / f"{stem}_summary.json").exists()
+            and any(Path(target).glob(f"{stem}*")))
+
+
 def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, workbooks: bool = False,
               uncertainty: bool | dict = True, closer=None) -> dict:
     """Run one meter folder and write its outputs; returns its fleet-table row.
@@ -99,6 +106,9 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
     closer : meterfix.store.job.Closer, optional   closes the month into a store (handed down by
                            the CLI: ``closer.run(settings, compute, write, base_dir=meter_dir)``)
 
+    Outputs of a run of the same month that was killed while writing them (no summary yet) are
+    replaced: a meter run again after its worker was lost writes its complete set.
+
     Never raises for bad input or settings: the row's ``status`` is ``"error"`` and ``error`` holds
     the message (file, sheet, row, column and the fix, as ``meterfix correct`` prints it).
     """
@@ -107,7 +117,7 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
     meter_dir = Path(meter_dir)
     try:
         from ..month import run_files
-        from ..writers import write_outputs
+        from ..writers import output_stem, write_outputs
 
         settings = meter_settings(meter_dir, options)
         logs, comp, inv = meter_inputs(meter_dir, settings)
@@ -116,7 +126,8 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
         target = output_folder(out_dir, settings)
 
         def write(result):
-            return write_outputs(result, target, overwrite=overwrite, run=run, workbook=workbooks)
+            return write_outputs(result, target, overwrite=overwrite or interrupted(target, output_stem(result)),
+                                 run=run, workbook=workbooks)
 
         closing = None
         if closer is None:
