@@ -19,7 +19,7 @@ def fleet_command(
     folder: Path = typer.Argument(..., help="Folder with one sub-folder per meter, each holding a site.toml and its logs."),
     out: Path = typer.Option(..., "--out", help="Folder for the outputs: the fleet table (fleet_summary.xlsx/.csv/.json) and one sub-folder per meter."),
     workers: int = typer.Option(1, "--workers", min=1, help="Meters processed in parallel on this machine (processes)."),
-    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="Run on a Dask cluster instead: the scheduler's address, e.g. tcp://10.0.0.5:8786 (pip install \"meterfix[dask]\"). FOLDER and --out must be paths every worker sees."),
+    scheduler: Optional[str] = typer.Option(None, "--scheduler", help="Run on a Dask cluster instead: the scheduler's address, e.g. tcp://HOST:8786 (pip install \"meterfix[dask]\"). FOLDER and --out must be paths every worker sees."),
     workbooks: bool = typer.Option(False, "--workbooks", help="Also write each meter's month workbook (slower; the JSON summary and CSV tables are always written)."),
     method: Optional[str] = typer.Option(None, "--method", help="Z method for every meter (overrides site files)."),
     base: Optional[str] = typer.Option(None, "--base", help="Named base conditions for every meter."),
