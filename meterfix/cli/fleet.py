@@ -35,11 +35,14 @@ def fleet_command(
     try:
         from ..store.job import Closer
 
-        closer = Closer(store, by, reason)
         if store:
             from ..store import check_store, open_store
 
-            check_store(open_store(store))  # before any meter is computed
+            st = open_store(store)
+            check_store(st)  # before any meter is computed
+            if st.kind == "sqlite":
+                store = str(st.path.resolve())  # the same file from every worker, whatever its folder
+        closer = Closer(store, by, reason)
         code = _fleet(folder, out, workers=workers, scheduler=scheduler, workbooks=workbooks, overwrite=overwrite,
                       quiet=quiet, options={"method": method, "base": base, "base_pressure": base_pressure,
                                             "base_temperature": base_temperature}, closer=closer)

@@ -3,7 +3,8 @@
 Interval records
     One row per interval of the frame the engine ran on, in time order. ``payload`` is canonical
     JSON (sorted keys, floats written by ``repr``, so every double comes back bit for bit; NaN as
-    null): ``t`` the interval end [ns since 1970, UTC], ``in`` the values *as read* (where the
+    null; a flag that is false left out): ``t`` the interval end [ns since 1970, UTC], ``in`` the
+    values *as read* (where the
     quality stage substituted a value, the original from its ``<column>_raw``), ``out`` what the
     month run computed for the interval (Z at line conditions, base volume real and ideal, mass,
     energy; SI).
@@ -77,9 +78,11 @@ def record_payloads(frame: pd.DataFrame, intervals: pd.DataFrame) -> tuple[np.nd
         values[c] = (frame[raw] if raw in frame.columns else frame[c]).tolist()
     out = {c: intervals[c].to_numpy(float).tolist() for c in RESULT_COLUMNS if c in intervals.columns}
     t = frame.index.as_unit("ns").asi8
+    flags = {c for c, dtype in frame_columns(frame) if dtype == "bool"}
     payloads = []
     for i in range(len(frame)):
-        payloads.append(canonical({"t": int(t[i]), "in": {c: _plain(values[c][i]) for c in cols},
+        rec = {c: _plain(values[c][i]) for c in cols}
+        payloads.append(canonical({"t": int(t[i]), "in": {c: v for c, v in rec.items() if not (v is False and c in flags)},
                                    "out": {c: _plain(out[c][i]) for c in out}}))
     return t, payloads
 
@@ -200,7 +203,7 @@ def frame_from_records(columns: list, records: list, edits: list) -> pd.DataFram
     for name, dtype in columns:
         vals = [d["in"].get(name) for d in data]
         if dtype == "bool":
-            cols[name] = np.array([bool(v) for v in vals], dtype=bool)
+            cols[name] = np.array([bool(v) for v in vals], dtype=bool)  # a false flag is left out
         elif dtype.startswith("float"):
             cols[name] = np.array([np.nan if v is None else v for v in vals], dtype=float)
         elif dtype.startswith(("int", "uint")) and not any(v is None for v in vals):
