@@ -171,7 +171,8 @@ SETTING_EXAMPLES = {
     "combustion_temperature": '"25 degC"', "energy_edition": '"2016"', "ideal_gas_threshold": "0.5", "substitution": '"none"',
     "max_gap_intervals": "3", "price": '"35 EUR/MWh"', "invoice_tolerance": "1.0", "fail_on": "1.0",
     "register_digits": "8", "invoice_base": '"us-14.73-60f"', "invoice_base_pressure": '"14.73 psia"',
-    "invoice_base_temperature": '"60 degF"', "store": '"months.sqlite"',
+    "invoice_base_temperature": '"60 degF"', "store": '"months.sqlite"', "sheet": '"Log"', "bidirectional": "false",
+    "opening_index": '"123456 m3"',
 }
 #: settings set in the template: none. A blank template must not carry live values (a month run
 #: with it must be refused until the contract's base conditions are written in).
@@ -188,6 +189,7 @@ GROUPS = [
                                    "fail_on")),
     ("Invoice", ("price", "invoice_tolerance", "invoice_base", "invoice_base_pressure", "invoice_base_temperature")),
     ("Closed months (meterfix history, meterfix verify)", ("store",)),
+    ("Reading the log", ("sheet", "opening_index", "bidirectional")),
 ]
 UNC_EXAMPLES = {"meter": '"1 %"', "meter_below_qt": '"2 %"', "pressure": '"0.25 %"', "atmospheric": '"0.5 kPa"',
                 "temperature": '"0.5 K"', "z": '"0.1 %"', "z_outside": '"0.5 %"', "base_z": '"0.05 %"',

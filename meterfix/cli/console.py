@@ -6,6 +6,7 @@ import contextlib
 import math
 import sys
 
+import numpy as np
 import typer
 
 
@@ -92,6 +93,60 @@ class _Display:
         return f"{_num(self.value(kind, si), u)} {self.names[kind]}"
 
 
+def _print_reading(result) -> None:
+    """How the log was read: per file (and sheet) one line per column, header → quantity [unit]
+    (canonical name); columns not used; what the reader decided (notes)."""
+    meta = getattr(result, "log_metadata", None)
+    if meta is None:
+        return
+    from ..writers.source_record import _file_columns
+
+    sources = {s.get("file"): s for s in (getattr(meta, "sources", None) or [])}
+    ignored = getattr(meta, "ignored_columns", {}) or {}
+    for key, cols in _file_columns(meta).items():
+        src = sources.get(key.split(" (from row")[0], {})
+        where = key + (f", sheet '{src['sheet']}'" if src.get("sheet") else "")
+        typer.echo(f"  columns of {where}:")
+        for name, c in cols.items():
+            unit = f" [{c['unit']}]" if c.get("unit") else ""
+            typer.echo(f"    '{c['header']}' → {c['meaning']}{unit} ({name})")
+        if ignored.get(key):
+            typer.echo("    not used: " + ", ".join(f"'{h}'" for h in ignored[key]))
+    vf = getattr(meta, "volume_from", "")
+    if vf:
+        typer.echo(f"  volume from          {vf}")
+    oi = getattr(meta, "opening_index", None)
+    if oi is not None and "index" in vf:
+        typer.echo(f"  opening index        {oi:,.6g} m3 (the reading that opens the log; "
+                   "--opening-index sets the one before the first row)")
+    for note in (getattr(meta, "notes", None) or [])[:12]:
+        typer.echo(f"  reader: {note}")
+    extra = len(getattr(meta, "notes", None) or []) - 12
+    if extra > 0:
+        typer.echo(f"  reader: ... {extra} more note(s) in the summary JSON and the Source data sheet")
+
+
+def _print_without_result(result) -> None:
+    """Name the intervals without a result (first few): volume unknown, or no corrected value."""
+    iv = result.intervals
+    if not len(iv) or "volume_base" not in iv:
+        return
+    vb = iv["volume_base"].to_numpy(float)
+    vl = iv["volume_line"].to_numpy(float)
+    none = ~np.isfinite(vb)
+    if not none.any():
+        return
+    no_vol = none & ~np.isfinite(vl)
+    no_res = none & np.isfinite(vl)
+    for mask, what in ((no_res, "with volume but no corrected result (pressure, temperature or Z unknown)"),
+                       (no_vol, "without a known volume (gap, unreadable, left out)")):
+        k = int(mask.sum())
+        if k:
+            first = ", ".join(ts.isoformat() for ts in iv.index[mask][:3])
+            typer.echo(f"  without result       {k} interval(s) {what}; first: {first}"
+                       + (" ..." if k > 3 else ""))
+
+
 def print_summary(result, written: dict) -> None:
     t = result.totals
     s = result.settings
@@ -108,6 +163,7 @@ def print_summary(result, written: dict) -> None:
     typer.echo(f"meterfix: {s.meter}  method {result.method['name']} ({result.method['edition']})")
     typer.echo(f"  base conditions      {du.text('pressure', s.pressure_base)} (absolute), "
                f"{du.text('temperature', s.temperature_base)}")
+    _print_reading(result)
     typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
     typer.echo(f"  uncorrected volume   {vol(t['uncorrected_volume_m3'])}")
     typer.echo(f"  base volume (real)   {vol(t['base_volume_m3'])}")
@@ -197,6 +253,7 @@ def print_summary(result, written: dict) -> None:
             typer.echo("    no misconfiguration found with evidence")
         for w in cc.warnings:
             typer.echo(f"    note: {w}")
+    _print_without_result(result)
     for w in result.warnings:
         typer.echo(f"  note: {w}")
     typer.echo("  meterfix supports review and invoice queries; it is not an approved conversion device and")

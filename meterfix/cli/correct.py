@@ -16,7 +16,8 @@ _OPTION_SETTINGS = ("meter", "site", "base", "base_pressure", "base_temperature"
                     "heating_value_reference_temperature", "heating_value_reference_pressure",
                     "combustion_temperature", "energy_edition", "ideal_gas_threshold", "substitution",
                     "max_gap_intervals", "price", "invoice_tolerance", "fail_on", "register_digits", "invoice_base",
-                    "invoice_base_pressure", "invoice_base_temperature")
+                    "invoice_base_pressure", "invoice_base_temperature", "sheet",
+                    "bidirectional", "opening_index")
 
 
 def _column_map(items):
@@ -56,6 +57,9 @@ def correct_command(
     substitution: Optional[str] = typer.Option(None, "--substitution", help="Fill gaps: none (default), interpolate, hold, profile."),
     max_gap_intervals: Optional[int] = typer.Option(None, "--max-gap-intervals", help="Longest gap filled, in intervals (default 3)."),
     register_digits: Optional[int] = typer.Option(None, "--register-digits", help="Digits of the meter index register (rollover at 10^n)."),
+    sheet: Optional[str] = typer.Option(None, "--sheet", help="Workbook sheet holding the log (default: the one sheet holding a log)."),
+    bidirectional: Optional[bool] = typer.Option(None, "--bidirectional", help="The meter measures both flow directions: negative interval volumes count (default: flagged and left out)."),
+    opening_index: Optional[str] = typer.Option(None, "--opening-index", help="Meter index at the start of the first logged interval, e.g. '123456 m3', so that the first reading closes an interval."),
     column: Optional[List[str]] = typer.Option(None, "--column", help="Map a source header to a canonical name: 'SOURCE=NAME' (repeatable)."),
     meter: Optional[str] = typer.Option(None, "--meter", help="Meter name used in outputs."),
     site: Optional[str] = typer.Option(None, "--site-name", help="Site name used in outputs."),

@@ -63,7 +63,7 @@ POLICIES = ("none", "interpolate", "hold", "profile")
 QUALITY_FLAGS = ("flag_gap", "flag_duplicate", "flag_time_backwards", "flag_pressure_range",
                  "flag_temperature_range", "flag_stuck", "flag_spike", "flag_flow_zero_pressure", "flag_rollover",
                  "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_unparseable",
-                 "flag_missing", "flag_estimated")
+                 "flag_missing", "flag_negative_volume", "flag_volume_mismatch", "flag_estimated")
 EDIT_COLUMNS = ["time", "what", "original", "new", "method", "reason"]
 
 
@@ -106,27 +106,45 @@ def _nominal(frame: pd.DataFrame, attrs: dict) -> float:
     return float(np.nanmedian(dur)) if np.isfinite(dur).any() else 3600.0
 
 
+#: a gap longer than this many intervals or this many seconds is a break in the log: reported
+#: (``flag_gap`` on the row after it, ``quality.breaks`` in the frame's attrs), no rows inserted
+MAX_GAP_INSERT_INTERVALS = 10_000
+MAX_GAP_INSERT_SECONDS = 7 * 86_400.0
+
+
 def _insert_gaps(df: pd.DataFrame, nominal: float):
     """Insert missing intervals.
 
-    Returns (frame, inserted, gap_intervals, flag_gap): the frame with the inserted rows, and per
-    row of it whether it was inserted, the count of missing intervals before it and its gap flag.
+    The interval around each row is the log's own there (:func:`meterfix.readers.join.local_intervals`),
+    so that a log changing from 5-minute to hourly rows has no false gaps. A gap longer than
+    MAX_GAP_INSERT_INTERVALS intervals or MAX_GAP_INSERT_SECONDS is a break: flagged, not filled.
+
+    Returns (frame, inserted, gap_intervals, flag_gap, breaks): the frame with the inserted rows,
+    and per row of it whether it was inserted, the count of missing intervals before it and its
+    gap flag; and the breaks as a list of dicts (from, to [UTC ISO], seconds, intervals).
     """
+    from ..readers.join import local_intervals
+
     t = df.index.asi8
     n = len(df)
     gap_n = np.zeros(n, np.int64)
     if n < 2:
-        return df, np.zeros(n, bool), gap_n, np.zeros(n, bool)
-    sp = np.diff(t) / 1e9
-    k = np.concatenate([[0], np.maximum(np.round(sp / nominal).astype(np.int64) - 1, 0)])
-    k[1:][sp <= 1.5 * nominal] = 0
+        return df, np.zeros(n, bool), gap_n, np.zeros(n, bool), []
+    loc = local_intervals(t, nominal)
+    sp = np.concatenate([[0.0], np.diff(t) / 1e9])
+    k = np.maximum(np.round(sp / loc).astype(np.int64) - 1, 0)
+    k[sp <= 1.5 * loc] = 0
+    k[0] = 0
     dur = df["duration"].to_numpy(float)
-    covers = np.isfinite(dur) & (dur > 1.5 * nominal)
+    covers = np.isfinite(dur) & (dur > 1.5 * loc)
     gap_n[:] = k
-    flag = (k > 0) & covers
-    ins = (k > 0) & ~covers
+    brk = (k > 0) & ~covers & ((k > MAX_GAP_INSERT_INTERVALS) | (sp > MAX_GAP_INSERT_SECONDS))
+    breaks = [{"from": df.index[i - 1].isoformat(), "to": df.index[i].isoformat(), "seconds": float(sp[i]),
+               "intervals": int(k[i])} for i in np.flatnonzero(brk)[:1000]]
+    flag = (k > 0) & (covers | brk)
+    ins = (k > 0) & ~covers & ~brk
     if not ins.any():
-        return df, np.zeros(n, bool), gap_n, flag
+        return df, np.zeros(n, bool), gap_n, flag, breaks
     df = df.copy()
     df["_inserted"] = False
     df["_gap_intervals"] = gap_n
@@ -136,14 +154,16 @@ def _insert_gaps(df: pd.DataFrame, nominal: float):
     total = int(counts.sum())
     prev_t = np.repeat(t[pos - 1], counts)
     step = np.arange(total) - np.repeat(np.cumsum(counts) - counts, counts) + 1
-    new_t = prev_t + np.round(step * nominal * 1e9).astype(np.int64)
+    # the missing intervals share the gap evenly (k + 1 equal steps, each about one local interval)
+    width = np.repeat(sp[pos] / (counts + 1), counts)
+    new_t = prev_t + np.round(step * width * 1e9).astype(np.int64)
     add = pd.DataFrame(index=pd.DatetimeIndex(pd.to_datetime(new_t, unit="ns", utc=True), name=df.index.name))
     for c in df.columns:
         col = df[c]
         if c.startswith("flag_"):
             add[c] = False
         elif c == "duration":
-            add[c] = nominal
+            add[c] = width
         elif c in ("gap_intervals", "_gap_intervals"):
             add[c] = 0
         elif c in ("_inserted", "_flag_gap"):
@@ -165,7 +185,7 @@ def _insert_gaps(df: pd.DataFrame, nominal: float):
     inserted = out.pop("_inserted").to_numpy(bool)
     gap_n = out.pop("_gap_intervals").to_numpy(np.int64)
     flag = out.pop("_flag_gap").to_numpy(bool)
-    return out, inserted, gap_n, flag
+    return out, inserted, gap_n, flag, breaks
 
 
 def _runs(mask: np.ndarray):
@@ -233,7 +253,7 @@ def _spikes(x: np.ndarray, window: int, z_max: float) -> np.ndarray:
 
 
 def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_intervals: int = 3,
-                  limits: QualityLimits | None = None, timezone: str | None = None):
+                  limits: QualityLimits | None = None, timezone: str | None = None, bidirectional: bool = False):
     """Flag every row of a canonical log and optionally substitute short runs of bad values.
 
     Parameters
@@ -243,6 +263,9 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
     max_gap_intervals : int     longest run of bad values filled [intervals]
     limits : QualityLimits      plausibility limits [Pa, K] and detector settings
     timezone : str, optional    IANA zone for the 'profile' time of day (default: the reader's)
+    bidirectional : bool        the meter measures both directions: negative interval volumes are
+                                reverse flow and count; otherwise they are left out (NaN, raw value
+                                in ``volume_line_raw``, one edit row each) and never substituted
 
     Returns
     -------
@@ -273,11 +296,24 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
     own_duration = "duration" in df
     if not own_duration:
         df["duration"] = nominal
-    df, inserted, gap_n, flag_gap = _insert_gaps(df, nominal)
+    df, inserted, gap_n, flag_gap, breaks = _insert_gaps(df, nominal)
     n = len(df)
+    negative = np.zeros(n, bool)
+    edits = []
+    if not bidirectional and "flag_negative_volume" in df and df["flag_negative_volume"].any():
+        negative = df["flag_negative_volume"].to_numpy(bool)
+        raw = df["volume_line"].to_numpy(float)
+        df["volume_line_raw"] = raw
+        df["volume_line"] = np.where(negative, np.nan, raw)
+        idx = np.flatnonzero(negative)
+        edits.append(pd.DataFrame({"time": df.index[idx], "what": "volume_line", "original": raw[idx],
+                                   "new": np.nan, "method": "left out",
+                                   "reason": "negative interval volume (the meter is not declared bidirectional)"}))
     pcol = "pressure_gauge" if "pressure_gauge" in df else ("pressure_line" if "pressure_line" in df else None)
     vol = df["volume_line"].to_numpy(float) if "volume_line" in df else np.full(n, np.nan)
     flowing = np.isfinite(vol) & (vol > 0)
+    with np.errstate(invalid="ignore", divide="ignore"):
+        rate = vol / df["duration"].to_numpy(float)  # volumes compared as rates: intervals may differ
     temp = df["temperature_line"].to_numpy(float) if "temperature_line" in df else np.full(n, np.nan)
     p = df[pcol].to_numpy(float) if pcol else np.full(n, np.nan)
     plo, phi = lim.pressure_gauge if pcol == "pressure_gauge" else lim.pressure_line
@@ -293,7 +329,7 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
         "flag_stuck": _stuck(p, flowing, lim.stuck_intervals) | _stuck(temp, flowing, lim.stuck_intervals),
         "flag_spike": (_spikes(np.where(p_range, np.nan, p), lim.spike_window, lim.spike_z)
                        | _spikes(np.where(t_range, np.nan, temp), lim.spike_window, lim.spike_z)
-                       | _spikes(vol, lim.spike_window, lim.spike_z)),
+                       | _spikes(rate, lim.spike_window, lim.spike_z)),
         "flag_flow_zero_pressure": zero_p,
     }
     # one frame: the log's columns (flags found here replace the log's own), then the quality
@@ -309,7 +345,6 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
         cols["duration"] = df["duration"]
     cols["gap_intervals"] = gap_n
     df = pd.DataFrame(cols, index=df.index)
-    edits = []
     if policy != "none":
         tz = timezone or attrs.get("timezone") or "UTC"
         dur = df["duration"].to_numpy(float)
@@ -330,10 +365,11 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
             new = _estimate(y, df.index, policy, tz)
             if as_rate:
                 new = new * dur
-            fill &= np.isfinite(new)
+            fill &= np.isfinite(new) & ~(negative if as_rate else np.zeros(len(x), bool))
             if not fill.any():
                 continue
-            df[col + "_raw"] = x
+            if col + "_raw" not in df:
+                df[col + "_raw"] = x
             df[col] = np.where(fill, new, x)
             df["flag_estimated"] = df["flag_estimated"].to_numpy(bool) | fill
             edits.append(_edit_rows(df, col, fill, x, new, policy, bad_extra, inserted))
@@ -342,7 +378,7 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
         edit = edit.sort_values(["time", "what"], kind="stable").reset_index(drop=True)
     df.attrs = attrs
     df.attrs["quality"] = {"policy": policy, "max_gap_intervals": int(max_gap_intervals), **asdict(lim),
-                           "nominal_interval_s": nominal}
+                           "nominal_interval_s": nominal, "bidirectional": bool(bidirectional), "breaks": breaks}
     return df, edit
 
 

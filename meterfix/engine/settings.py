@@ -69,6 +69,10 @@ class Settings:
     invoice_temperature_base : float or None [K] the invoice's base temperature when it does not state it
     store : str or None               where closed months are kept: a SQLite file (relative to the
                                       site file) or a PostgreSQL URL (meterfix.store); --store wins
+    sheet : str or None               workbook sheet holding the log (None: found, see readers.tables)
+    bidirectional : bool              the meter measures flow both ways: negative interval volumes
+                                      are reverse flow and count (default False: flagged, left out)
+    opening_index : float or None [m3]  index reading at the start of the first logged interval
     """
 
     meter: str = "meter"
@@ -102,6 +106,9 @@ class Settings:
     invoice_pressure_base: float | None = None
     invoice_temperature_base: float | None = None
     store: str | None = None
+    sheet: str | None = None
+    bidirectional: bool = False
+    opening_index: float | None = None
     files: dict = field(default_factory=dict)  # [files] table: logs (globs), composition, invoice
     sources: dict = field(default_factory=dict)  # setting name -> 'default' | 'site file' | 'option'
 
@@ -142,6 +149,9 @@ SETTING_KINDS = {
     "fail_on": (float, "percent; exit code 1 when a finding exceeds it"),
     "register_digits": (int, "digits of the meter index register (rollover at 10^n)"),
     "store": (str, "where closed months are kept: a SQLite file (relative to this file) or a PostgreSQL URL"),
+    "sheet": (str, "workbook sheet holding the log, e.g. 'Data' (default: the one sheet holding a log)"),
+    "bidirectional": (bool, "the meter measures both flow directions: negative interval volumes count"),
+    "opening_index": ("volume", "meter index at the start of the first logged interval, e.g. '123456 m3'"),
 }
 
 
@@ -352,7 +362,14 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
             if not lo <= x <= hi:
                 fail(name, f"{v} is outside the range {lo:g}-{hi:g} {unit}")
             setattr(s, attr, typ(x))
-    for name in ("use_barometer",):
+    if "sheet" in raw and str(raw["sheet"]).strip():
+        s.sheet = str(raw["sheet"]).strip()
+    if "opening_index" in raw:
+        q = qty("opening_index", "volume")
+        if not (math.isfinite(q.value) and q.value >= 0):
+            fail("opening_index", f"'{raw['opening_index']}' is not a finite, non-negative reading")
+        s.opening_index = q.value
+    for name in ("use_barometer", "bidirectional"):
         if name in raw:
             v = raw[name]
             if isinstance(v, str):

@@ -75,6 +75,8 @@ class ColumnSpec:
     unit : Unit or None
     unit_text : str     the unit as written ('' when none)
     zone : str or None  for time columns: 'utc' or 'local' when the header says so
+    weak : bool         the role rests on weak evidence (a word such as 'Consumption' that
+                        billing exports also use for corrected volumes)
     """
 
     name: str
@@ -83,6 +85,7 @@ class ColumnSpec:
     unit: Unit | None = None
     unit_text: str = ""
     zone: str | None = None
+    weak: bool = False
 
 
 @dataclass
@@ -124,9 +127,16 @@ _STATUS = {"status", "state", "alarm", "alarms", "event", "events", "remark", "r
            "note", "notes", "flags", "flag", "quality", "status text"}
 _INDEX_WORDS = ("index", "register", "reading", "totaliser", "totalizer", "counter", "cumulative", "totalised",
                 "totalized")
-_CORR_WORDS = ("corrected", "converted", "standard", "normal", "base", "compensated", "std", "vb", "vn")
-_UNCORR_WORDS = ("uncorrected", "unconverted", "actual", "raw", "measured", "vm", "uncompensated", "line")
-_VOL_WORDS = ("volume", "vol", "consumption", "quantity", "throughput", "vm", "vb", "vn")
+#: words of the trade for corrected (base-condition) and uncorrected (line, metered) volumes, with
+#: their usual abbreviations (corr/cor, uncorr/unc, Vb/Vm; common practice)
+_CORR_WORDS = ("corrected", "converted", "standard", "normal", "base", "compensated", "std", "vb", "vn", "corr",
+               "cor", "conv", "stp")
+_UNCORR_WORDS = ("uncorrected", "unconverted", "actual", "raw", "measured", "vm", "uncompensated", "line", "uncorr",
+                 "unc", "uncor", "unconv", "metered")
+_VOL_WORDS = ("volume", "vol", "consumption", "quantity", "throughput", "vm", "vb", "vn", "usage", "qty")
+#: volume words that alone are weak evidence of an uncorrected volume (billing exports use them for
+#: corrected volumes too)
+_WEAK_VOL_WORDS = ("consumption", "quantity", "throughput", "usage", "qty")
 
 
 def classify(name: str):
@@ -175,9 +185,11 @@ def classify(name: str):
     if is_index or has_vol:
         uncorr = any(t in _UNCORR_WORDS for t in toks)
         corr = any(t in _CORR_WORDS for t in toks) and not uncorr
+        weak = not is_index and not uncorr and not corr and not any(
+            t in _VOL_WORDS and t not in _WEAK_VOL_WORDS for t in toks)
         if is_index:
             return ("volume_corrected_site_index" if corr else "volume_index"), {"explicit": uncorr}
-        return ("volume_corrected_site" if corr else "volume_line"), {"explicit": uncorr}
+        return ("volume_corrected_site" if corr else "volume_line"), {"explicit": uncorr, "weak": weak}
     return None, {}
 
 
@@ -270,7 +282,8 @@ def read_header(header: str, index: int, where: dict) -> ColumnSpec | None:
         if family in ("volume_line", "volume_index", "flow_rate") and unit.basis == "base":
             raise UnitError(f"column '{header}' says uncorrected but its unit '{unit_text}' is at base conditions",
                             **where, column=header, hint="write the uncorrected volume in m3 or ft3")
-        return ColumnSpec(family, index, header, unit, unit_text)
+        weak = bool(hints.get("weak")) and family == "volume_line"
+        return ColumnSpec(family, index, header, unit, unit_text, weak=weak)
     if first_error is not None:
         raise first_error
     return None
@@ -335,25 +348,48 @@ def map_columns(header, column_map=None, *, where=None) -> ColumnMapping:
     where.pop("column", None)
     cmap = {_key(k): v for k, v in (column_map or {}).items()}
     out = ColumnMapping()
+    specs = []
     for j, h in enumerate(header):
         if not str(h).strip():
             continue
         k = _key(h)
         if k in cmap:
             out.map_keys_used.add(k)
-            spec = _mapped(h, j, cmap[k], where)
+            specs.append((_mapped(h, j, cmap[k], where), True, h))
         else:
-            spec = read_header(h, j, where)
-        if spec is None:
+            specs.append((read_header(h, j, where), False, h))
+    # a role given by the column map is that column's alone: other columns detected for it are not used
+    mapped_roles = {s.name for s, m, _ in specs if m and s is not None}
+    for spec, mapped, h in specs:
+        if spec is None or (not mapped and spec.name in _role_group(mapped_roles)):
             out.ignored.append(str(h))
             continue
         name = spec.name
         clash = _clash(out.columns, name)
         if clash is not None:
-            raise InputError(f"two columns for the same quantity: '{clash.header}' and '{h}' (both read as {name})",
+            others = [s.header for s, m, _ in specs if s is not None and s.name in _role_group({name})]
+            listing = ", ".join(f"'{o}'" for o in others)
+            raise InputError(f"two columns for the same quantity: {listing} could each be the "
+                             f"{_ROLE_WORDS.get(name, name)} (all read as {name})",
                              **where, column=str(h),
-                             hint=f"keep one: map the other to ignore, e.g. --column '{h}=ignore'")
+                             hint=f"pick one with --column '{others[0]}={name}' (or --column '{others[1]}={name}'); "
+                                  f"the others are then not used")
         out.columns[name] = spec
+    return out
+
+
+_ROLE_WORDS = {"volume_line": "uncorrected volume per interval", "volume_index": "uncorrected meter index",
+               "flow_rate": "flow rate", "pressure_gauge": "line pressure", "pressure_line": "line pressure",
+               "temperature_line": "line temperature", "volume_corrected_site": "site corrected volume",
+               "volume_corrected_site_index": "site corrected index", "pressure_atm": "barometer"}
+
+
+def _role_group(names) -> set:
+    """The names that compete with ``names`` for one role."""
+    out = set(names)
+    for g in (("pressure_gauge", "pressure_line"), ("time", "interval_end", "interval_start")):
+        if out & set(g):
+            out |= set(g)
     return out
 
 
@@ -382,6 +418,24 @@ def require_log_columns(mapping: ColumnMapping, header, where) -> None:
         missing.append(("line temperature", EXAMPLES["temperature_line"]))
     if not any(n in c for n in ("volume_line", "volume_index", "flow_rate")):
         missing.append(("uncorrected volume", EXAMPLES["volume"]))
+    if not any(n in c for n in ("volume_line", "volume_index", "flow_rate")):
+        corr = [s for n, s in c.items() if n in ("volume_corrected_site", "volume_corrected_site_index")]
+        if corr and len(missing) == 1:
+            s0 = corr[0]
+            raise InputError(
+                f"no uncorrected volume: '{s0.header}' is a corrected (base-condition) volume"
+                + (f" by its unit '{s0.unit_text}'" if s0.unit is not None and s0.unit.basis == "base" else "")
+                + " and cannot be corrected again", **where, column=s0.header,
+                hint=f"give the meter's uncorrected volume, index or flow rate; only if '{s0.header}' really is "
+                     f"the uncorrected volume, say so with --column '{s0.header}=volume_line [m3]' (its unit)")
+    weak = [s for n, s in c.items() if n == "volume_line" and s.weak]
+    if weak and not any(n in c for n in ("volume_index", "flow_rate")) and not missing:
+        s0 = weak[0]
+        raise InputError(
+            f"column '{s0.header}' may be the uncorrected volume, but its name is weak evidence "
+            "(billing exports use it for corrected volumes too)", **where, column=s0.header,
+            hint=f"if it is the meter's uncorrected volume per interval, say so with "
+                 f"--column '{s0.header}=volume_line'; if it is corrected, --column '{s0.header}=volume_corrected_site'")
     if missing:
         found = [f"'{s.header}' → {s.name}" for s in c.values()] + [f"'{h}' (not used)" for h in mapping.ignored]
         raise InputError(

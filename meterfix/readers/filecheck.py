@@ -47,8 +47,18 @@ DEFAULT_LIMITS = Limits()
 
 
 def sniff_format(head: bytes, suffix: str, name) -> str:
-    """'zip', 'ole', 'text' from the first bytes, checked against the extension."""
+    """'zip', 'ole', 'text' from the first bytes, checked against the extension.
+
+    ``head`` may be the whole file: an encrypted workbook is an OLE2 compound file (the container
+    of old .xls files too) whose directory names an ``EncryptedPackage`` stream anywhere in it.
+    """
     suffix = suffix.lower()
+    if head.startswith(_OLE_MAGIC) and _ENCRYPTED in head and suffix in WORKBOOK_SUFFIXES:
+        raise InputError("the workbook is encrypted/password-protected (an OLE2 compound file holding an encrypted "
+                         "package, not an old .xls)", file=name,
+                         hint="open it in the spreadsheet program, remove the password and save a copy, "
+                              "or export the log as CSV")
+    head = head[:8192]
     if not head:
         raise InputError("the file is empty", file=name, hint="export the file again; it has no bytes")
     is_zip = head.startswith(_ZIP_MAGIC)
@@ -91,9 +101,32 @@ def sniff_format(head: bytes, suffix: str, name) -> str:
                      hint="give a .csv, .txt, .tsv, .xlsx, .xlsm, .xls or .ods file")
 
 
+def utf16_without_bom(head: bytes) -> str | None:
+    """'utf-16-le' or 'utf-16-be' when the bytes are UTF-16 text without a byte-order mark (ASCII
+    characters have a zero byte on one side: at least 30 % of the odd (LE) or even (BE) bytes are
+    zero and almost none of the others), else None."""
+    sample = head[:8192]
+    if len(sample) < 8 or b"\x00" not in sample:
+        return None
+    even, odd = sample[0::2], sample[1::2]
+    z_even, z_odd = even.count(0) / len(even), odd.count(0) / len(odd)
+    if z_odd >= 0.3 and z_even <= 0.02:
+        return "utf-16-le"
+    if z_even >= 0.3 and z_odd <= 0.02:
+        return "utf-16-be"
+    return None
+
+
 def _text_like(head: bytes) -> bool:
     if head.startswith((codecs.BOM_UTF16_LE, codecs.BOM_UTF16_BE)):
         return True
+    enc = utf16_without_bom(head)
+    if enc is not None:
+        try:
+            head[: len(head) // 2 * 2].decode(enc)
+            return True
+        except UnicodeDecodeError:
+            return False
     if b"\x00" in head:
         return False
     ctrl = sum(1 for b in head if b < 32 and b not in (9, 10, 13, 12))

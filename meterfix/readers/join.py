@@ -19,11 +19,23 @@ NUMERIC = ("pressure_gauge", "pressure_line", "pressure_atm", "temperature_line"
            "flow_rate", "volume_corrected_site", "volume_corrected_site_index", "duration")
 #: flags the reader sets (always present in the frame)
 READER_FLAGS = ("flag_unparseable", "flag_missing", "flag_duplicate", "flag_time_backwards", "flag_rollover",
-                "flag_meter_change", "flag_negative_delta", "flag_implausible_delta")
+                "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_negative_volume",
+                "flag_volume_mismatch")
+#: interval volume against index difference: they disagree when they differ by more than this share
+#: plus one unit of the register (the index is read in whole units of its column)
+VOLUME_CHECK_REL = 0.005
+#: ... and the log is refused when more than this share of the compared rows disagree, or the sums do
+#: by more than VOLUME_CHECK_SUM_REL (then one column is not what its header says)
+VOLUME_CHECK_REFUSE_SHARE = 0.1
+VOLUME_CHECK_SUM_REL = 0.01
+#: flow rate x duration against the interval volume: a month sum off by more than this is noted
+#: (flow rates are often instantaneous samples, so rows are not compared one by one)
+FLOW_CHECK_REL = 0.05
 _MAX_RECORDED = 1000
 
 
-def join_parts(parts, tables, meta, interval_label, column_map, register_digits):
+def join_parts(parts, tables, meta, interval_label, column_map, register_digits, opening_index=None,
+               timezone_given=True):
     """Join the rows of one meter's files: time order, duplicates, durations, volumes → frame.
 
     ``parts`` are the per-file column dicts of :func:`meterfix.readers.logs._read_part`,
@@ -80,6 +92,8 @@ def join_parts(parts, tables, meta, interval_label, column_map, register_digits)
     order = np.lexsort((df["source_row"], df["source_file"], t))
     if (np.diff(order) != 1).any():
         df = {c: v[order] for c, v in df.items()}
+    if not timezone_given:
+        _refuse_clock_change(df, meta)
     df = _dedupe(df, meta)
     t = df["time"]
     n = len(t)
@@ -89,12 +103,13 @@ def join_parts(parts, tables, meta, interval_label, column_map, register_digits)
         covers = ~pd.isna(df["volume_index"])
         if "volume_line" in df:
             covers &= pd.isna(df["volume_line"])
-    d = _spacing_durations(t, nominal, covers, backward=True)
+    d = _spacing_durations(t, nominal, covers, backward=True, local=True)
     dur = np.where(np.isfinite(own) & (own > 0), own, d)
     df["duration"] = dur
 
     # volumes
-    for f in ("flag_rollover", "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_duplicate"):
+    for f in ("flag_rollover", "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_duplicate",
+              "flag_negative_volume", "flag_volume_mismatch"):
         if f not in df:
             df[f] = np.zeros(n, bool)
     vol = np.asarray(df["volume_line"], dtype=float) if "volume_line" in df else np.full(n, np.nan)
@@ -102,12 +117,16 @@ def join_parts(parts, tables, meta, interval_label, column_map, register_digits)
     if "volume_line" in df:
         sources.append("interval volume")
     drop_first = False
+    idx_used = np.zeros(n, bool)
     if "volume_index" in df and (~pd.isna(df["volume_index"])).any():
         reading = np.asarray(df["volume_index"], dtype=float)
         delta, ro, ch, ng, imp, cap = _index_deltas(reading, _filled(df["volume_index_scale"], 1.0), dur,
                                                     register_digits)
-        use = ~np.isfinite(vol) & ~np.isnan(reading)
+        if "volume_line" in df:
+            vol = _cross_check_index(vol, delta, _filled(df["volume_index_scale"], 1.0), ro | ch, df, meta)
+        use = ~np.isfinite(vol) & ~np.isnan(reading) & ~np.asarray(df["flag_volume_mismatch"], dtype=bool)
         vol = np.where(use, delta, vol)
+        idx_used = use
         for f, m in (("flag_rollover", ro), ("flag_meter_change", ch), ("flag_negative_delta", ng),
                      ("flag_implausible_delta", imp)):
             df[f] = np.asarray(df[f], dtype=bool) | (m & use)
@@ -115,12 +134,32 @@ def join_parts(parts, tables, meta, interval_label, column_map, register_digits)
         sources.append("meter index")
         first = int(np.flatnonzero(~np.isnan(reading))[0])
         if first == 0 and ("volume_line" not in df or not np.isfinite(df["volume_line"][0])):
-            meta.opening_index = float(reading[0])
-            drop_first = True
+            if opening_index is not None:
+                if reading[0] < opening_index:
+                    raise InputError(f"the opening index {opening_index:g} m3 is above the first reading "
+                                     f"{reading[0]:g} m3", file=meta.sources[0]["file"],
+                                     hint="give the reading at the start of the first logged interval, in m3 "
+                                          "or with its unit, e.g. --opening-index '123456 ft3'")
+                vol[0] = reading[0] - opening_index
+                meta.opening_index = float(opening_index)
+                meta.notes.append(f"opening index {opening_index:g} m3 given: the first reading "
+                                  f"({reading[0]:g} m3) closes the first interval")
+            else:
+                meta.opening_index = float(reading[0])
+                drop_first = True
     if "flow_rate" in df:
         fr = np.asarray(df["flow_rate"], dtype=float)
-        vol = np.where(np.isfinite(vol), vol, fr * dur)
+        fv = fr * dur
+        both = np.isfinite(vol) & np.isfinite(fv)
+        if both.sum() >= 3 and abs(np.sum(vol[both])) > 0:
+            off = np.sum(fv[both]) / np.sum(vol[both]) - 1.0
+            if abs(off) > FLOW_CHECK_REL:
+                meta.notes.append(f"flow rate x duration differs from the interval volumes by {100 * off:+.1f} % "
+                                  f"over {int(both.sum())} intervals (more than {100 * FLOW_CHECK_REL:g} %); the "
+                                  "interval volumes are used: check the flow-rate column's unit")
+        vol = np.where(np.isfinite(vol), vol, fv)
         sources.append("flow rate")
+    df["flag_negative_volume"] = np.isfinite(vol) & (vol < 0) & ~idx_used
     df["volume_line"] = vol
     meta.volume_from = ", ".join(sources)
     if "volume_corrected_site_index" in df and (~pd.isna(df["volume_corrected_site_index"])).any():
@@ -137,6 +176,87 @@ def join_parts(parts, tables, meta, interval_label, column_map, register_digits)
         raise InputError("the log has no interval (an index log needs at least two readings)",
                          file=meta.sources[0]["file"], hint="export a longer period")
     return _finish(df, meta), meta
+
+
+def _refuse_clock_change(df: dict, meta) -> None:
+    """No time zone given, and the local clock stamps repeat an hour (with other values) or skip
+    one on a Sunday night of a clock-change season: the log was kept on a clock that changes."""
+    local = np.asarray(df.get("local_clock", np.ones(len(df["time"]), bool)), dtype=bool)
+    t = np.asarray(df["time"], dtype=np.int64)
+    if len(t) < 2 or not local.any():
+        return
+    files = [s["file"] for s in meta.sources]
+    hint = ("give the time zone of the log's clock with --timezone (e.g. 'Europe/Berlin', 'America/Chicago'); "
+            "if the clock really is UTC, give --timezone UTC")
+    same = np.flatnonzero(t[1:] == t[:-1]) + 1
+    if len(same):
+        cols = _value_columns(df)
+        for i in same:
+            a = np.array([df[c][i - 1] for c in cols], dtype=float)
+            b = np.array([df[c][i] for c in cols], dtype=float)
+            stamp = pd.Timestamp(int(t[i]))
+            if not _clock_change_night(stamp):
+                continue
+            if not np.all((a == b) | (np.isnan(a) & np.isnan(b))):
+                when = stamp.strftime("%Y-%m-%d %H:%M")
+                raise InputError(f"the local time {when} appears twice with different values (rows "
+                                 f"{df['source_row'][i - 1]} and {df['source_row'][i]}), as a clock going back "
+                                 "from summer to winter time repeats an hour, and no time zone is given",
+                                 file=files[int(df["source_file"][i])], row=int(df["source_row"][i]), hint=hint)
+    sp = np.diff(t)
+    if not len(sp):
+        return
+    nominal = float(np.median(sp))
+    if nominal > 3600e9:
+        return
+    hole = np.flatnonzero(np.abs(sp - nominal - 3600e9) <= 1e9) + 1
+    for i in hole:
+        missing = pd.Timestamp(int(t[i - 1]) + int(nominal))
+        if _clock_change_night(missing):
+            raise InputError(f"one hour is missing at {missing.strftime('%Y-%m-%d %H:%M')} (a Sunday night), as a "
+                             "clock going forward to summer time skips an hour, and no time zone is given",
+                             file=files[int(df["source_file"][i])], row=int(df["source_row"][i]), hint=hint)
+
+
+def _clock_change_night(stamp: pd.Timestamp) -> bool:
+    """A wall-clock time at which clocks commonly change: a Sunday, 00:00-04:59, in March, April,
+    September, October or November (the months of the northern and southern changes; common
+    practice, IANA tz database rules)."""
+    return stamp.day_of_week == 6 and stamp.month in (3, 4, 9, 10, 11) and stamp.hour <= 4
+
+
+def _cross_check_index(vol, delta, scale, unusable, df, meta):
+    """Interval volume against index difference, row by row (see VOLUME_CHECK_*).
+
+    Returns the interval volumes with the disagreeing ones unknown (NaN, flagged
+    ``flag_volume_mismatch``); raises InputError when the two columns disagree throughout."""
+    both = np.isfinite(vol) & np.isfinite(delta) & ~unusable
+    if not both.any():
+        return vol
+    tol = VOLUME_CHECK_REL * np.abs(delta) + scale
+    bad = both & (np.abs(vol - delta) > tol)
+    m = int(both.sum())
+    agree = both & ~bad
+    sv, sd = float(np.sum(vol[agree])), float(np.sum(delta[agree]))
+    first = meta.sources[0]["file"]
+    heads = meta.columns.get(first, {})
+    hv, hi = heads.get("volume_line", "interval volume"), heads.get("volume_index", "meter index")
+    if m >= 3 and (bad.sum() > VOLUME_CHECK_REFUSE_SHARE * m or abs(sv - sd) > VOLUME_CHECK_SUM_REL * abs(sd)):
+        raise InputError(f"the interval volumes in '{hv}' and the differences of '{hi}' disagree: "
+                         f"{float(np.sum(vol[both])):.6g} against {float(np.sum(delta[both])):.6g} m3 over {m} intervals (ratio {float(np.sum(vol[both])) / float(np.sum(delta[both])) if sd else float('nan'):.4g}; "
+                         f"{int(bad.sum())} rows differ by more than {100 * VOLUME_CHECK_REL:g} % + one register unit), "
+                         "so one of them is not what its header says", file=first, column=hv,
+                         hint=f"check both columns' units; to use one, leave the other out: --column '{hi}=ignore' "
+                              f"(the interval volumes) or --column '{hv}=ignore' (the index)")
+    if bad.any():
+        df["flag_volume_mismatch"] = np.asarray(df["flag_volume_mismatch"], dtype=bool) | bad
+        files = [s["file"] for s in meta.sources]
+        for i in np.flatnonzero(bad)[:_MAX_RECORDED]:
+            meta.notes.append(f"{files[int(df['source_file'][i])]} row {int(df['source_row'][i])}: interval volume "
+                              f"{vol[i]:.6g} m3 against index difference {delta[i]:.6g} m3 ('{hv}' vs '{hi}'): "
+                              "the interval is left without a volume")
+        vol = np.where(bad, np.nan, vol)
+    return vol
 
 
 def _filled(values, fill: float) -> np.ndarray:
@@ -219,8 +339,32 @@ def _finish(df: dict, meta) -> pd.DataFrame:
     return out
 
 
-def _spacing_durations(t_ns: np.ndarray, nominal: float, covers_span: np.ndarray, backward: bool) -> np.ndarray:
-    """Duration of each row [s] from its spacing to the previous (or next) row."""
+def local_intervals(t_ns: np.ndarray, nominal: float) -> np.ndarray:
+    """The log's own interval around each row [s]: the larger of the medians of the (up to) three
+    spacings before and the three after the row's own spacing (``nominal`` where there are none).
+
+    A log may change its interval (5-minute rows, then hourly): a row's spacing is a gap only
+    when it is more than 1.5 times this local interval, not the month's median spacing.
+    """
+    n = len(t_ns)
+    if n < 2:
+        return np.full(n, nominal)
+    sp = np.concatenate([[np.nan], np.diff(t_ns) / 1e9])
+    s = pd.Series(sp)
+    before = s.shift(1).rolling(3, min_periods=1).median().to_numpy()
+    after = s[::-1].shift(1).rolling(3, min_periods=1).median().to_numpy()[::-1]
+    loc = np.fmax(before, after)
+    return np.where(np.isfinite(loc) & (loc > 0), loc, nominal)
+
+
+def _spacing_durations(t_ns: np.ndarray, nominal: float, covers_span: np.ndarray, backward: bool,
+                       local: bool = False) -> np.ndarray:
+    """Duration of each row [s] from its spacing to the previous (or next) row.
+
+    A spacing longer than 1.5 intervals is a gap (its row takes one interval) unless the row
+    covers the whole span (an index difference); with ``local`` the interval is the log's own
+    around the row (:func:`local_intervals`), else ``nominal``.
+    """
     n = len(t_ns)
     d = np.full(n, nominal)
     if n > 1:
@@ -229,9 +373,10 @@ def _spacing_durations(t_ns: np.ndarray, nominal: float, covers_span: np.ndarray
             sp = np.concatenate([[np.nan], gaps])
         else:
             sp = np.concatenate([gaps, [np.nan]])
-        long = sp > 1.5 * nominal
+        ref = local_intervals(t_ns, nominal) if local and backward else np.full(n, nominal)
+        long = sp > 1.5 * ref
         use = np.isfinite(sp) & (~long | covers_span)
-        d = np.where(use, sp, nominal)
+        d = np.where(use, sp, ref)
     return d
 
 

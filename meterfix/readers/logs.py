@@ -46,6 +46,7 @@ Quirks handled
 
 from __future__ import annotations
 
+import copy
 import hashlib
 import re
 from dataclasses import asdict, dataclass, field
@@ -146,7 +147,8 @@ def _known_text(cell: str) -> bool:
 
 
 def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", column_map=None,
-             register_digits: int | None = None, sheet=None, limits: Limits = DEFAULT_LIMITS):
+             register_digits: int | None = None, sheet=None, limits: Limits = DEFAULT_LIMITS,
+             opening_index: float | None = None, timezone_given: bool = True):
     """Read one meter's log from one or several files.
 
     Parameters
@@ -157,8 +159,12 @@ def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", colum
     column_map : dict, optional     source header → canonical name (see meterfix.readers.columns)
     register_digits : int, optional digits of the meter index register (rollover at 10^n [in the
                                     index column's unit])
-    sheet : str, optional           workbook sheet (default: 'Log', else the sheet holding a log)
+    sheet : str, optional           workbook sheet (default: 'Log', else the one sheet holding a log)
     limits : Limits                 safety limits of the table reader
+    opening_index : float, optional [m3]  index reading at the start of the first logged interval:
+                                    the first reading then closes an interval (index logs)
+    timezone_given : bool           False when the user gave no time zone: a local clock whose
+                                    stamps repeat or skip an hour (a clock change) is refused
 
     Returns
     -------
@@ -181,7 +187,7 @@ def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", colum
         with open(p, "rb") as fh:
             tables.append(parse_table(fh, name=str(p), suffix=p.suffix, sheet=sheet, header_score=_score,
                                       prefer=("log",), limits=limits))
-    return _assemble(tables, timezone, interval_label, column_map, register_digits)
+    return _assemble(tables, timezone, interval_label, column_map, register_digits, opening_index, timezone_given)
 
 
 def parse_log(fileobj, *, name: str = "<log>", timezone: str = "UTC", interval_label: str = "end",
@@ -198,29 +204,38 @@ def parse_log(fileobj, *, name: str = "<log>", timezone: str = "UTC", interval_l
 
 
 # ---------------------------------------------------------------------------------------------
-def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta: LogMetadata) -> dict:
-    """One table's rows as columns (name → array, all of one length), rows without a time left out."""
+def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta: LogMetadata,
+               key: str | None = None) -> dict:
+    """One table's rows as columns (name → array, all of one length), rows without a time left out.
+
+    ``key`` names the table in ``meta.columns`` (the file name; a later segment of a file whose
+    header repeats mid-file is 'file (from row N)'). Raises :class:`_RepeatedHeader` when a row
+    below the header is itself a header (the caller splits the table there).
+    """
     where = {"file": t.file, "sheet": t.sheet, "row": t.header_row}
     mapping: ColumnMapping = map_columns(t.header, column_map, where=where)
     require_log_columns(mapping, t.header, where)
     c = mapping.columns
     fname = Path(t.file).name
-    meta.columns[fname] = {n: s.header for n, s in c.items()}
-    meta.ignored_columns[fname] = list(mapping.ignored)
+    key = key or fname
+    meta.columns[key] = {n: s.header for n, s in c.items()}
+    meta.ignored_columns[key] = list(mapping.ignored)
     for n, s in c.items():
         meta.units.setdefault(n, s.unit_text)
     meta.notes += [f"{fname}: {x}" for x in t.notes]
+
+    tcol = next((c[x] for x in ("interval_end", "interval_start", "time") if x in c), None)
+    if tcol is None and "date" in c and "clock" not in c:
+        tcol = c["date"]
+    if tcol is None and "clock" in c and "date" not in c:
+        tcol = c["clock"]  # a 'Time' column alone holds the date too
+    t = _drop_summary_rows(t, c, tcol or c.get("date"), meta)
     n = len(t.cells)
     rows = t.rows
     # the columns of this part, in order (one frame is built from them at the end)
     part = {"source_file": np.full(n, k, dtype=np.int32), "source_row": rows}
 
     # -- time
-    tcol = next((c[x] for x in ("interval_end", "interval_start", "time") if x in c), None)
-    if tcol is None and "date" in c and "clock" not in c:
-        tcol = c["date"]
-    if tcol is None and "clock" in c and "date" not in c:
-        tcol = c["clock"]  # a 'Time' column alone holds the date too
     if tcol is not None:
         naive, bad_t, is_utc = parse_datetimes(t.cells[tcol.index].to_numpy(), {**where, "row": None, "column": tcol.header})
         zone = "utc" if is_utc else tcol.zone
@@ -234,6 +249,11 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     else:
         raise InputError("a time-of-day column without a date column", **where, column=c["clock"].header,
                          hint="add a 'Date' column, or give one 'Interval end' column with date and time")
+    if bad_t.any():
+        heads = [int(i) for i in np.flatnonzero(bad_t)[:1000] if _score(list(t.cells.iloc[int(i)])) >= 200]
+        if heads:
+            raise _RepeatedHeader([int(rows[i]) for i in heads])
+    part["local_clock"] = np.full(n, zone != "utc")
     if zone == "utc":
         utc = naive
         nonexist = np.zeros(n, bool)
@@ -274,6 +294,7 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     # -- numbers
     unparseable = np.zeros(n, bool)
     missing = np.zeros(n, bool)
+    empty_columns = []
     required = {"pressure_gauge", "pressure_line", "temperature_line", "volume_line", "volume_index", "flow_rate"}
     for name in NUMERIC:
         if name not in c:
@@ -281,7 +302,16 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
         s = c[name]
         raw = t.cells[s.index].to_numpy()
         v, empty, bad = to_numbers(raw, t.decimal)
-        part[name] = s.unit.to_si(v)
+        with np.errstate(over="ignore", invalid="ignore"):
+            v = s.unit.to_si(v)
+        # a cell beyond any physical value (1e308 overflowing, 1e20 Pa) is unreadable, never a number
+        off = np.isfinite(v) & (np.abs(v) > _MAX_MAGNITUDE) | np.isinf(v)
+        if off.any():
+            bad = bad | off
+            v = np.where(off, np.nan, v)
+        part[name] = v
+        if name in required and not np.isfinite(v).any() and empty.all():
+            empty_columns.append(s)
         if name in ("volume_index", "volume_corrected_site_index"):
             part[name + "_scale"] = np.full(n, s.unit.scale)
         if bad.any():
@@ -300,6 +330,7 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
                                  file=t.file, sheet=t.sheet, row=int(rows[i]), column=s.header,
                                  hint="write plain numbers in this column (the unit goes in the header), "
                                       "or map another column to it")
+    _refuse_empty(empty_columns, c, t)
     part["flag_unparseable"] = unparseable | inferred | after_dropped
     part["flag_missing"] = missing
     if "status" in c:
@@ -312,6 +343,146 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     if drop.any():
         part = {name: v[~drop] for name, v in part.items()}
     return part
+
+
+#: |value| in SI above which a cell is not a reading (10^12 Pa, K, m3 or m3/s: beyond anything a
+#: gas meter logs); such a cell is unreadable, so that no total can overflow
+_MAX_MAGNITUDE = 1e12
+
+
+class _RepeatedHeader(Exception):
+    """Source rows (1-based, as the spreadsheet shows them) that repeat a header below the first."""
+
+    def __init__(self, source_rows):
+        super().__init__(source_rows)
+        self.source_rows = source_rows
+
+
+def _segments(t: RawTable, positions) -> list:
+    """The table split at rows that are headers: each part under its own header."""
+    from dataclasses import replace
+
+    out = []
+    cuts = [-1] + sorted(positions) + [len(t.cells)]
+    for a, b in zip(cuts[:-1], cuts[1:]):
+        if a < 0:
+            header, header_row, notes = t.header, t.header_row, t.notes
+        else:
+            cells = [("" if v is None else str(v)).strip() for v in t.cells.iloc[a].tolist()]
+            while cells and cells[-1] == "":
+                cells.pop()
+            header, header_row, notes = cells, int(t.rows[a]), []
+        body = t.cells.iloc[a + 1:b]
+        if not len(body):
+            continue
+        width = len(header)
+        body = body.iloc[:, :width].copy() if body.shape[1] >= width else body
+        body.columns = list(range(body.shape[1]))
+        out.append(replace(t, header=header, header_row=header_row, notes=notes,
+                           cells=body.reset_index(drop=True), rows=t.rows[a + 1:b]))
+    return out
+
+
+_SUMMARY_WORDS = re.compile(r"^\s*(grand\s+)?(total|totals|sum|subtotal|sub-total|average|avg|mean|minimum|min|"
+                            r"maximum|max|summary|month|monthly)\b", re.IGNORECASE)
+
+
+def _drop_summary_rows(t: RawTable, c: dict, tcol, meta: LogMetadata) -> RawTable:
+    """Leave out summary rows below the data, recorded in ``meta.dropped_rows``.
+
+    A summary row is (a) a row whose time cell (or first cell) starts with a word such as Total,
+    Sum, Average, Min, Max; (b) one of the last rows when its time cell is a date without a time of
+    day while the rows above carry times; (c) the last row when its interval volume equals the sum
+    of all the others (to 1e-9, at least three others).
+    """
+    n = len(t.cells)
+    if n < 2 or tcol is None:
+        return t
+    drop = np.zeros(n, bool)
+    why = np.full(n, "", dtype=object)
+    tc = t.cells[tcol.index].to_numpy(dtype=object)
+    first = t.cells[0].to_numpy(dtype=object)
+    # (a) a word in the time cell or the first cell (only text cells are looked at)
+    for col in (tc, first) if tcol.index != 0 else (tc,):
+        is_text = np.fromiter((type(v) is str and v[:1].isalpha() for v in col[-50:]), bool, count=min(n, 50))
+        for j in np.flatnonzero(is_text):
+            i = n - min(n, 50) + int(j)
+            m = _SUMMARY_WORDS.match(col[i])
+            if m and not drop[i]:
+                drop[i] = True
+                why[i] = f"summary row ('{col[i].strip()}')"
+    # (b) trailing date-only stamps after rows with a time of day
+    if tcol.name != "date":
+        import datetime as _dt
+
+        pt = [c[x].index for x in ("pressure_gauge", "pressure_line", "temperature_line") if x in c]
+        above = tc[max(0, n - 50):max(0, n - 3)]
+        timed = len(above) > 0 and all(isinstance(v, str) and ":" in v for v in above)
+
+        def date_only(i):
+            v = tc[i]
+            if isinstance(v, str):
+                return bool(_DATE_ONLY.match(v)) and timed
+            # a workbook date cell may be a midnight time stamp: a summary row only without p or T
+            return (isinstance(v, _dt.date) and not isinstance(v, _dt.datetime)
+                    and any(str(t.cells[j].iat[i]).strip() == "" for j in pt))
+        i = n - 1
+        while i > 0 and n - i <= 3 and (drop[i] or date_only(i)):
+            if not drop[i]:
+                drop[i] = True
+                why[i] = f"summary row (date '{str(tc[i]).strip()}' without a time after the data)"
+            i -= 1
+    # (c) the last kept row's volume is the sum of the others
+    if "volume_line" in c:
+        keep = np.flatnonzero(~drop)
+        if len(keep) >= 4:
+            v, _, _ = to_numbers(t.cells[c["volume_line"].index].to_numpy()[keep], t.decimal)
+            last, rest = v[-1], v[:-1]
+            if np.isfinite(last) and np.isfinite(rest).all() and last != 0:
+                tot = float(np.sum(rest))
+                if abs(last - tot) <= 1e-9 * max(abs(tot), 1e-300) or abs(last - tot) < 0.05 * 10 ** -_decimals(
+                        t.cells[c["volume_line"].index].iat[keep[-1]]):
+                    drop[keep[-1]] = True
+                    why[keep[-1]] = "summary row (its volume is the sum of all the rows above)"
+    if not drop.any():
+        return t
+    fname = Path(t.file).name
+    for i in np.flatnonzero(drop):
+        meta.dropped_rows.append({"file": fname, "sheet": t.sheet, "row": int(t.rows[i]),
+                                  "reason": why[i] + ", not an interval", "value": str(tc[i])})
+    meta.notes.append(f"{fname}: {int(drop.sum())} summary row(s) left out (rows "
+                      + ", ".join(str(int(r)) for r in t.rows[drop]) + ")")
+    from dataclasses import replace
+
+    keep = ~drop
+    return replace(t, cells=t.cells[keep].reset_index(drop=True), rows=t.rows[keep])
+
+
+_DATE_ONLY = re.compile(r"^\s*\d{1,4}[-./]\d{1,2}[-./]\d{1,4}\s*$")
+
+
+def _decimals(cell) -> int:
+    """Decimal places a number is written with (0 for a workbook number or an integer)."""
+    if isinstance(cell, str) and ("." in cell or "," in cell):
+        return len(re.split(r"[.,]", cell.strip())[-1])
+    return 0
+
+
+def _refuse_empty(empty_columns, c, t: RawTable) -> None:
+    """A required quantity whose column is empty in every row: the month cannot be read."""
+    if not empty_columns:
+        return
+    vol = [s for s in empty_columns if s.name in ("volume_line", "volume_index", "flow_rate")]
+    others_have_volume = any(n in c and c[n] not in empty_columns for n in ("volume_line", "volume_index", "flow_rate"))
+    bad = [s for s in empty_columns if s not in vol] + ([] if others_have_volume else vol)
+    if not bad:
+        return
+    s = bad[0]
+    raise InputError(f"column '{s.header}' is present but empty in every row ({len(t.cells)} rows)",
+                     file=t.file, sheet=t.sheet, row=t.header_row + 1, column=s.header,
+                     hint="export the log again with its values; a workbook whose cells are formulas saved "
+                          "without their computed values reads as empty: open it in the spreadsheet program, "
+                          "let it calculate and save it (or export a CSV)")
 
 
 def _stray_times(utc: np.ndarray, bad: np.ndarray) -> np.ndarray:
@@ -369,7 +540,8 @@ def _infer_times(utc: np.ndarray, bad: np.ndarray):
             inferred[a:b] = True
     return out, inferred
 
-def _assemble(tables, timezone, interval_label, column_map, register_digits):
+def _assemble(tables, timezone, interval_label, column_map, register_digits, opening_index=None,
+              timezone_given=True):
     if interval_label not in ("end", "start"):
         raise SettingsError(f"interval label '{interval_label}' is not 'end' or 'start'")
     try:
@@ -381,18 +553,33 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits):
                             hint="use an IANA name such as 'Europe/Berlin' or 'America/Chicago'") from None
     meta = LogMetadata(timezone=timezone, interval_label=interval_label)
     parts = []
-    for k, t in enumerate(tables):
+    queue = [(t, None) for t in tables]
+    while queue:
+        t, key = queue.pop(0)
+        k = len(meta.sources)
+        snapshot = copy.deepcopy(meta)
         meta.sources.append({"file": Path(t.file).name, "role": "log", "sha256": t.sha256, "sheet": t.sheet,
                              "rows": int(len(t.cells)), "header_row": t.header_row, "encoding": t.encoding,
                              "delimiter": t.delimiter, "decimal": t.decimal})
-        parts.append(_read_part(t, k, timezone, interval_label, column_map, meta))
+        try:
+            parts.append(_read_part(t, k, timezone, interval_label, column_map, meta, key))
+        except _RepeatedHeader as rh:
+            meta.__dict__.update(snapshot.__dict__)
+            segs = _segments(t, [int(i) for i in np.flatnonzero(np.isin(t.rows, rh.source_rows))])
+            fname = Path(t.file).name
+            meta.notes.append(f"{fname}: the header repeats below the data (row(s) "
+                              + ", ".join(str(r) for r in rh.source_rows)
+                              + "); each block is read under its own header")
+            queue = [(sg, key if j == 0 else f"{fname} (from row {sg.header_row})")
+                     for j, sg in enumerate(segs)] + queue
     if column_map:
         seen = {_key(h) for t in tables for h in t.header}
         unknown = [h for h in column_map if _key(h) not in seen]
         if unknown:
             raise SettingsError("column map names header(s) not found in any log file: " + ", ".join(unknown),
                                 hint="headers found: " + ", ".join(dict.fromkeys(str(h) for t in tables for h in t.header if str(h).strip())))
-    return join_parts(parts, tables, meta, interval_label, column_map, register_digits)
+    return join_parts(parts, tables, meta, interval_label, column_map, register_digits,
+                      opening_index=opening_index, timezone_given=timezone_given)
 
 
 def file_sha256(path) -> str:

@@ -50,7 +50,7 @@ import pandas as pd
 
 from ..errors import InputError
 from .filecheck import (DEFAULT_LIMITS, TEXT_SUFFIXES, WORKBOOK_SUFFIXES, ZIP_SUFFIXES,  # noqa: F401
-                        Limits, check_zip, sniff_format)
+                        Limits, check_zip, sniff_format, utf16_without_bom)
 
 _EMPTY_TEXT = ("", "-", "--", "---", "n/a", "na", "null", "none", "nan", "#n/a")
 
@@ -179,7 +179,7 @@ def parse_table(fileobj, *, name: str = "<table>", suffix: str | None = None, sh
     if isinstance(data, str):
         data = data.encode("utf-8")
     suffix = (suffix if suffix is not None else Path(name).suffix).lower()
-    kind = sniff_format(data[:8192], suffix, name)
+    kind = sniff_format(data, suffix, name)
     sha = hashlib.sha256(data).hexdigest()
     score = header_score or default_header_score
     if kind == "text":
@@ -217,7 +217,7 @@ def read_rows(path, *, sheet_words=(), limits: Limits = DEFAULT_LIMITS) -> tuple
         raise InputError("file not found", file=p, hint="check the path")
     data = p.read_bytes()
     name = str(p)
-    kind = sniff_format(data[:8192], p.suffix, name)
+    kind = sniff_format(data, p.suffix, name)
     if kind == "text":
         text, _ = _decode(data, name)
         if not text.strip():
@@ -262,6 +262,13 @@ def _decode(data: bytes, name) -> tuple[str, str]:
             return data.decode("utf-16"), "utf-16"
         except UnicodeDecodeError:
             raise InputError("not a text table (damaged UTF-16 text)", file=name,
+                             hint="save the export as UTF-8 CSV") from None
+    enc16 = utf16_without_bom(data)
+    if enc16 is not None:
+        try:
+            return data.decode(enc16), enc16
+        except UnicodeDecodeError:
+            raise InputError(f"not a text table (damaged {enc16.upper()} text without a byte-order mark)", file=name,
                              hint="save the export as UTF-8 CSV") from None
     if data.startswith(codecs.BOM_UTF8):
         try:
@@ -437,7 +444,7 @@ def _parse_workbook(data: bytes, name, suffix, sheet, score, prefer, limits: Lim
         wb, names, visible, rows_of = _openpyxl_fallback(data, name, exc)
     if not names:
         raise InputError("the workbook has no sheets", file=name)
-    chosen = _choose_sheet(names, visible, sheet, prefer, rows_of, score, limits, name)
+    chosen, sheet_note = _choose_sheet(names, visible, sheet, prefer, rows_of, score, limits, name)
     rows, height = rows_of(chosen)
     if height > limits.max_rows + limits.header_scan_rows:
         raise InputError(f"sheet '{chosen}' has {height} rows, more than the limit of {limits.max_rows}", file=name,
@@ -454,6 +461,8 @@ def _parse_workbook(data: bytes, name, suffix, sheet, score, prefer, limits: Lim
         header.pop()
     width = len(header)
     notes = [" ".join(_cell_text(c) for c in r if _cell_text(c)) for r in rows[:hi] if any(_cell_text(c) for c in r)]
+    if sheet_note and len(names) > 1:
+        notes.append(sheet_note)
     body = rows[hi + 1:]
     df = pd.DataFrame([(list(r) + [""] * width)[:width] for r in body], columns=list(range(width)), dtype=object)
     rownum = np.arange(hi + 2, hi + 2 + len(df), dtype=np.int64)
@@ -472,24 +481,58 @@ def _parse_workbook(data: bytes, name, suffix, sheet, score, prefer, limits: Lim
                     notes=notes, kind="workbook", decimal=_decimal_of(df), sheets=names)
 
 
-def _choose_sheet(names, visible, sheet, prefer, rows_of, score, limits, name) -> str:
+def _sheet_note(chosen, names, hidden, why="") -> str:
+    others = [n for n in names if n != chosen]
+    note = f"sheet '{chosen}' read{why}"
+    if others:
+        note += "; not read: " + ", ".join(f"'{n}'" + (" (hidden, holds a table)" if n in hidden else "")
+                                           for n in others)
+    return note
+
+
+def _choose_sheet(names, visible, sheet, prefer, rows_of, score, limits, name):
+    """(sheet to read, note saying which sheets were skipped or None).
+
+    With a header scorer that marks known quantities (a score of 100 or more, as the log reader's
+    does), a sheet holding a table is a candidate: one visible candidate is read; two or more
+    are refused (which one is the month?), and a table only on a hidden sheet is refused too
+    (hidden sheets often hold stale copies); ``sheet`` (``--sheet``) picks one.
+    """
     low = {n.lower(): n for n in names}
     if sheet is not None:
         key = str(sheet).strip().lower()
         if key not in low:
             raise InputError(f"no sheet named '{sheet}'", file=name,
                              hint="sheets in this workbook: " + ", ".join(names))
-        return low[key]
+        chosen = low[key]
+        return chosen, _sheet_note(chosen, names, [], " (named by --sheet)")
     for want in prefer:
         if want.lower() in low:
-            return low[want.lower()]
-    best, best_s = None, 0.0
-    for n in visible:
+            chosen = low[want.lower()]
+            return chosen, _sheet_note(chosen, names, [])
+    scores = {}
+    for n in names:
         rows, _ = rows_of(n, limits.header_scan_rows)
-        _, s = _find_header(rows, score, limits.header_scan_rows)
-        if s > best_s:
-            best, best_s = n, s
-    return best if best is not None else visible[0]
+        scores[n] = _find_header(rows, score, limits.header_scan_rows)[1]
+    strong = [n for n in names if scores[n] >= 100]
+    if strong:
+        shown = [n for n in strong if n in visible]
+        hidden = [n for n in strong if n not in visible]
+        if len(shown) > 1:
+            raise InputError("the workbook has more than one sheet holding a table: "
+                             + ", ".join(f"'{n}'" for n in shown), file=name,
+                             hint="name the one to read with --sheet, e.g. --sheet '" + shown[0] + "' "
+                                  "(one run per sheet when each is a month or a meter)")
+        if not shown:
+            raise InputError(f"the table is on hidden sheet '{hidden[0]}'; hidden sheets are not read unless named",
+                             file=name, sheet=hidden[0],
+                             hint=f"if it is the month's log, give --sheet '{hidden[0]}'")
+        chosen = shown[0]
+        return chosen, _sheet_note(chosen, names, hidden)
+    best = max(visible, key=lambda n: scores.get(n, 0.0)) if visible else None
+    if best is None or scores.get(best, 0.0) <= 0:
+        best = visible[0]
+    return best, None
 
 
 def _openpyxl_fallback(data: bytes, name, why):
@@ -536,7 +579,7 @@ def to_numbers(values, decimal: str = ".") -> tuple[np.ndarray, np.ndarray, np.n
     if all_str and decimal != ",":
         # every cell text with a decimal point: one parse of the cells; done if each one reads
         quick = pd.to_numeric(cells, errors="coerce").astype(float)
-        if not np.isnan(quick).any():
+        if np.isfinite(quick).all():
             return quick, np.zeros(n, bool), np.zeros(n, bool)
     s = pd.Series(cells)
     is_str = np.ones(n, bool) if all_str else (s.map(type).to_numpy() == str)
@@ -566,6 +609,7 @@ def to_numbers(values, decimal: str = ".") -> tuple[np.ndarray, np.ndarray, np.n
             t = st[slow].str.strip()
             emp = t.str.lower().isin(_EMPTY_TEXT).to_numpy()
             cleaned = t.str.replace(r"[\s\u00a0\u202f']", "", regex=True)
+            sep = "." if decimal == "," else ","
             if decimal == ",":
                 grouped = cleaned.str.fullmatch(r"[-+]?\d{1,3}(?:\.\d{3})+(?:,\d*)?")
                 cleaned = cleaned.where(~grouped, cleaned.str.replace(".", "", regex=False))
@@ -574,9 +618,22 @@ def to_numbers(values, decimal: str = ".") -> tuple[np.ndarray, np.ndarray, np.n
                 # a comma is a thousands separator only in groups of three digits; '2,5' stays bad
                 grouped = cleaned.str.fullmatch(r"[-+]?\d{1,3}(?:,\d{3})+(?:\.\d*)?")
                 cleaned = cleaned.where(~grouped, cleaned.str.replace(",", "", regex=False))
+            # '30.125' among decimal-comma values (or '30,125' among decimal-point values) reads as
+            # 30125 only if grouping is the column's own format: else it contradicts the column
+            # and is unreadable, never rescaled
+            bare = grouped & ~t.str.contains(decimal, regex=False)
+            if bare.any():
+                texts = st.str.strip()
+                texts = texts[texts != ""]
+                if float(texts.str.contains(sep, regex=False).mean()) < 0.5:
+                    cleaned = cleaned.where(~bare, None)
             v = pd.to_numeric(cleaned.where(~emp, None), errors="coerce").to_numpy(float)
             j = idx[slow]
             out[j] = v
             empty[j] = emp
             bad[j] = ~emp & np.isnan(v)
+    inf = np.isinf(out)
+    if inf.any():  # 'inf', '-inf', '1e999': not a reading
+        out[inf] = np.nan
+        bad |= inf
     return out, empty, bad
