@@ -360,3 +360,27 @@ def test_the_demo_month_closes_and_verifies_with_its_invoice_and_corrector_check
     assert entry["totals"]["energy_MJ"] == summary["totals"]["energy_MJ"]
     assert entry["invoice_difference_pct"] is not None and entry["corrector_deviation_pct"] is not None
     assert entry["expanded_uncertainty_pct"] == pytest.approx(summary["totals"]["expanded_uncertainty_pct"])
+
+
+def test_dask_workers_close_into_one_store(tmp_path):
+    """`meterfix fleet --scheduler --store`: two real Dask worker processes close their meters
+    into one SQLite store (given by a relative path: every worker gets the same file)."""
+    from test_fleet_dask import Cluster
+
+    S.write_fleet_month(tmp_path / "fleet", "2026-10")
+    cluster = Cluster(tmp_path, 2)
+    try:
+        cwd = os.getcwd()
+        os.chdir(tmp_path)
+        try:
+            r = CliRunner().invoke(app, ["fleet", "fleet", "--out", "out", "--scheduler", cluster.address,
+                                         "--store", "months.sqlite", "--quiet"])
+        finally:
+            os.chdir(cwd)
+    finally:
+        cluster.stop()
+    assert r.exit_code == 0, r.output
+    df = entries(open_store(tmp_path / "months.sqlite"))
+    assert sorted(df["meter"]) == sorted(S.METERS)
+    for m in S.METERS:
+        assert verify_closing(open_store(tmp_path / "months.sqlite"), m, "2026-10").ok
