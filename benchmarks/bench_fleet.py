@@ -10,6 +10,8 @@ site.toml each), then times, on the same meters:
            interval, gas-day and edit CSVs and the run manifest), interpreter start and imports
            counted
 - fleet --workbooks   the same with each meter's month workbook
+- run_fleet without the month's uncertainty (Python API, same pool): what the fleet machinery
+  itself costs, to tell it apart from the uncertainty budget and Monte Carlo
 
 and prints wall times, ratios to the core path, the 1,000-meter figure each gives at the rate
 measured (targets: <= 60 s without workbooks, <= 3 min with them; ratio <= 3x), where one meter's
@@ -101,6 +103,18 @@ def time_cli(folder: Path, out: Path, workers: int, workbooks: bool) -> float:
     return wall
 
 
+def time_api_without_uncertainty(folder: Path, out: Path, workers: int) -> float:
+    """The fleet runner through the Python API with the month's uncertainty left out: what the
+    fleet's own machinery (pool, per-meter text outputs, rows) costs beside the core path."""
+    from meterfix.fleet.local import run_fleet
+
+    t0 = time.perf_counter()
+    run = run_fleet(folder, out, {}, workers=workers, uncertainty=False)
+    wall = time.perf_counter() - t0
+    assert all(r["status"] == "ok" for r in run.rows)
+    return wall
+
+
 def split_one(meter_dir: Path, out: Path) -> dict:
     """Seconds of each step of one meter's fleet run, in this process."""
     from meterfix import uncertainty as U
@@ -151,11 +165,13 @@ def main() -> None:
         core = time_core(dirs, a.workers)
         fleet = time_cli(tmp / "fleet", tmp / "out", a.workers, workbooks=False)
         books = None if a.no_workbooks else time_cli(tmp / "fleet", tmp / "out-wb", a.workers, workbooks=True)
+        bare = time_api_without_uncertainty(tmp / "fleet", tmp / "out-api", a.workers)
         n = a.meters
         print(f"\n{'':34s}{'wall s':>9s}{'ms/meter':>10s}{'x core':>8s}{'1,000 meters':>14s}  target")
         rows = [("core path (read_month), pool", core, None), ("meterfix fleet (CLI)", fleet, "<= 60 s, <= 3x core")]
         if books is not None:
             rows.append(("meterfix fleet --workbooks (CLI)", books, "<= 180 s"))
+        rows.append(("run_fleet API, no uncertainty", bare, "(the split)"))
         for label, wall, target in rows:
             print(f"{label:34s}{wall:9.2f}{1000 * wall / n:10.1f}{wall / core:8.1f}{1000 * wall / n:13.0f}s  "
                   f"{target or ''}")
