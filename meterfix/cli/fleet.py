@@ -83,7 +83,8 @@ def _progress(enabled: bool):
 
         def update(done, total, row):
             if row.get("status") != "ok":
-                bar.console.print(f"  {row['meter_folder']}: {row['status']}: {row.get('error')}", markup=False)
+                bar.console.print(f"  {row['meter_folder']}: {row['status']}: {row.get('error')}", markup=False,
+                                  highlight=False)
             bar.update(task, total=total, completed=done, description=str(row.get("meter_folder"))[:32])
 
         yield update
