@@ -65,5 +65,9 @@ class SettingsError(InputError):
     """A site setting is missing or invalid."""
 
 
+class OutputError(MeterfixError):
+    """An output cannot be written where asked: a read-only folder, a file in the way, a full disk."""
+
+
 class RangeWarning(UserWarning):
     """Some points lie outside the validity range of the chosen method."""

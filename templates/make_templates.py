@@ -25,7 +25,7 @@ from meterfix.engine.settings import BASE_PRESETS, SETTING_KINDS  # noqa: E402
 from meterfix.uncertainty.inputs import DEFAULTS as UNC_DEFAULTS  # noqa: E402
 from meterfix.uncertainty.inputs import FLOW_KEYS, INPUT_KEYS  # noqa: E402
 from meterfix.gas.components import NAMES  # noqa: E402
-from meterfix.writers import xlsx_common as X  # noqa: E402
+from meterfix.writers import xlsx_openpyxl as X  # noqa: E402
 from meterfix.z.registry import method_names  # noqa: E402
 
 # (header, required, unit choices, what it holds, example)

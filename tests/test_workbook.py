@@ -203,8 +203,10 @@ def test_charts_plot_the_right_cells(book):
     assert _series_refs(charts[3]) == [(days, _ref(gd, "Ideal-gas error [%]", 2, n_days + 1))]
     # every error is negative here (Z < 1 at 40 bar): the axis ends at zero so bars hang from it
     assert charts[3].y_axis.scaling.max == 0
-    # axes are shown (openpyxl otherwise writes them as deleted)
-    assert all(c.x_axis.delete is False and c.y_axis.delete is False for c in charts)
+    # axes are shown (not written as deleted; an absent <c:delete> reads back as None)
+    assert all(not c.x_axis.delete and not c.y_axis.delete for c in charts)
+    # the daily volumes compare sizes: their axis starts at zero
+    assert charts[2].y_axis.scaling.min == 0
 
 
 def test_waterfall_chart_and_helper_table(book):
@@ -218,8 +220,9 @@ def test_waterfall_chart_and_helper_table(book):
     last = first + len(att) - 1
     assert ws.cell(row=last, column=9).value == "invoice"
     assert [s.val.numRef.f for s in ch.series] == [f"'Invoice check'!${c}${first}:${c}${last}" for c in "JKLMNO"]
-    # base + visible part of each step bar lands on the attribution's cumulative energy [GJ]
-    cum = list(att["cumulative_energy_MJ"] / 1e3)
+    # the waterfall charts the difference from our figure (ours = 0, the last bar invoice - ours):
+    # base + visible part of each step bar lands on the cumulative energy less ours [GJ]
+    cum = list((att["cumulative_energy_MJ"] - att["cumulative_energy_MJ"].iat[0]) / 1e3)
     for i in range(len(att)):
         vals = [ws.cell(row=first + i, column=c).value for c in range(10, 16)]
         base, total, up, up2, down, down2 = vals
@@ -229,7 +232,9 @@ def test_waterfall_chart_and_helper_table(book):
             assert top in (pytest.approx(lo_hi[0], rel=1e-12), pytest.approx(lo_hi[1], rel=1e-12))
         else:
             assert total == pytest.approx(cum[i], rel=1e-12)
-    assert ch.y_axis.scaling.min is not None and 0 < ch.y_axis.scaling.min < min(cum)
+    # bars compare sizes: the value axis is not cut above zero, and the helper series has no legend entry
+    assert ch.y_axis.scaling.min is None or ch.y_axis.scaling.min <= 0
+    assert ch.legend is None
     # the totals and periods against the reconciliation's own fields
     r = _label_row(ws, "Energy difference")
     assert ws.cell(row=r, column=2).value == pytest.approx(RESULT.reconciliation.totals["energy_difference_MJ"] / 1e3,

@@ -224,6 +224,11 @@ def main(argv: Optional[List[str]] = None) -> int:
     except MeterfixError as exc:
         typer.echo(f"meterfix: error: {exc}", err=True)
         return 2
+    except OSError as exc:  # an operating-system error no command turned into a message: one line, no traceback
+        from ..writers.outset import os_error
+
+        typer.echo(f"meterfix: error: {os_error(exc, what='file system error')}", err=True)
+        return 2
     return 0
 
 

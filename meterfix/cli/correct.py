@@ -114,6 +114,9 @@ def _correct(a: dict) -> int:
 
     inputs = list(a["logs"]) + [p for p in (a.get("composition"), a.get("invoice"), a.get("site_file")) if p]
     protect_inputs(inputs)
+    from ..writers.outset import check_output_folder
+
+    check_output_folder(a["out"], json_file=a.get("json_file"))  # every output path, before any computing
     from .console import progress_bar
 
     from ..store.job import Closer
@@ -164,6 +167,9 @@ def _correct_from_manifest(a: dict) -> int:
         raise SettingsError(f"--manifest re-runs the month exactly as recorded; drop {names}",
                             hint="only --out, --overwrite, --json and --quiet go with --manifest")
     protect_inputs([a["manifest"]])
+    from ..writers.outset import check_output_folder
+
+    check_output_folder(a["out"], json_file=a.get("json_file"))
     result, run, man = rerun(a["manifest"])
     protect_inputs([p for p in (run["logs"] + [run.get("composition"), run.get("invoice"), run.get("site_file")]) if p])
     written = write_outputs(result, a["out"], overwrite=a.get("overwrite", False), json_file=a.get("json_file"),

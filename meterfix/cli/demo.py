@@ -67,6 +67,9 @@ def run_demo(out_dir, overwrite: bool = False):
     composition = folder / files["composition"]
     invoice = folder / files["invoice"]
     protect_inputs(logs + [composition, invoice, site])
+    from ..writers.outset import check_output_folder
+
+    check_output_folder(out_dir)
     result = run_files(logs, settings, composition=composition, invoice=invoice)
     run = {"logs": logs, "composition": composition, "invoice": invoice, "site_file": site, "uncertainty": True,
            "options": {}}

@@ -27,21 +27,23 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
 
     Outputs: ``<stem>_intervals.csv`` (and ``<stem>_intervals.parquet`` when pyarrow is
     installed), ``<stem>_gas_days.csv``, ``<stem>_edits.csv`` (the quality edit record),
-    ``<stem>.xlsx``, ``<stem>_manifest.json`` and ``<stem>_summary.json``.
+    ``<stem>.xlsx``, ``<stem>_manifest.json`` and ``<stem>_summary.json`` (and ``json_file``,
+    a copy of the summary, when given).
 
     ``workbook=False`` leaves the workbook out (``meterfix fleet`` without ``--workbooks``); the other
     outputs are the same.
 
-    Everything is computed before the first file is written, and every file is written to a
-    temporary name and renamed, so a failed or killed run leaves no partial output.
+    The set is complete or absent (:mod:`meterfix.writers.outset`): everything is computed
+    first, the files are written into a temporary folder beside ``out_dir`` under a lock on
+    ``out_dir``, then moved into place, the summary last. Files are readable as the umask allows.
+    An operating-system error (read-only folder, full disk, a file in the way) raises
+    :class:`~meterfix.errors.OutputError` and leaves no output.
     """
+    from .outset import OutputSet, os_error
+
     out = Path(out_dir)
-    if out.exists() and not out.is_dir():
-        from ..errors import InputError
-        raise InputError("--out is a file, not a folder", file=out)
     stem = output_stem(result)
     summary = summary_json(result)
-    written = {}
     write_workbook = None
     if workbook:
         try:
@@ -49,38 +51,44 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
         except ModuleNotFoundError as exc:
             if exc.name != "meterfix.writers.workbook":
                 raise
-    targets = {"summary": out / f"{stem}_summary.json", "intervals": out / f"{stem}_intervals.csv",
-               "gas_days": out / f"{stem}_gas_days.csv", "edits": out / f"{stem}_edits.csv",
-               "manifest": out / f"{stem}_manifest.json"}
+    names = {"summary": f"{stem}_summary.json", "intervals": f"{stem}_intervals.csv",
+             "gas_days": f"{stem}_gas_days.csv", "edits": f"{stem}_edits.csv", "manifest": f"{stem}_manifest.json"}
     if parquet_available():
-        targets["parquet"] = out / f"{stem}_intervals.parquet"
+        names["parquet"] = f"{stem}_intervals.parquet"
     if write_workbook is not None:
-        targets["workbook"] = out / f"{stem}.xlsx"
+        names["workbook"] = f"{stem}.xlsx"
+    targets = {k: out / n for k, n in names.items()}
     from .atomic import check_target
-
-    for p in targets.values():
-        check_target(p, overwrite=overwrite)
     from .manifest import build_manifest, manifest_json
 
+    for p in targets.values():
+        check_target(p, overwrite=overwrite)  # before any work; again under the lock below
+    if json_file is not None:
+        check_target(json_file, overwrite=True)
     manifest_text = manifest_json(build_manifest(result, run, targets["manifest"], outputs=targets,
                                                  summary_text=summary))
-    out.mkdir(parents=True, exist_ok=True)
-    written["intervals"] = write_interval_csv(result, targets["intervals"], overwrite=overwrite)
-    if "parquet" in targets:
-        written["parquet"] = write_interval_parquet(result, targets["parquet"],
-                                                              overwrite=overwrite)
-    written["gas_days"] = write_gas_day_csv(result, targets["gas_days"], overwrite=overwrite)
-    written["edits"] = write_edits_csv(result, targets["edits"], overwrite=overwrite)
-    if write_workbook is not None:
-        written["workbook"] = write_workbook(
-            result, targets["workbook"], overwrite=overwrite, interval_csv=targets["intervals"].name,
-            interval_parquet=targets["parquet"].name if "parquet" in targets else None,
-            edits_csv=targets["edits"].name)
-    written["manifest"] = write_text(targets["manifest"], manifest_text, overwrite=overwrite)
-    # the summary is written last: its presence marks a complete set of outputs
-    written["summary"] = write_text(targets["summary"], summary, overwrite=overwrite)
+    try:
+        with OutputSet(out, overwrite=overwrite) as outs:
+            outs.check_finals(names.values())
+            tmp = {k: outs.path(n) for k, n in names.items()}
+            write_interval_csv(result, tmp["intervals"])
+            if "parquet" in tmp:
+                write_interval_parquet(result, tmp["parquet"])
+            write_gas_day_csv(result, tmp["gas_days"])
+            write_edits_csv(result, tmp["edits"])
+            if write_workbook is not None:
+                write_workbook(result, tmp["workbook"], interval_csv=names["intervals"],
+                               interval_parquet=names.get("parquet"), edits_csv=names["edits"])
+            write_text(tmp["manifest"], manifest_text)
+            write_text(tmp["summary"], summary)
+            if json_file is not None:
+                write_text(outs.outside(json_file), summary, overwrite=True)
+            outs.commit()
+    except OSError as exc:
+        raise os_error(exc, out) from None
+    written = dict(targets)
     if json_file is not None:
-        written["json"] = write_text(json_file, summary, overwrite=True)
+        written["json"] = Path(json_file)
     return written
 
 

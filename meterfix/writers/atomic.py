@@ -1,7 +1,9 @@
 """Safe writing: every output goes to a temporary file in the target folder, then is renamed.
 
 A run killed while writing leaves no partial output under the final name. Outputs never replace
-an input file, and an existing output is refused unless ``overwrite`` is set.
+an input file, and an existing output is refused unless ``overwrite`` is set. Final files get
+mode ``0666 & ~umask``. A month's set of outputs is moved into place as a whole by
+:mod:`meterfix.writers.outset`.
 """
 
 from __future__ import annotations
@@ -55,10 +57,32 @@ def atomic_path(path, *, overwrite: bool = False):
     os.close(fd)
     try:
         yield Path(tmp)
+        os.chmod(tmp, file_mode())  # mkstemp makes 0600; the file is as readable as the umask allows
         os.replace(tmp, path)
     finally:
         with contextlib.suppress(FileNotFoundError):
             os.unlink(tmp)
+
+
+def umask() -> int:
+    """The process umask, read without changing it where the system allows (Linux), else set back."""
+    with contextlib.suppress(OSError, ValueError):
+        with open("/proc/self/status", encoding="ascii") as fh:
+            for line in fh:
+                if line.startswith("Umask:"):
+                    return int(line.split()[1], 8)
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
+
+
+def file_mode() -> int:
+    """Mode of a final output file: readable and writable as the umask allows (0644 under umask 022)."""
+    return 0o666 & ~umask()
+
+
+def folder_mode() -> int:
+    return 0o777 & ~umask()
 
 
 def write_bytes(path, data: bytes, *, overwrite: bool = False) -> Path:

@@ -17,20 +17,19 @@ fixed timestamps inside, so the same result gives the same bytes.
 from __future__ import annotations
 
 import json
+from pathlib import Path
 
 import numpy as np
 import pandas as pd
-from openpyxl import Workbook
-from openpyxl.styles import Alignment
-from openpyxl.worksheet.pagebreak import Break
 
 from .. import __version__
 from . import workbook_charts as C
 from . import workbook_checks as K
+from . import workbook_history as H
 from . import workbook_sheets as S
 from . import workbook_source as R
 from . import xlsx_common as X
-from .atomic import write_bytes
+from .atomic import atomic_path
 from .summary import CAUTION
 
 #: rows of data a worksheet can hold; the interval table goes to CSV above it (tests lower it)
@@ -49,6 +48,7 @@ SHEET_GUIDE = (
     ("Corrector check", "the site corrector's volume against ours (when logged)"),
     ("Source data", "the log files as read: how each column was understood, and every unreadable cell, row left "
                     "out or differing duplicate with its file, sheet, row and column"),
+    ("History", "this meter's stored months, newest last (when the run keeps a store)"),
 )
 
 # Settings field → the setting names that set it (for the 'source' column)
@@ -82,15 +82,13 @@ def _setting_text(v):
 
 def _long_row(ws, r, label, text):
     """A label and a long text spread over columns B:D, wrapped, with room for its lines."""
-    ws.cell(row=r, column=1, value=label).font = X.LABEL_FONT
-    c = ws.cell(row=r, column=2, value=X.cell_value(text))
-    c.alignment = Alignment(wrap_text=True, vertical="top")
-    ws.merge_cells(start_row=r, start_column=2, end_row=r, end_column=4)
+    ws.cell(r, 1, label).font = X.LABEL_FONT
+    c = ws.cell(r, 2, X.cell_value(text))
+    c.alignment = X.TOP_WRAP
+    ws.merge(r, 2, r, 4)
     for j in range(1, 5):
-        ws.cell(row=r, column=j).border = X.CELL_BORDER
-    ws.cell(row=r, column=1).alignment = Alignment(vertical="top")
-    lines = max(1, -(-len(str(text or "")) // 110))
-    ws.row_dimensions[r].height = 15 * lines + 2
+        ws.cell(r, j).border = X.CELL_BORDER
+    ws.cell(r, 1).alignment = X.TOP
     return r + 1
 
 
@@ -106,7 +104,7 @@ def _row(ws, r, label, value, unit="", fmt=None, note=""):
     c = ws.cell(row=r, column=2, value=X.cell_value(value))
     if fmt and isinstance(c.value, (int, float)) and not isinstance(c.value, bool):
         c.number_format = fmt
-    c.alignment = Alignment(horizontal="right") if isinstance(c.value, (int, float)) else Alignment(horizontal="left")
+    c.alignment = X.align("right") if isinstance(c.value, (int, float)) else X.align("left")
     ws.cell(row=r, column=3, value=unit)
     if note:
         ws.cell(row=r, column=4, value=X.cell_value(note)).font = X.NOTE_FONT
@@ -135,15 +133,15 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     c = ws.cell(row=4, column=1, value=CAUTION)
     c.font = X.CAUTION_FONT
     c.fill = X.CAUTION_FILL
-    c.alignment = Alignment(wrap_text=True, vertical="top")
-    ws.merge_cells("A3:D3")
-    ws.merge_cells("A4:D7")
+    c.alignment = X.TOP_WRAP
+    ws.merge(3, 1, 3, 4)
+    ws.merge(4, 1, 7, 4)
     for rr in range(3, 8):
         for cc in range(1, 5):
             ws.cell(row=rr, column=cc).border = X.CAUTION_BORDER
             ws.cell(row=rr, column=cc).fill = X.CAUTION_FILL
     for rr in range(4, 8):
-        ws.row_dimensions[rr].height = 20
+        ws.height(rr, 20)
     at["caution"] = 4
 
     vl, el, hl, ml = du.label("volume"), du.label("energy"), du.label("heating_value"), du.label("mass")
@@ -235,7 +233,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     recs = [rec for rec in (result.inputs or []) if isinstance(rec, dict)]
     if recs:
         X.write_header(ws, r, 1, ["File", "Role and how it was read", "sha256", ""], height=None)
-        ws.merge_cells(start_row=r, start_column=3, end_row=r, end_column=4)
+        ws.merge(r, 3, r, 4)
         at["inputs"] = r + 1
         r += 1
         for rec in recs:
@@ -244,7 +242,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
             ws.cell(row=r, column=1, value=X.cell_value(rec.get("file")))
             ws.cell(row=r, column=2, value=X.cell_value(str(rec.get("role", "")) + (f" ({details})" if details else "")))
             ws.cell(row=r, column=3, value=X.cell_value(rec.get("sha256")))
-            ws.merge_cells(start_row=r, start_column=3, end_row=r, end_column=4)
+            ws.merge(r, 3, r, 4)
             for j in range(1, 5):
                 ws.cell(row=r, column=j).border = X.CELL_BORDER
             r += 1
@@ -266,7 +264,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         for w in result.warnings:
             r = X.note(ws, r, w, span=4)
     r = X.section(ws, r + 1, "Sheets of this workbook")
-    present = set(ws.parent.sheetnames)
+    present = set(ws.book.sheetnames)
     for name, text in SHEET_GUIDE:
         if name in present:
             r = _long_row(ws, r, name, text)
@@ -293,12 +291,12 @@ def time_span(result, daily=False):
 
 
 def build_workbook(result, *, interval_csv=None, max_rows=None, interval_parquet=None, edits_csv=None):
-    """The month workbook as an openpyxl Workbook (not saved), and where things are."""
+    """The month workbook laid out as an :class:`~.xlsx_common.Book` (not saved), and where things are."""
     max_rows = MAX_INTERVAL_ROWS if max_rows is None else max_rows
     du = X.DisplayUnits(result.settings.display_units)
-    wb = Workbook()
-    ov = wb.active
-    ov.title = "Overview"
+    wb = X.Book(title=f"meterfix month report {result.settings.meter} {_month_label(result)}",
+                subject="gas volumes and energy at contract base conditions")
+    ov = wb.create_sheet("Overview")
     charts = wb.create_sheet("Charts")
     gd_ws = wb.create_sheet("Gas days")
     iv_ws = wb.create_sheet("Intervals")
@@ -321,6 +319,9 @@ def build_workbook(result, *, interval_csv=None, max_rows=None, interval_parquet
         K.write_corrector(wb.create_sheet("Corrector check"), result, du, iv_ws, iv_block,
                           span=time_span(result))
     layout["source"] = R.write_source_data(wb.create_sheet("Source data"), result)
+    history = getattr(result, "history", None)
+    if history is not None and len(history):
+        layout["history"] = H.write_history(wb.create_sheet("History"), result, history)
     layout["overview"] = write_overview(ov, result, du, interval_csv=interval_csv,
                                         intervals_in_sheet=iv_block is not None, interval_parquet=interval_parquet,
                                         edits_csv=edits_csv)
@@ -342,14 +343,9 @@ def build_workbook(result, *, interval_csv=None, max_rows=None, interval_parquet
             ch.height = 7.5
             C.place(charts, ch, f"A{r + 1 + i * step}")
             if i % 2 == 1:
-                charts.row_breaks.append(Break(id=r + (i + 1) * step - 1))
+                charts.row_breaks.append(r + (i + 1) * step - 1)
+    charts.repeat_rows = (1, 1)
     layout["span"] = span
-    for ws in wb.worksheets:
-        X.print_setup(ws, fit_width=ws is not iv_ws)
-    if iv_block is not None:
-        iv_ws.print_title_rows = "1:1"
-    X.fix_properties(wb, title=f"meterfix month report {result.settings.meter} {_month_label(result)}",
-                     subject="gas volumes and energy at contract base conditions")
     return wb, layout
 
 
@@ -371,6 +367,7 @@ def write_workbook(result, path, *, overwrite: bool = False, interval_csv=None, 
     """
     wb, _ = build_workbook(result, interval_csv=interval_csv, max_rows=max_rows,
                            interval_parquet=interval_parquet, edits_csv=edits_csv)
-    data = X.repeatable_xlsx_bytes(wb)
-    return write_bytes(path, data, overwrite=overwrite)
+    with atomic_path(path, overwrite=overwrite) as tmp:
+        wb.save(tmp)
+    return Path(path)
 

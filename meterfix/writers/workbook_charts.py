@@ -1,74 +1,149 @@
-"""Native charts of the month workbook (openpyxl.chart), pointing at the data sheets' cells.
+"""Native charts of the month workbook (xlsxwriter charts), pointing at the data sheets' cells.
 
 - line pressure and temperature over the month (temperature on a secondary axis);
 - Zb/Zf over the month;
-- daily corrected volume, real gas beside ideal gas (clustered columns);
-- daily ideal-gas error [%];
-- the invoice attribution as a waterfall: a stacked column chart whose first series, the
-  invisible base, lifts each visible bar to where the previous step ended;
-- the uncertainty budget shares; the corrector ratio against the best explanation.
+- daily corrected volume, real gas beside ideal gas (clustered columns, the axis from zero);
+- daily ideal-gas error [%] (bars hang from zero);
+- the invoice attribution as a waterfall of the difference, from zero (our figure) to the
+  invoice: a stacked column chart whose first series, the invisible base (no fill, no line, no
+  legend entry), lifts each visible bar to where the previous step ended;
+- the uncertainty budget shares (from zero); the corrector ratio against the best explanation.
 
-When the interval table does not fit a worksheet the time-series charts plot gas-day means.
+A chart is described by a :class:`ChartSpec` while the sheets are laid out and built when the
+workbook is saved. When the interval table does not fit a worksheet the time-series charts plot
+gas-day means.
 """
 
 from __future__ import annotations
 
+import datetime as _dt
 import math
-
-from openpyxl.chart import BarChart, Reference, ScatterChart, Series
-from openpyxl.chart.shapes import GraphicalProperties
-from openpyxl.drawing.line import LineProperties
-from openpyxl.utils import column_index_from_string
-from openpyxl.utils.datetime import to_excel
+from dataclasses import dataclass, field
 
 from . import xlsx_common as X
 
 WIDTH_CM = 25.0
 HEIGHT_CM = 9.0
+_PX_PER_CM = 96 / 2.54
 
 
-def _ref(ws, col_letter, first, last):
-    c = column_index_from_string(col_letter)
-    return Reference(ws, min_col=c, max_col=c, min_row=first, max_row=last)
+@dataclass
+class Ref:
+    """One column's rows on a sheet."""
+
+    sheet: str
+    col: str
+    first: int
+    last: int
+
+    def formula(self) -> str:
+        return "=" + X.range_ref(self.sheet, self.col, self.first, self.last)
 
 
-def _axes_visible(chart):
-    # openpyxl 3.1 marks axes deleted unless told otherwise; spreadsheets then hide them
-    for ax in (chart.x_axis, chart.y_axis):
-        ax.delete = False
+@dataclass
+class ChartSpec:
+    kind: str                                   # 'scatter', 'column', 'bar'
+    subtype: str | None = None
+    title: str = ""
+    series: list = field(default_factory=list)  # dicts: name, x, y (Ref), colour, width, y2, invisible
+    x_axis: dict = field(default_factory=dict)
+    y_axis: dict = field(default_factory=dict)
+    y2_axis: dict = field(default_factory=dict)
+    legend: str | None = "bottom"
+    width_cm: float = WIDTH_CM
+    height_cm: float = HEIGHT_CM
+    gap: int | None = None
+    overlap: int | None = None
+
+    # -- readable accessors (tests and layout)
+    @property
+    def height(self):
+        return self.height_cm
+
+    @height.setter
+    def height(self, v):
+        self.height_cm = v
+
+    def build(self, wb, book=None):
+        """The xlsxwriter chart (``book``: the Book, for the cached values of streamed tables)."""
+        opts = {"type": self.kind}
+        if self.subtype:
+            opts["subtype"] = self.subtype
+        ch = wb.add_chart(opts)
+        for s in self.series:
+            d = {"values": s["y"].formula(), "name": s["name"]}
+            if s.get("x") is not None:
+                d["categories"] = s["x"].formula()
+            if book is not None:
+                for key, ref in (("values_data", s["y"]), ("categories_data", s.get("x"))):
+                    data = _cached(book, ref)
+                    if data is not None:
+                        d[key] = data
+            colour = s.get("colour")
+            if self.kind == "scatter":
+                d["line"] = {"color": X.rgb(colour), "width": s.get("width", 1.5)}
+                d["marker"] = {"type": "none"}
+            elif s.get("invisible"):
+                d["fill"] = {"none": True}
+                d["border"] = {"none": True}
+            else:
+                d["fill"] = {"color": X.rgb(colour)}
+                d["border"] = {"color": X.rgb(colour)}
+            if s.get("y2"):
+                d["y2_axis"] = True
+            if self.gap is not None and self.kind != "scatter":
+                d["gap"] = self.gap
+            if self.overlap is not None and self.kind != "scatter":
+                d["overlap"] = self.overlap
+            ch.add_series(d)
+        ch.set_title({"name": self.title, "name_font": {"size": 12, "bold": True}})
+        ch.set_x_axis(dict(self.x_axis))
+        ch.set_y_axis(dict(self.y_axis))
+        if self.y2_axis:
+            ch.set_y2_axis(dict(self.y2_axis))
+        if self.legend is None:
+            ch.set_legend({"none": True})
+        else:
+            hidden = [i for i, s in enumerate(self.series) if s.get("invisible")]
+            ch.set_legend({"position": self.legend, **({"delete_series": hidden} if hidden else {})})
+        ch.set_size({"width": round(self.width_cm * _PX_PER_CM), "height": round(self.height_cm * _PX_PER_CM)})
+        return ch
 
 
-def _line_series(ws, block, xcol, ycol, title, colour, width_emu=19050):
-    s = Series(_ref(ws, ycol, block.first_row, block.last_row), _ref(ws, xcol, block.first_row, block.last_row),
-               title=title)
-    s.marker.symbol = "none"
-    s.smooth = False
-    s.graphicalProperties.line.solidFill = colour
-    s.graphicalProperties.line.width = width_emu
-    return s
+def _cached(book, ref):
+    """No cached values for a streamed table's columns: the chart refers to the cells, and a
+    spreadsheet draws it from them (the cache is optional in SpreadsheetML; writing it would
+    double the time to write a long month)."""
+    if ref is None:
+        return None
+    try:
+        ws = book[ref.sheet]
+    except KeyError:
+        return None
+    return [] if ws.bulk is not None else None
 
 
-def _time_chart(title, y_title, x_title, span=None, y_format="General"):
+def _serial(v: _dt.datetime) -> float:
+    return (v - _dt.datetime(1899, 12, 30)).total_seconds() / 86400.0
+
+
+def _axis_title(text):
+    return {"name": text, "name_font": {"size": 10, "bold": False}}
+
+
+def _time_chart(title, y_title, span=None, y_format="General"):
     """A scatter chart with lines over time; ``span`` = (first, last) datetime of the x axis."""
-    ch = ScatterChart()
-    ch.title = title
-    ch.style = 2
-    ch.y_axis.title = y_title
-    if x_title:
-        ch.x_axis.title = x_title
-    ch.x_axis.number_format = "dd mmm"
-    ch.x_axis.majorGridlines = None
-    ch.x_axis.axPos = "b"
-    ch.y_axis.number_format = y_format
+    x = {"num_format": "dd mmm", "major_gridlines": {"visible": False}, "label_position": "low"}
     if span is not None:
-        lo, hi = (to_excel(v) for v in span)
-        ch.x_axis.scaling.min = math.floor(lo)
-        ch.x_axis.scaling.max = math.ceil(hi)
-        ch.x_axis.majorUnit = 7 if hi - lo > 20 else 1
-    ch.width, ch.height = WIDTH_CM, HEIGHT_CM
-    ch.legend.position = "b"
-    _axes_visible(ch)
-    return ch
+        lo, hi = (_serial(v) for v in span)
+        x.update({"min": math.floor(lo), "max": math.ceil(hi), "major_unit": 7 if hi - lo > 20 else 1})
+    return ChartSpec("scatter", "straight", title, x_axis=x,
+                     y_axis={**_axis_title(y_title), "num_format": y_format,
+                             "major_gridlines": {"visible": True, "line": {"color": X.rgb(X.GRID)}}})
+
+
+def _series(name, x, y, colour, width=1.5, **kw):
+    return {"name": name, "x": x, "y": y, "colour": colour, "width": width, **kw}
 
 
 def pressure_temperature_chart(data_ws, block, du, *, daily=False, span=None):
@@ -76,21 +151,13 @@ def pressure_temperature_chart(data_ws, block, du, *, daily=False, span=None):
     xcol = block.columns["local"] if not daily else block.columns["Gas day"]
     pcol = block.columns["pressure"] if not daily else block.columns[f"Mean line pressure [{du.label('pressure')}]"]
     tcol = block.columns["temperature"] if not daily else block.columns[f"Mean line temperature [{du.label('temperature')}]"]
-    ch = _time_chart("Line pressure and temperature" + (" (gas-day means)" if daily else ""), f"Line pressure [{du.label('pressure')}]",
-                     None, span, "#,##0")
-    ch.series.append(_line_series(data_ws, block, xcol, pcol, "Line pressure", X.PRESSURE))
-    t = ScatterChart()
-    t.series.append(_line_series(data_ws, block, xcol, tcol, "Line temperature", X.TEMPERATURE))
-    t.y_axis.axId = 200
-    t.y_axis.title = f"Line temperature [{du.label('temperature')}]"
-    t.y_axis.crosses = "max"
-    t.y_axis.axPos = "r"
-    t.y_axis.majorGridlines = None
-    t.y_axis.number_format = "0"
-    t.y_axis.delete = False
-    t.x_axis = ch.x_axis
-    ch.y_axis.crosses = "min"
-    ch += t
+    ch = _time_chart("Line pressure and temperature" + (" (gas-day means)" if daily else ""),
+                     f"Line pressure [{du.label('pressure')}]", span, "#,##0")
+    ref = lambda c: Ref(data_ws.title, c, block.first_row, block.last_row)  # noqa: E731
+    ch.series.append(_series("Line pressure", ref(xcol), ref(pcol), X.PRESSURE))
+    ch.series.append(_series("Line temperature", ref(xcol), ref(tcol), X.TEMPERATURE, y2=True))
+    ch.y2_axis = {**_axis_title(f"Line temperature [{du.label('temperature')}]"), "num_format": "0",
+                  "major_gridlines": {"visible": False}}
     return ch
 
 
@@ -98,64 +165,50 @@ def z_ratio_chart(data_ws, block, *, daily=False, span=None):
     """Zb/Zf (= Fpv²) over the month."""
     xcol = block.columns["local"] if not daily else block.columns["Gas day"]
     ycol = block.columns["factor_z"] if not daily else block.columns["Zb/Zf, volume-weighted [-]"]
-    ch = _time_chart("Zb/Zf over the month" + (" (gas-day volume-weighted)" if daily else ""),
-                     "Zb/Zf [-]", None, span, "0.000")
-    ch.series.append(_line_series(data_ws, block, xcol, ycol, "Zb/Zf", X.ZRATIO))
+    ch = _time_chart("Zb/Zf over the month" + (" (gas-day volume-weighted)" if daily else ""), "Zb/Zf [-]", span,
+                     "0.000")
+    ref = lambda c: Ref(data_ws.title, c, block.first_row, block.last_row)  # noqa: E731
+    ch.series.append(_series("Zb/Zf", ref(xcol), ref(ycol), X.ZRATIO))
     ch.legend = None
     return ch
 
 
 def _bar_chart(title, y_title, x_title="Gas day"):
-    ch = BarChart()
-    ch.type = "col"
-    ch.style = 2
-    ch.title = title
-    ch.y_axis.title = y_title
-    ch.x_axis.title = x_title
-    ch.x_axis.number_format = "dd"
-    ch.x_axis.tickLblPos = "low"
-    ch.width, ch.height = WIDTH_CM, HEIGHT_CM
-    ch.legend.position = "b"
-    _axes_visible(ch)
-    return ch
-
-
-def _colour(series, colour):
-    series.graphicalProperties = GraphicalProperties(solidFill=colour)
-    series.graphicalProperties.line = LineProperties(solidFill=colour)
+    return ChartSpec("column", None, title,
+                     x_axis={**_axis_title(x_title), "num_format": "dd", "label_position": "low"},
+                     y_axis={**_axis_title(y_title),
+                             "major_gridlines": {"visible": True, "line": {"color": X.rgb(X.GRID)}}})
 
 
 def daily_volume_chart(gd_ws, block, du, x_title="Gas day"):
-    """Daily corrected volume, real gas beside ideal gas."""
+    """Daily corrected volume, real gas beside ideal gas; sizes compared, so the axis starts at zero."""
     vl = du.label("volume")
     ch = _bar_chart("Corrected volume by gas day, real gas and Z = 1", f"Volume [{vl} at base]", x_title)
-    ch.y_axis.number_format = "#,##0"
-    ch.grouping = "clustered"
-    for key, colour in ((f"Corrected volume, real gas [{vl} at base]", X.REAL_GAS),
-                        (f"Corrected volume, ideal gas Z=1 [{vl} at base]", X.IDEAL_GAS)):
-        col = column_index_from_string(block.columns[key])
-        ch.add_data(Reference(gd_ws, min_col=col, min_row=block.first_row - 1, max_row=block.last_row), titles_from_data=True)
-        _colour(ch.series[-1], colour)
-    ch.set_categories(_ref(gd_ws, block.columns["Gas day"], block.first_row, block.last_row))
-    ch.gapWidth = 60
+    ch.y_axis.update({"num_format": "#,##0", "min": 0})
+    cats = Ref(gd_ws.title, block.columns["Gas day"], block.first_row, block.last_row)
+    for key, colour, name in ((f"Corrected volume, real gas [{vl} at base]", X.REAL_GAS, "Real gas"),
+                              (f"Corrected volume, ideal gas Z=1 [{vl} at base]", X.IDEAL_GAS, "Ideal gas (Z = 1)")):
+        ch.series.append(_series(name, cats, Ref(gd_ws.title, block.columns[key], block.first_row, block.last_row),
+                                 colour))
+    ch.gap = 60
     return ch
 
 
 def daily_error_chart(gd_ws, block, values=(), x_title="Gas day"):
     """Daily ideal-gas error [%]; the value axis always includes zero."""
     ch = _bar_chart("Ideal-gas error by gas day", "Ideal-gas error [%]", x_title)
-    ch.y_axis.number_format = "0.0"
+    ch.y_axis["num_format"] = "0.0"
     vals = [v for v in values if v is not None and math.isfinite(v)]
     if vals and max(vals) <= 0:
-        ch.y_axis.scaling.max = 0
+        ch.y_axis["max"] = 0
     elif vals and min(vals) >= 0:
-        ch.y_axis.scaling.min = 0
-    col = column_index_from_string(block.columns["Ideal-gas error [%]"])
-    ch.add_data(Reference(gd_ws, min_col=col, min_row=block.first_row - 1, max_row=block.last_row), titles_from_data=True)
-    _colour(ch.series[-1], X.IDEAL_GAS)
-    ch.set_categories(_ref(gd_ws, block.columns["Gas day"], block.first_row, block.last_row))
+        ch.y_axis["min"] = 0
+    cats = Ref(gd_ws.title, block.columns["Gas day"], block.first_row, block.last_row)
+    ch.series.append(_series("Ideal-gas error", cats,
+                             Ref(gd_ws.title, block.columns["Ideal-gas error [%]"], block.first_row, block.last_row),
+                             X.IDEAL_GAS))
     ch.legend = None
-    ch.gapWidth = 40
+    ch.gap = 40
     return ch
 
 
@@ -197,65 +250,54 @@ def waterfall_parts(labels, kinds, values):
     return out
 
 
-def waterfall_chart(ws, first_row, last_row, cols, title, y_title, y_min=None):
-    """Stacked columns from the helper table: cols maps part name → column letter, 'label' too."""
-    ch = BarChart()
-    ch.type = "col"
-    ch.grouping = "stacked"
-    ch.overlap = 100
-    ch.gapWidth = 50
-    ch.style = 2
-    ch.title = title
-    ch.y_axis.title = y_title
-    ch.width, ch.height = WIDTH_CM, HEIGHT_CM + 2
-    _axes_visible(ch)
+WATERFALL_PARTS = ("base", "total", "up", "up2", "down", "down2")
+
+
+def waterfall_chart(ws, first_row, last_row, cols, title, y_title):
+    """Stacked columns from the helper table: cols maps part name → column letter, 'label' too.
+
+    The helper series (the invisible base) has no fill, no line and no legend entry; the value
+    axis includes zero (the levels are differences from our figure)."""
+    ch = ChartSpec("column", "stacked", title, width_cm=WIDTH_CM, height_cm=HEIGHT_CM + 2,
+                   x_axis={"label_position": "low", "num_font": {"size": 9}},
+                   y_axis={**_axis_title(y_title), "num_format": "#,##0.###",
+                           "major_gridlines": {"visible": True, "line": {"color": X.rgb(X.GRID)}}})
     colours = {"base": None, "total": X.TOTAL, "up": X.INCREASE, "up2": X.INCREASE, "down": X.DECREASE,
                "down2": X.DECREASE}
-    for part in ("base", "total", "up", "up2", "down", "down2"):
-        col = column_index_from_string(cols[part])
-        ch.add_data(Reference(ws, min_col=col, min_row=first_row - 1, max_row=last_row), titles_from_data=True)
-        s = ch.series[-1]
-        if colours[part] is None:
-            s.graphicalProperties = GraphicalProperties(noFill=True)
-            s.graphicalProperties.line = LineProperties(noFill=True)
-        else:
-            _colour(s, colours[part])
-    ch.set_categories(_ref(ws, cols["label"], first_row, last_row))
-    ch.y_axis.number_format = "#,##0"
-    if y_min is not None:
-        ch.y_axis.scaling.min = y_min
+    names = {"base": "base (helper)", "total": "total", "up": "increase", "up2": "increase",
+             "down": "decrease", "down2": "decrease"}
+    cats = Ref(ws.title, cols["label"], first_row, last_row)
+    for part in WATERFALL_PARTS:
+        ch.series.append({"name": names[part], "x": cats, "y": Ref(ws.title, cols[part], first_row, last_row),
+                          "colour": colours[part], "invisible": colours[part] is None})
+    ch.gap = 50
+    ch.overlap = 100
     ch.legend = None
-    ch.x_axis.tickLblPos = "low"
     return ch
 
 
 def share_chart(ws, first_row, last_row, label_col, share_col):
-    """Horizontal bars: each input's share of the combined variance [%]."""
-    ch = BarChart()
-    ch.type = "bar"
-    ch.style = 2
-    ch.title = "Share of the combined variance by input"
-    ch.y_axis.title = "Share [%]"
-    ch.width, ch.height = 18.0, max(6.0, 0.7 * (last_row - first_row + 1) + 3)
-    _axes_visible(ch)
-    col = column_index_from_string(share_col)
-    ch.add_data(Reference(ws, min_col=col, min_row=first_row - 1, max_row=last_row), titles_from_data=True)
-    _colour(ch.series[-1], X.SLATE)
-    ch.set_categories(_ref(ws, label_col, first_row, last_row))
+    """Horizontal bars: each input's share of the combined variance [%], from zero, first input on top."""
+    ch = ChartSpec("bar", None, "Share of the combined variance by input",
+                   width_cm=18.0, height_cm=max(6.0, 0.7 * (last_row - first_row + 1) + 3),
+                   x_axis={**_axis_title("Share [%]"), "min": 0, "num_format": "0",
+                           "major_gridlines": {"visible": True, "line": {"color": X.rgb(X.GRID)}}},
+                   y_axis={"reverse": True})
+    ch.series.append({"name": "Share of the variance", "x": Ref(ws.title, label_col, first_row, last_row),
+                      "y": Ref(ws.title, share_col, first_row, last_row), "colour": X.SLATE})
     ch.legend = None
-    ch.x_axis.scaling.orientation = "maxMin"
     return ch
 
 
 def corrector_ratio_chart(data_ws, block, span=None):
     """The site corrector's volume over ours, interval by interval, and the best explanation."""
-    ch = _time_chart("Site corrector ÷ ours, and the best explanation", "Ratio [-]", None,
-                     span, "0.000")
+    ch = _time_chart("Site corrector ÷ ours, and the best explanation", "Ratio [-]", span, "0.000")
+    ref = lambda c: Ref(data_ws.title, c, block.first_row, block.last_row)  # noqa: E731
     # the explanation underneath, broad and light; the observed ratio on top, thin
-    ch.series.append(_line_series(data_ws, block, block.columns["local"], block.columns["fitted_ratio"],
-                                  "Best explanation", X.SLATE_LIGHT, width_emu=57150))
-    ch.series.append(_line_series(data_ws, block, block.columns["local"], block.columns["ratio"], "Corrector ÷ ours",
-                                  X.IDEAL_GAS, width_emu=12700))
+    ch.series.append(_series("Best explanation", ref(block.columns["local"]), ref(block.columns["fitted_ratio"]),
+                             X.SLATE_LIGHT, width=4.5))
+    ch.series.append(_series("Corrector ÷ ours", ref(block.columns["local"]), ref(block.columns["ratio"]),
+                             X.IDEAL_GAS, width=1.0))
     return ch
 
 

@@ -98,31 +98,23 @@ def write_uncertainty(ws, result) -> dict:
             rows.append([rec[k] for k in keys])
         first = r + 1
         end = X.write_table(ws, r, 1, headers, rows, fmts)
-        ws.row_dimensions[r].height = 48
+        ws.height(r, 48)
         where = {"first": first, "last": end - 1}
         for j, h in enumerate(cols, start=1):
-            ws.column_dimensions[X.get_column_letter(j)].width = h[3]
-        ws.column_dimensions["A"].width = 34
+            ws.widths[j] = max(ws.widths.get(j, 0.0), h[3])
+        ws.widths[1] = max(ws.widths.get(1, 0.0), 34)
         X.wrap_rows(ws, first, end - 1, [j for j, h in enumerate(cols, start=1) if h[0] in ("source", "uncertainty",
                                                                                           "input")])
         if "share_pct" in b.columns and "input" in b.columns:
             share_col = X.get_column_letter([h[0] for h in cols].index("share_pct") + 1)
             ch = C.share_chart(ws, first, end - 1, "A", share_col)
             C.place(ws, ch, f"A{end + 2}")
-        ws.column_dimensions["A"].width = 34
     else:
         ws.cell(row=r, column=1, value="The budget is empty.").font = X.NOTE_FONT
     return where
 
 
 # ---------------------------------------------------------------------------------------------
-def _nice_floor(x, span):
-    if span <= 0 or not math.isfinite(span):
-        return None
-    step = 10 ** math.floor(math.log10(span))
-    return math.floor(x / step) * step
-
-
 def write_invoice(ws, result, du) -> dict:
     """The supplier's invoice against our month: totals, periods, attribution and its waterfall."""
     rec = result.reconciliation
@@ -185,35 +177,33 @@ def write_invoice(ws, result, du) -> dict:
     first = r + 1
     end = X.write_table(ws, r, 1, head, rows, [None, None, X.FMT_VOLUME, X.FMT_ENERGY, X.FMT_VOLUME, X.FMT_ENERGY,
                                                 None])
+    # the waterfall charts the difference from our figure: it starts at zero (ours), each step
+    # moves it, the last bar is invoice − ours; bars compare sizes, so the axis includes zero
     values = [du.scalar(kind_unit[0], x["energy_MJ"] * 1e6 if on_energy else x["volume_m3"]) or 0.0
               for _, x in a.iterrows()]
-    parts = C.waterfall_parts(list(a["step"]), list(a["kind"]), values)
+    kinds = list(a["kind"])
+    ours = next((v for v, k in zip(values, kinds) if k == "start"), 0.0)
+    values = [v - ours if k in ("start", "end") else v for v, k in zip(values, kinds)]
+    parts = C.waterfall_parts(list(a["step"]), kinds, values)
     hc = 9  # helper table in columns I..O, same rows as the attribution
-    names = ["Waterfall: bar", "base (invisible)", "total", "increase", "increase (below zero)", "decrease",
+    names = ["Waterfall: bar", "base (helper, not drawn)", "total", "increase", "increase (below zero)", "decrease",
              "decrease (below zero)"]
     X.write_header(ws, r, hc, names)
-    keys = ["base", "total", "up", "up2", "down", "down2"]
+    keys = list(C.WATERFALL_PARTS)
     for i, (_, x) in enumerate(a.iterrows()):
-        ws.cell(row=first + i, column=hc, value=X.cell_value(x["step"]))
+        ws.cell(first + i, hc, X.cell_value(x["step"]))
         for j, k in enumerate(keys, start=1):
-            c = ws.cell(row=first + i, column=hc + j, value=float(parts[k][i]))
+            c = ws.cell(first + i, hc + j, float(parts[k][i]))
             c.number_format = X.FMT_VOLUME
     cols = {"label": X.get_column_letter(hc), **{k: X.get_column_letter(hc + 1 + j) for j, k in enumerate(keys)}}
-    levels = list(a["cumulative_energy_MJ" if on_energy else "cumulative_volume_m3"])
-    levels = [du.scalar(kind_unit[0], v * 1e6 if on_energy else v) for v in levels]
-    levels = [v for v in levels if v is not None]
-    y_min = None
-    if levels and min(levels) > 0:
-        span = max(levels) - min(levels)
-        y_min = _nice_floor(min(levels) - max(span, 1e-3 * max(levels)), max(span, 1e-3 * max(levels)))
-        y_min = y_min if (y_min is not None and y_min > 0) else None
+    what = "Energy" if on_energy else "Volume"
     ch = C.waterfall_chart(ws, first, end - 1, cols, "From our figure to the invoice, step by step",
-                           f"{'Energy' if on_energy else 'Volume'} [{kind_unit[1]}]", y_min=y_min)
+                           f"{what} difference from ours [{kind_unit[1]}]")
     C.place(ws, ch, f"A{end + 2}")
     X.set_widths(ws, {1: 34, 2: 18, 3: 15, 4: 15, 5: 16, 6: 16, 7: 30, 8: 14, 9: 24, 10: 14, 11: 14, 12: 12,
                       13: 14, 14: 12, 15: 14, 16: 12})
     X.wrap_rows(ws, first, end - 1, [7])
-    return {"first": first, "last": end - 1, "columns": cols, "y_min": y_min}
+    return {"first": first, "last": end - 1, "columns": cols}
 
 
 def _mj(v):

@@ -10,9 +10,9 @@ from datetime import date as _date, datetime as _datetime
 
 import numpy as np
 import pandas as pd
-from openpyxl.utils import get_column_letter
 
 from . import xlsx_common as X
+from .xlsx_bulk import BulkColumn, BulkTable, serial_days
 
 #: the most data rows a worksheet holds (1,048,576 rows less the header)
 MAX_SHEET_ROWS = 1_048_575
@@ -32,18 +32,27 @@ class Block:
         return max(0, self.last_row - self.first_row + 1)
 
 
-def _col(values, fmt, width, key=None):
-    return {"values": values, "fmt": fmt, "width": width, "key": key}
+def _col(values, fmt, width, key=None, kind="number"):
+    """One interval-sheet column: its cells (array, or a list of texts), format, least width, block key."""
+    return {"values": values, "fmt": fmt, "width": width, "key": key, "kind": kind}
 
 
-def _pylist(a):
-    """ndarray → list with NaN as None (fast path for floats)."""
-    a = np.asarray(a)
-    if a.dtype.kind == "f":
-        out = a.astype(object)
-        out[~np.isfinite(a)] = None
-        return out.tolist()
-    return a.tolist()
+def _f(a):
+    return np.asarray(a, dtype=float)
+
+
+def _yes(flags):
+    return ["yes" if b else None for b in np.asarray(flags, dtype=bool).tolist()]
+
+
+def _utc_offsets(utc, local) -> list:
+    """'+02:00' per interval: local wall-clock time less UTC (each distinct offset formatted once)."""
+    minutes = ((local.tz_localize(None) - utc.tz_localize(None)) // pd.Timedelta(minutes=1)).to_numpy()
+    text = {}
+    for m in np.unique(minutes).tolist():
+        sign = "-" if m < 0 else "+"
+        text[m] = f"{sign}{abs(m) // 60:02d}:{abs(m) % 60:02d}"
+    return [text[m] for m in minutes.tolist()]
 
 
 def _flag_label(name: str) -> str:
@@ -51,93 +60,91 @@ def _flag_label(name: str) -> str:
 
 
 def interval_columns(result, du: X.DisplayUnits) -> dict:
-    """Header → column spec of the interval sheet (display units, converted here)."""
+    """Header → column spec of the interval sheet (display units, converted here; times as serial days)."""
     d = result.intervals
     s = result.settings
     idx = d.index
     local = idx.tz_convert(s.timezone)
-    offs = [f"{o[:3]}:{o[3:]}" for o in local.strftime("%z")]
+    offs = _utc_offsets(idx, local)
     pl, tl, vl = du.label("pressure"), du.label("temperature"), du.label("volume")
     el, hl, ml = du.label("energy"), du.label("heating_value"), du.label("mass")
     f = lambda c: d[c].to_numpy(float)  # noqa: E731
+    gas_day = pd.DatetimeIndex(pd.to_datetime(d["gas_day"].to_numpy()))
+    if gas_day.tz is not None:
+        gas_day = gas_day.tz_localize(None)
     cols = {
-        "Interval end [UTC]": _col(list(idx.tz_localize(None).to_pydatetime()), X.FMT_DATETIME, 17, "utc"),
-        f"Interval end [local, {s.timezone}]": _col(list(local.tz_localize(None).to_pydatetime()), X.FMT_DATETIME, 17,
-                                                    "local"),
-        "UTC offset": _col(offs, None, 8),
-        "Gas day": _col([pd.Timestamp(g).date() for g in d["gas_day"]], X.FMT_DATE, 11, "gas_day"),
-        "Duration [min]": _col(_pylist(f("duration") / 60.0), "0.##", 9),
-        f"Line pressure [{pl}]": _col(_pylist(du.convert("pressure", f("pressure_line"))), X.FMT_PRESSURE, 13,
-                                      "pressure"),
-        f"Atmospheric pressure [{pl}]": _col(_pylist(du.convert("pressure", f("pressure_atm"))), X.FMT_PRESSURE, 13),
-        f"Line temperature [{tl}]": _col(_pylist(du.convert("temperature", f("temperature_line"))), X.FMT_TEMPERATURE,
+        "Interval end [UTC]": _col(serial_days(idx.tz_localize(None)), X.FMT_DATETIME, 17, "utc", "time"),
+        f"Interval end [local, {s.timezone}]": _col(serial_days(local.tz_localize(None)), X.FMT_DATETIME, 17,
+                                                    "local", "time"),
+        "UTC offset": _col(offs, None, 8, kind="text"),
+        "Gas day": _col(np.floor(serial_days(gas_day.normalize())), X.FMT_DATE, 11, "gas_day", "date"),
+        "Duration [min]": _col(f("duration") / 60.0, "0.##", 9),
+        f"Line pressure [{pl}]": _col(_f(du.convert("pressure", f("pressure_line"))), X.FMT_PRESSURE, 13, "pressure"),
+        f"Atmospheric pressure [{pl}]": _col(_f(du.convert("pressure", f("pressure_atm"))), X.FMT_PRESSURE, 13),
+        f"Line temperature [{tl}]": _col(_f(du.convert("temperature", f("temperature_line"))), X.FMT_TEMPERATURE,
                                          12, "temperature"),
-        f"Uncorrected volume [{vl}]": _col(_pylist(du.convert("volume", f("volume_line"))), X.FMT_VOLUME_FINE, 13),
-        "Analysis no.": _col((d["analysis"].to_numpy(int) + 1).tolist(), "0", 8),
-        "Zf at line [-]": _col(_pylist(f("z_line")), X.FMT_Z, 10, "z_line"),
-        "Zb at base [-]": _col(_pylist(f("z_base")), X.FMT_Z, 10, "z_base"),
-        "Fp = pf/pb [-]": _col(_pylist(f("factor_pressure")), X.FMT_FACTOR, 10),
-        "Ft = Tb/Tf [-]": _col(_pylist(f("factor_temperature")), X.FMT_FACTOR, 10),
-        "Zb/Zf = Fpv² [-]": _col(_pylist(f("factor_z")), X.FMT_FACTOR, 10, "factor_z"),
-        "Fpv [-]": _col(_pylist(np.sqrt(f("factor_z"))), X.FMT_FACTOR, 10),
-        f"Corrected volume, real gas [{vl} at base]": _col(_pylist(du.convert("volume", f("volume_base"))),
+        f"Uncorrected volume [{vl}]": _col(_f(du.convert("volume", f("volume_line"))), X.FMT_VOLUME_FINE, 13),
+        "Analysis no.": _col(d["analysis"].to_numpy(float) + 1, "0", 8),
+        "Zf at line [-]": _col(f("z_line"), X.FMT_Z, 10, "z_line"),
+        "Zb at base [-]": _col(f("z_base"), X.FMT_Z, 10, "z_base"),
+        "Fp = pf/pb [-]": _col(f("factor_pressure"), X.FMT_FACTOR, 10),
+        "Ft = Tb/Tf [-]": _col(f("factor_temperature"), X.FMT_FACTOR, 10),
+        "Zb/Zf = Fpv² [-]": _col(f("factor_z"), X.FMT_FACTOR, 10, "factor_z"),
+        "Fpv [-]": _col(np.sqrt(f("factor_z")), X.FMT_FACTOR, 10),
+        f"Corrected volume, real gas [{vl} at base]": _col(_f(du.convert("volume", f("volume_base"))),
                                                            X.FMT_VOLUME_FINE, 15, "volume_base"),
-        f"Corrected volume, ideal gas Z=1 [{vl} at base]": _col(_pylist(du.convert("volume", f("volume_base_ideal"))),
+        f"Corrected volume, ideal gas Z=1 [{vl} at base]": _col(_f(du.convert("volume", f("volume_base_ideal"))),
                                                                 X.FMT_VOLUME_FINE, 15, "volume_base_ideal"),
-        "Ideal-gas error [%]": _col(_pylist(f("ideal_gas_error_pct")), X.FMT_PCT, 10, "error"),
-        f"Mass [{ml}]": _col(_pylist(du.convert("mass", f("mass"))), X.FMT_VOLUME_FINE, 13),
-        f"Heating value, gross [{hl}]": _col(_pylist(du.convert("heating_value", f("heating_value"))), X.FMT_HV, 11),
-        f"Energy [{el}]": _col(_pylist(du.convert("energy", f("energy"))), X.FMT_ENERGY, 13, "energy"),
-        "Z range": _col([str(x) for x in d["z_range"]], None, 9),
-        "Z note": _col([X.cell_value(str(x)) or None for x in d["z_reason"]], None, 12),
-        "Estimated": _col(["yes" if b else None for b in d["estimated"].to_numpy(bool)], None, 9),
+        "Ideal-gas error [%]": _col(f("ideal_gas_error_pct"), X.FMT_PCT, 10, "error"),
+        f"Mass [{ml}]": _col(_f(du.convert("mass", f("mass"))), X.FMT_VOLUME_FINE, 13),
+        f"Heating value, gross [{hl}]": _col(_f(du.convert("heating_value", f("heating_value"))), X.FMT_HV, 11),
+        f"Energy [{el}]": _col(_f(du.convert("energy", f("energy"))), X.FMT_ENERGY, 13, "energy"),
+        "Z range": _col([str(x) for x in d["z_range"]], None, 9, kind="text"),
+        "Z note": _col([X.cell_value(str(x)) or None for x in d["z_reason"]], None, 12, kind="text"),
+        "Estimated": _col(_yes(d["estimated"].to_numpy(bool)), None, 9, kind="text"),
     }
     for c in [c for c in d.columns if c.startswith("flag_")]:
-        cols[_flag_label(c)] = _col(["yes" if b else None for b in d[c].to_numpy(bool)], None, 10, c)
+        cols[_flag_label(c)] = _col(_yes(d[c].to_numpy(bool)), None, 10, c, kind="text")
     cc = result.corrector_check
     if cc is not None and getattr(cc, "intervals", None) is not None and len(cc.intervals) == len(d):
         iv = cc.intervals
         cols[f"Site corrector volume [{vl} at its base]"] = _col(
-            _pylist(du.convert("volume", iv["theirs"].to_numpy(float))), X.FMT_VOLUME_FINE, 15, "corrector")
-        cols["Corrector ÷ ours [-]"] = _col(_pylist(iv["ratio"].to_numpy(float)), X.FMT_FACTOR, 10, "ratio")
-        cols["Fitted ratio, best explanation [-]"] = _col(_pylist(iv["fitted_ratio"].to_numpy(float)), X.FMT_FACTOR,
+            _f(du.convert("volume", iv["theirs"].to_numpy(float))), X.FMT_VOLUME_FINE, 15, "corrector")
+        cols["Corrector ÷ ours [-]"] = _col(iv["ratio"].to_numpy(float), X.FMT_FACTOR, 10, "ratio")
+        cols["Fitted ratio, best explanation [-]"] = _col(iv["fitted_ratio"].to_numpy(float), X.FMT_FACTOR,
                                                           12, "fitted_ratio")
     return cols
 
 
 def write_intervals(ws, result, du, *, interval_csv=None, max_rows=MAX_SHEET_ROWS) -> Block | None:
-    """The interval table, or a note saying where it is when it does not fit in a sheet."""
+    """The interval table (streamed, see :mod:`.xlsx_bulk`), or a note saying where it is when the
+    month has more intervals than the sheet is to hold."""
     n = len(result.intervals)
     if n > max_rows:
         r = X.section(ws, 1, "Intervals")
         where = interval_csv or "the interval CSV written beside this workbook"
-        X.note(ws, r + 1, f"This month has {n:,} intervals, more than a worksheet holds ({max_rows:,} rows). "
-                          f"The interval table is in the file '{where}' beside this workbook, with the same "
+        X.note(ws, r + 1, f"This month has {n:,} intervals, more than this workbook holds in a sheet ({max_rows:,} "
+                          f"rows). The interval table is in the file '{where}' beside this workbook, with the same "
                           "columns in SI units. The charts show gas-day means instead of intervals.", span=8)
-        ws.cell(row=r + 3, column=1, value="Interval table file").font = X.LABEL_FONT
-        ws.cell(row=r + 3, column=2, value=X.cell_value(str(where)))
+        ws.cell(r + 3, 1, "Interval table file").font = X.LABEL_FONT
+        ws.cell(r + 3, 2, X.cell_value(str(where)))
         X.set_widths(ws, {1: 22, 2: 60})
         return None
     cols = interval_columns(result, du)
     headers = list(cols)
     X.write_header(ws, 1, 1, headers, height=45)
-    series = [c["values"] for c in cols.values()]
-    fmts = [c["fmt"] for c in cols.values()]
-    for row in zip(*series):
-        ws.append(row)
-    for j, fmt in enumerate(fmts, start=1):
-        if not fmt:
-            continue
-        for (cell,) in ws.iter_rows(min_row=2, max_row=n + 1, min_col=j, max_col=j):
-            cell.number_format = fmt
+    ws.bulk = BulkTable([BulkColumn(h, c["kind"], c["values"], c["fmt"], c["width"]) for h, c in cols.items()],
+                        first_row=2)
     block = Block(ws.title, 2, n + 1)
     for j, (h, c) in enumerate(cols.items(), start=1):
-        ws.column_dimensions[get_column_letter(j)].width = c["width"]
         if c["key"]:
-            block.columns[c["key"]] = get_column_letter(j)
-        block.columns[h] = get_column_letter(j)
-    ws.freeze_panes = "B2"
-    ws.auto_filter.ref = f"A1:{get_column_letter(len(headers))}{n + 1}"
+            block.columns[c["key"]] = X.get_column_letter(j)
+        block.columns[h] = X.get_column_letter(j)
+    ws.freeze = (2, 2)
+    ws.autofilter = (1, 1, n + 1, len(headers))
+    ws.fit_width = False
+    ws.repeat_rows = (1, 1)
+    ws.repeat_cols = (1, 2)
     return block
 
 
@@ -199,11 +206,11 @@ def write_gas_days(ws, result, du) -> Block:
     fmts = [_gd_format(h) for h in headers]
     rows = list(t.itertuples(index=False, name=None))
     end = X.write_table(ws, 1, 1, headers, rows, fmts)
-    ws.row_dimensions[1].height = 60
+    ws.height(1, 60)
     block = Block(ws.title, 2, end - 1)
     for j, h in enumerate(headers, start=1):
-        block.columns[h] = get_column_letter(j)
-        ws.column_dimensions[get_column_letter(j)].width = 11 if j == 1 else 14
+        block.columns[h] = X.get_column_letter(j)
+        ws.widths[j] = max(ws.widths.get(j, 0.0), 11 if j == 1 else 12)
     # month row(s) from result.months, below a blank row
     m = result.months
     r = end + 1
@@ -220,13 +227,14 @@ def write_gas_days(ws, result, du) -> Block:
             if h in vals:
                 c = ws.cell(row=r, column=j, value=X.cell_value(vals[h]))
                 c.font = X.LABEL_FONT
-                c.fill = X.HEADER_FILL.__class__("solid", fgColor=X.SLATE_LIGHT)
+                c.fill = X.MONTH_FILL
                 c.border = X.CELL_BORDER
                 if h != "Gas day":
                     c.number_format = fmts[j - 1]
         block.columns[f"month:{key}"] = r
         r += 1
-    ws.freeze_panes = "B2"
+    ws.freeze = (2, 2)
+    ws.repeat_rows = (1, 1)
     return block
 
 
@@ -340,8 +348,9 @@ def write_findings(ws, result, du) -> int:
             for _, x in f.iterrows()] if len(f) else []
     r = X.write_table(ws, r + 1, 1, headers, rows,
                       [X.FMT_INT, None, X.FMT_DATETIME, X.FMT_DATETIME, X.FMT_INT, X.FMT_PCT, X.FMT_VOLUME, X.FMT_ENERGY])
-    for row in ws.iter_rows(min_row=r - len(rows), max_row=r - 1, min_col=3, max_col=4):
-        for c in row:
+    for rr in range(r - len(rows), r):
+        for cc in (3, 4):
+            c = ws.cell(rr, cc)
             if isinstance(c.value, _date) and not isinstance(c.value, _datetime):
                 c.number_format = X.FMT_DATE
     if not rows:
@@ -355,7 +364,7 @@ def write_findings(ws, result, du) -> int:
     r0 = r
     r = X.write_table(ws, r, 1, ["Flag", "Intervals", "Meaning"], rows, [None, X.FMT_INT, None])
     for rr in range(r0, r):
-        ws.merge_cells(start_row=rr, start_column=3, end_row=rr, end_column=7)
+        ws.merge(rr, 3, rr, 7)
     r = X.section(ws, r + 1, f"Flagged periods (interval ends, local time {s.timezone})")
     fp = flag_periods(result)
     rows = [[x["kind"], x["first"].tz_convert(s.timezone).tz_localize(None).to_pydatetime(),

@@ -8,11 +8,8 @@ The content comes from :func:`meterfix.writers.source_record.log_record` (all en
 
 from __future__ import annotations
 
-import math
 
 import pandas as pd
-from openpyxl.styles import Alignment
-
 from . import xlsx_common as X
 from .source_record import log_record
 
@@ -56,7 +53,7 @@ def _local(text, tz):
 def _kv(ws, r, label, value, unit="", fmt=None):
     ws.cell(row=r, column=1, value=label).font = X.LABEL_FONT
     c = ws.cell(row=r, column=2, value=X.cell_value(value))
-    c.alignment = Alignment(horizontal="left")
+    c.alignment = X.align("left")
     if fmt and isinstance(c.value, (int, float)) and not isinstance(c.value, bool):
         c.number_format = fmt
     if unit:
@@ -69,11 +66,9 @@ def _kv(ws, r, label, value, unit="", fmt=None):
 def _top(ws, first, last, ncols):
     """Align every cell of rows first..last to the top (rows with wrapped text read across)."""
     for rr in range(first, last + 1):
-        if ws.row_dimensions[rr].height is None:
-            continue
         for j in range(1, ncols + 1):
-            c = ws.cell(row=rr, column=j)
-            c.alignment = Alignment(horizontal=c.alignment.horizontal, vertical="top", wrap_text=c.alignment.wrap_text)
+            c = ws.cell(rr, j)
+            c.alignment = {**(c.alignment or {}), "valign": "top"}
 
 
 def _none_row(ws, r, text):
@@ -106,7 +101,7 @@ def write_source_data(ws, result) -> dict:
                                  "Decimal mark"], rows, [None, None, X.FMT_INT, X.FMT_INT, None, None, None])
     for rr in range(r - len(rows), r):
         for j in (6, 7):
-            ws.cell(row=rr, column=j).alignment = Alignment(horizontal="center")
+            ws.cell(rr, j).alignment = X.align("center")
         if ws.cell(row=rr, column=6).value == "\t":
             ws.cell(row=rr, column=6).value = "tab"
 
@@ -146,12 +141,9 @@ def write_source_data(ws, result) -> dict:
     first = r + 1
     r = X.write_table(ws, r, 1, ["Kind", "Found", "What the run did"], rows, [None, X.FMT_INT, None])
     for rr in range(first - 1, r):
-        ws.merge_cells(start_row=rr, start_column=3, end_row=rr, end_column=7)
-    span_chars = 1.1 * sum(_WIDTHS[j] for j in range(3, 8))
+        ws.merge(rr, 3, rr, 7)
     for rr in range(first, r):
-        c = ws.cell(row=rr, column=3)
-        c.alignment = Alignment(wrap_text=True, vertical="top")
-        ws.row_dimensions[rr].height = 15 * max(1, math.ceil(len(str(c.value or "")) / span_chars)) + 2
+        ws.cell(rr, 3).alignment = X.TOP_WRAP
     _top(ws, first, r - 1, 3)
     listed = [(label, e) for key, label, _ in PROBLEM_KINDS for e in rec[key]["entries"]]
     r += 1
@@ -162,10 +154,7 @@ def write_source_data(ws, result) -> dict:
         first = r + 1
         r = X.write_table(ws, r, 1, ["File", "Sheet", "Row", "Column", "Text in the cell", "Kind",
                                      "What was found and done"], rows, [None, None, "0", None, "@", None, None])
-        for rr in range(first, r):
-            c = ws.cell(row=rr, column=5)
-            if isinstance(c.value, str):
-                c.data_type = "s"  # '#VALUE!' as written is text here, not an error cell
+        # cells are written as text as they are: '#VALUE!' as written stays text here, not an error cell
         X.wrap_rows(ws, first, r - 1, [1, 4, 5, 7])
         _top(ws, first, r - 1, 7)
         cut = [label for key, label, _ in PROBLEM_KINDS if rec[key]["count"] > rec[key]["listed"]]
@@ -182,7 +171,7 @@ def write_source_data(ws, result) -> dict:
     first = r + 1
     r = X.write_table(ws, r, 1, ["Flag", "Rows", "Meaning"], rows, [None, X.FMT_INT, None])
     for rr in range(first - 1, r):
-        ws.merge_cells(start_row=rr, start_column=3, end_row=rr, end_column=7)
+        ws.merge(rr, 3, rr, 7)
 
     # -- status texts
     st = rec["status_texts"]
@@ -194,9 +183,6 @@ def write_source_data(ws, result) -> dict:
         first = r + 1
         r = X.write_table(ws, r, 1, ["Text", "First in file", "First row", "Column", "Rows with it",
                                      "First interval end"], rows, [None, None, "0", None, X.FMT_INT, X.FMT_DATETIME])
-        for rr in range(first, r):
-            if isinstance(ws.cell(row=rr, column=1).value, str):
-                ws.cell(row=rr, column=1).data_type = "s"
         X.wrap_rows(ws, first, r - 1, [1, 2])
         _top(ws, first, r - 1, 6)
 
@@ -206,8 +192,7 @@ def write_source_data(ws, result) -> dict:
         at["notes"] = r
         for n in rec["notes"]:
             c = ws.cell(row=r, column=1, value=X.cell_value(n))
-            c.alignment = Alignment(wrap_text=True, vertical="top")
-            ws.merge_cells(start_row=r, start_column=1, end_row=r, end_column=7)
-            ws.row_dimensions[r].height = 15 * max(1, -(-len(n) // 190)) + 2
+            c.alignment = X.TOP_WRAP
+            ws.merge(r, 1, r, 7)
             r += 1
     return at
