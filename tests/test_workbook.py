@@ -396,3 +396,52 @@ def test_write_outputs_writes_the_workbook(tmp_path):
     wb = load_workbook(written["workbook"])
     ov = wb["Overview"]
     assert ov.cell(row=_label_row(ov, "Interval table file"), column=2).value == written["intervals"].name
+
+
+def test_history_sheet_from_the_store(tmp_path):
+    import pandas as pd
+
+    r, _ = plain_month()
+    r.history = pd.DataFrame({"month": ["2026-08", "2026-09", "2026-10"], "version": [1, 1, 2],
+                              "stored_at": pd.to_datetime(["2026-09-02 08:00", "2026-10-02 08:00",
+                                                           "2026-11-02 09:30"]).tz_localize("UTC"),
+                              "base_volume_m3": [1.2e6, 1.25e6, 1.31e6], "energy_MJ": [4.9e7, 5.1e7, 5.3e7],
+                              "ideal_gas_error_pct": [-7.1, -7.3, -7.2]})
+    wb = load_workbook(W.write_workbook(r, tmp_path / "h.xlsx"))
+    assert wb.sheetnames[-1] == "History"
+    ws = wb["History"]
+    top = _label_row(ws, "month")
+    assert _headers(ws, top)[:6] == list(r.history.columns)  # headers as given
+    assert ws.cell(row=top + 3, column=4).value == pytest.approx(1.31e6)
+    assert ws.cell(row=top + 3, column=4).number_format == "#,##0.0"      # _m3
+    assert ws.cell(row=top + 3, column=6).number_format == "0.000"        # _pct
+    assert ws.cell(row=top + 3, column=3).value == dt.datetime(2026, 11, 2, 9, 30)  # UTC, as the note says
+    ov = wb["Overview"]
+    assert _label_row(ov, "History")
+    r.history = pd.DataFrame()
+    assert "History" not in load_workbook(W.write_workbook(r, tmp_path / "e.xlsx")).sheetnames
+
+
+def test_print_ready(book):
+    """Pages fit the width (landscape where wide), titles repeat, columns hold what they show."""
+    from meterfix.writers.xlsx_cells import shown_text
+
+    wb, _ = book
+    for ws in wb.worksheets:
+        assert ws.page_setup.paperSize in (9, "9")
+        if ws.title != "Intervals":
+            assert ws.sheet_properties.pageSetUpPr.fitToPage and ws.page_setup.fitToWidth in (1, None)
+    assert wb["Gas days"].page_setup.orientation == "landscape"
+    iv = wb["Intervals"]
+    assert iv.print_title_rows == "$1:$1" and iv.print_title_cols == "$A:$B"
+    # no '###': every number fits its column as its format shows it
+    for name in ("Gas days", "Overview", "Invoice check", "Findings"):
+        ws = wb[name]
+        merged = {c for m in ws.merged_cells.ranges for row in m.cells for c in [row]}
+        for row in ws.iter_rows():
+            for c in row:
+                if isinstance(c.value, (int, float)) and not isinstance(c.value, bool) and \
+                        (c.row, c.column) not in merged:
+                    width = next(d.width for d in ws.column_dimensions.values()
+                                 if d.min and d.max and d.min <= c.column <= d.max)  # neighbours may share one <col>
+                    assert width >= len(shown_text(c.value, c.number_format)) + 1, (name, c.coordinate, width)
