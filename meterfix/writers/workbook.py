@@ -6,12 +6,15 @@ and every problem row it met, with file, sheet, row and column). Values are conv
 display units of the site file's ``[display_units]`` table at this edge (default kPa absolute,
 °C, m3, GJ, MJ/m3, kg); every header names its unit.
 
-When the month has more intervals than a worksheet holds (1,048,575 data rows), the interval table
-stays in the CSV written beside the workbook (``interval_csv``) and the Intervals sheet says so;
-the time-series charts then plot gas-day means.
+The Intervals sheet holds up to :data:`MAX_INTERVAL_ROWS` intervals (200,000: a month at 15 s
+intervals; a worksheet could take 1,048,575, but no one reads or prints that many rows, and
+writing them would cost about a minute). A longer table stays in the CSV (and Parquet) written
+beside the workbook (``interval_csv``), the Intervals sheet and the Overview say so, and the
+time-series charts plot gas-day means.
 
-The file is written through :mod:`meterfix.writers.atomic` (temporary file, then rename) and has
-fixed timestamps inside, so the same result gives the same bytes.
+The file is written through :mod:`meterfix.writers.atomic` (temporary file, then rename) with
+xlsxwriter (the interval sheet streamed, :mod:`.xlsx_bulk`); the document properties and zip
+entries carry fixed times, so the same result gives the same bytes.
 """
 
 from __future__ import annotations
@@ -33,7 +36,7 @@ from .atomic import atomic_path
 from .summary import CAUTION
 
 #: rows of data a worksheet can hold; the interval table goes to CSV above it (tests lower it)
-MAX_INTERVAL_ROWS = S.MAX_SHEET_ROWS
+MAX_INTERVAL_ROWS = 200_000
 
 SHEET_GUIDE = (
     ("Overview", "month totals, method, base conditions, settings and input files"),
@@ -361,7 +364,7 @@ def write_workbook(result, path, *, overwrite: bool = False, interval_csv=None, 
     interval_csv : str, optional
         Name of the interval CSV written beside the workbook; named on the Overview, and where
         the interval table is when it does not fit in a worksheet.
-    max_rows : int, optional  the row limit of the interval sheet (default 1,048,575)
+    max_rows : int, optional  the row limit of the interval sheet (default MAX_INTERVAL_ROWS)
     interval_parquet : str, optional  name of the interval Parquet file beside it (when written)
     edits_csv : str, optional         name of the edit record CSV beside it
     """

@@ -378,8 +378,7 @@ def write_findings(ws, result, du) -> int:
     if result.warnings:
         r = X.section(ws, r + 1, "Warnings of the run")
         for w in result.warnings:
-            ws.cell(row=r, column=1, value=X.cell_value(w))
-            r += 1
+            r = X.note(ws, r, str(w), span=8)
     X.set_widths(ws, {1: 16, 2: 12, 3: 18, 4: 18, 5: 11, 6: 14, 7: 18, 8: 16})
     return r
 

@@ -373,6 +373,7 @@ def _write_sheet(wb, xs, ws: Sheet, formats: _FormatCache) -> None:
 
     # long text wraps; rows get the height their lines need (merged text over the merged width)
     heights = dict(ws.heights)
+    tall_rows = set()
     for (r, c), cell in ws.cells.items():
         if not isinstance(cell.value, str):
             continue
@@ -393,9 +394,15 @@ def _write_sheet(wb, xs, ws: Sheet, formats: _FormatCache) -> None:
         rows = (m[2] - m[0] + 1) if m else 1
         line_h = 15.0 * props.get("font_size", 11) / 11.0
         want = (lines * line_h + 3.0) / rows
-        if lines > 1 and want > heights.get(r, 15.0):
-            for rr in range(r, r + rows):
-                heights[rr] = max(heights.get(rr, 15.0), want)
+        if lines > 1:
+            tall_rows.update(range(r, r + rows))
+            if want > heights.get(r, 15.0):
+                for rr in range(r, r + rows):
+                    heights[rr] = max(heights.get(rr, 15.0), want)
+    # a row of several lines reads across from the top of each cell
+    for (r, c), cell in ws.cells.items():
+        if r in tall_rows and not (cell.alignment or {}).get("valign"):
+            cell.alignment = {**(cell.alignment or {}), "valign": "top"}
     for r, h in sorted(heights.items()):
         xs.set_row(r - 1, h)
 
