@@ -347,8 +347,8 @@ def _write_sheet(wb, xs, ws: Sheet, formats: _FormatCache) -> None:
         if (r, c) in covered or (r, c) in wrap_cells or cell.value is None:
             continue
         props = cell.style()
-        if props.get("text_wrap"):
-            continue
+        if props.get("text_wrap") or props.get("font_size", 11) > 11:
+            continue  # wrapped text fits its column; titles and section heads run on over empty cells
         text = shown_text(cell.value, cell.number_format)
         w = _text_width(text, props)
         if isinstance(cell.value, str) and w > MAX_WIDTH:
