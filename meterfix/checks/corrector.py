@@ -461,7 +461,7 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
         warnings.append("evidenced but below the threshold of " + f"{threshold_pct:g} %: "
                         + ", ".join(f"{f['cause']} ({f['size_pct']:+.3f} %)" for f in immaterial))
     if not findings and abs(size_obs) > threshold_pct:
-        warnings.append(f"the corrector differs from ours by {size_obs:+.3f} % and no misconfiguration tried "
+        warnings.append(f"the corrector differs from ours by {size_obs:+.3g} % and no misconfiguration tried "
                         "explains it with plausible settings: check its configuration and pulse factor")
     if (~used & np.isfinite(theirs)).any():
         warnings.append(f"{int((~used & np.isfinite(theirs)).sum())} interval(s) not compared "

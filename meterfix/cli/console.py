@@ -162,7 +162,7 @@ def print_summary(result, written: dict) -> None:
 
     typer.echo(f"meterfix: {s.meter}  method {result.method['name']} ({result.method['edition']})")
     typer.echo(f"  base conditions      {du.text('pressure', s.pressure_base)} (absolute), "
-               f"{du.text('temperature', s.temperature_base)}")
+               f"{du.text('temperature', s.temperature_base)}" + (f"   ({s.base_preset})" if s.base_preset else ""))
     _print_reading(result)
     typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
     typer.echo(f"  uncorrected volume   {vol(t['uncorrected_volume_m3'])}")
@@ -205,7 +205,8 @@ def print_summary(result, written: dict) -> None:
         att = rec.attribution
         if len(att):
             u_v = abs(rt.get("volume_ours_m3") or 0.0) * u / 100.0 if u is not None else None
-            shown = att[(att["kind"] == "step") & (att["volume_m3"].abs() > 0)
+            tiny = 1e-6 * abs(rt.get("volume_ours_m3") or 0.0)
+            shown = att[(att["kind"] == "step") & (att["volume_m3"].abs() > tiny)
                         & att["step"].isin(["base pressure", "base temperature"])]
             for _, r in shown.iterrows():
                 typer.echo(f"    {'restated to the invoice ' + r['step']:<44} "
@@ -228,6 +229,12 @@ def print_summary(result, written: dict) -> None:
             tried = [r["step"] for (_, r), st in zip(att.iterrows(), status) if st == "tried"]
             if tried:
                 typer.echo(f"    tried, not credited: {', '.join(tried)}")
+        cov = rec.periods["coverage_pct"] if "coverage_pct" in rec.periods else None
+        if cov is not None and len(cov) and _finite(float(cov.min())) and float(cov.min()) < 99.5:
+            typer.echo(f"    note: our log covers only {float(cov.min()):.3g} % of a billed period's hours: "
+                       "the difference includes the hours without our data")
+        for w in rec.warnings:
+            typer.echo(f"    note: {w}")
     cc = result.corrector_check
     if cc is not None:
         u_c = cc.threshold_pct if _finite(cc.threshold_pct) else None
