@@ -156,3 +156,11 @@ def test_blank_template_month_refused_with_the_fix(tmp_path):
     r = CliRunner().invoke(app, ["correct", str(log), "--site", str(site), "--gas", "methane=1",
                                  "--out", str(tmp_path / "o"), "--quiet"])
     assert r.exit_code == 0, r.output
+
+
+@pytest.mark.parametrize("value", ["nan", "inf", "-1", "lots", True])
+def test_check_percentages_finite(value):
+    with pytest.raises(SettingsError, match="corrector_check_pct"):
+        build_settings(None, {"base": "iso-15c", "uncertainty": {"corrector_check_pct": value}})
+    with pytest.raises(SettingsError, match="invoice_meter_pct"):
+        build_settings(None, {"base": "iso-15c", "uncertainty": {"invoice_meter_pct": value}})

@@ -391,6 +391,18 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
             setattr(s, name, dict(raw[name]))
 
     # validation
+    for key, v in (s.uncertainty or {}).items():
+        # percent keys of the invoice and corrector checks (invoice_meter_pct, corrector_check_pct):
+        # the uncertainty stage reads the others
+        if str(key).endswith("_pct"):
+            try:
+                if isinstance(v, bool):
+                    raise ValueError
+                x = float(v)
+            except (TypeError, ValueError):
+                fail("uncertainty", f"{key} = '{v}' is not a number", f"write e.g. {key} = 1.0 (percent)")
+            if not (math.isfinite(x) and 0.0 <= x <= 100.0):
+                fail("uncertainty", f"{key} = {v} is outside 0-100 %", f"write e.g. {key} = 1.0 (percent)")
     if s.interval_label not in ("end", "start"):
         fail("interval_label", f"'{s.interval_label}' is not 'end' or 'start'")
     if s.substitution not in SUBSTITUTION_POLICIES:
