@@ -80,3 +80,18 @@ def test_console_shows_how_each_column_was_read(tmp_path):
 def test_corpus_covers_the_issue():
     names = {c.__name__ for c in CASES}
     assert len(names) == len(CASES) >= 30
+
+
+def test_invoice_coverage_counts_the_hours_of_the_clock():
+    """A gas month with the autumn clock change has 745 hours on a Berlin clock (IANA tz rules),
+    31 x 24 = 744 in UTC: a fully logged month covers 100 %, not 100.13 %."""
+    import datetime as dt
+    from types import SimpleNamespace
+
+    from meterfix.checks.attribution import _period_hours
+
+    s = SimpleNamespace(timezone="Europe/Berlin", gas_day_start_hour=6)
+    assert _period_hours(dt.date(2026, 10, 1), dt.date(2026, 10, 31), s) == 745.0
+    assert _period_hours(dt.date(2026, 3, 1), dt.date(2026, 3, 31), s) == 743.0
+    s = SimpleNamespace(timezone="UTC", gas_day_start_hour=9)
+    assert _period_hours(dt.date(2026, 10, 1), dt.date(2026, 10, 31), s) == 744.0

@@ -104,7 +104,7 @@ def period_arrays(result, inv) -> dict:
     share = v_theirs_base / v_theirs_base.sum() if n and v_theirs_base.sum() > 0 else np.full(n, 1.0 / max(n, 1))
     conversion = float(np.sum(share * conv)) if n else (p_i / p_o) * (t_o / t_i)
     hours = float(np.nansum(d["duration"])) / 3600.0
-    days = (end - start).days + 1 if isinstance(end, _dt.date) else np.nan
+    days = _period_hours(start, end, s) / 24.0 if isinstance(end, _dt.date) else np.nan
     v_billed = float(inv["volume_billed"])
     hv_inv = float(inv["heating_value"]) if np.isfinite(inv["heating_value"]) else (
         float(inv["energy_billed"]) / v_billed if np.isfinite(inv["energy_billed"]) and v_billed else np.nan)
@@ -116,6 +116,18 @@ def period_arrays(result, inv) -> dict:
         "volume_billed": v_billed, "energy_billed": e_billed, "heating_value_invoice": hv_inv,
         "coverage_pct": 100.0 * hours / (24.0 * days) if days and np.isfinite(days) else np.nan,
     }
+
+
+def _period_hours(start, end, s) -> float:
+    """Hours of the gas days start..end (inclusive) on the site's clock: 23 or 25 on a day with a
+    clock change (IANA tz database rules), so that a fully logged period covers exactly 100 %."""
+    import pandas as pd
+
+    def begin(day):
+        t = pd.Timestamp(_dt.datetime(day.year, day.month, day.day, int(s.gas_day_start_hour)))
+        return t.tz_localize(s.timezone, ambiguous=True, nonexistent="shift_forward")
+
+    return (begin(end + _dt.timedelta(days=1)) - begin(start)).total_seconds() / 3600.0
 
 
 def _steps_for_period(result, a, assumed_pressure_atm):
