@@ -227,7 +227,7 @@ def read_rows(path, *, sheet_words=(), limits: Limits = DEFAULT_LIMITS) -> tuple
             raise InputError(f"the file has {len(lines)} lines, more than the limit of {limits.max_rows} rows",
                              file=name)
         delim = _sniff_delimiter(lines[: limits.header_scan_rows + 30])
-        rows = list(csv.reader(io.StringIO(text), delimiter=delim))
+        rows = list(csv.reader(io.StringIO(text, newline=""), delimiter=delim))
         return [[c if c.strip() != "" else None for c in r] for r in rows], None
     if kind == "zip":
         check_zip(io.BytesIO(data), name, limits)
@@ -378,7 +378,7 @@ def _parse_text(data: bytes, name, score, limits: Limits) -> RawTable:
         rows = np.arange(skip + 1, skip + 1 + len(df), dtype=np.int64)
     except (pd.errors.ParserError, pd.errors.ParserWarning, ValueError):
         # rows wider than the header or odd quoting: the csv module, slower but forgiving
-        recs = list(csv.reader(io.StringIO(text), delimiter=delim))[skip:]
+        recs = list(csv.reader(io.StringIO(text, newline=""), delimiter=delim))[skip:]
         wide = [k for k, r in enumerate(recs) if len(r) > width and any(c.strip() for c in r[width:])]
         if wide:
             notes.append(f"{len(wide)} row(s) have cells beyond the last header column (first: row "
