@@ -265,6 +265,28 @@ def volume_and_index_one_row(d):
     return Case([p], [str(p), *RUN, *UTC], expect=expect_of(rows), flags={"volume_mismatch": 1})
 
 
+def flow_rate_only(d):
+    """Only a flow rate (m3/h) at hourly rows: each interval is rate x its duration (1 h)."""
+    n = 24
+    vals = values(n)
+    body = [[t, p, tt, v] for t, (p, tt, v) in zip(hourly(n), vals)]
+    path = write(d, "flow.csv", csv(["Interval end", "Line pressure [bar(g)]", "Line temperature [degC]",
+                                     "Flow rate [m3/h]"], body))
+    return Case([path], [str(path), *RUN, *UTC], expect=expect_of(metric_rows(vals)))
+
+
+def flow_and_volume_disagree(d):
+    """Interval volumes and a flow rate 20 % higher: the interval volumes count, the difference is noted."""
+    n = 24
+    vals = values(n)
+    body = [[t, p, tt, v, f"{float(v) * 1.2:.2f}"] for t, (p, tt, v) in zip(hourly(n), vals)]
+    path = write(d, "flow_vs_volume.csv", csv(HEADER + ["Flow rate [m3/h]"], body))
+
+    def check(s, out):
+        assert any("flow rate x duration differs" in n for n in s["log"]["notes"]), s["log"]["notes"]
+    return Case([path], [str(path), *RUN, *UTC], expect=expect_of(metric_rows(vals)), check=check)
+
+
 def _no_flag(s, kind):
     assert not s["flags"].get(kind), s["flags"]
 
@@ -567,7 +589,8 @@ def index_with_opening_option(d):
 CASES = [
     us_corr_uncorr_mcf, us_index_cf_corr_mcf, vm_vb_columns, cor_unc_columns, standard_volume_only,
     two_volume_candidates, two_volume_candidates_picked, weak_volume_evidence,
-    volume_and_index_agree, volume_and_index_disagree, volume_and_index_one_row,
+    volume_and_index_agree, volume_and_index_disagree, volume_and_index_one_row, flow_rate_only,
+    flow_and_volume_disagree,
     header_repeat_kpa_then_bar, header_repeat_bar_then_kpa,
     non_finite_cells,
     totals_row_date_only, totals_row_word, average_row_word, sum_row_without_word,
