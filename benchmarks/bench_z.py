@@ -5,19 +5,24 @@ so that tracing does not slow the timed one) at 10^3, 10^5 and 10^6 points (--qu
 10^5), for one composition and for 100 compositions (the points split into 100 equal groups,
 one call per group, as the month pipeline calls a method once per analysis period). Then the
 equations of state against their scalar test versions (tests/scalar_*.py) on a small sample in
-the same run, and the DETAIL / GERG-2008 variants (Z only, distinct temperatures).
+the same run, and the DETAIL / GERG-2008 variants (Z only, distinct temperatures). Last, what the issue targets:
+the public ``meterfix.compressibility`` at 10^6 distinct (p, T) points against the AGA8
+reference code called point by point from Python (``pyaga8``: DensityDetail / DensityGERG,
+then the properties routine), interleaved, three rounds; and the cold first call of each
+method in a fresh process (imports, loading the cached compiled kernel).
 
 Points: pressure uniform 0.1-12 MPa, temperature uniform 263-313 K rounded to 0.01 K (a
 logger's resolution); a lean pipeline gas, and 100 variations of it. Speed is never asserted:
 the machine is shared, so the load average is printed with the figures.
 
-    python benchmarks/bench_z.py [--quick] [--methods aga8-detail,gerg-2008]
+    python benchmarks/bench_z.py [--quick] [--methods aga8-detail,gerg-2008] [--reference-only]
 """
 
 from __future__ import annotations
 
 import argparse
 import os
+import subprocess
 import sys
 import time
 import tracemalloc
@@ -96,6 +101,93 @@ def scalar_rate(module, comp: Composition, rng, n: int = 20) -> float:
     return n / (time.perf_counter() - t0)
 
 
+#: the issue's targets: points per second of compressibility() over the reference code's
+REFERENCE_TARGETS = {"aga8-detail": 15.0, "gerg-2008": 10.0}
+PYAGA8_NAMES = {"n_hexane": "hexane", "n_heptane": "heptane", "n_octane": "octane", "n_nonane": "nonane",
+                "n_decane": "decane"}
+
+
+def reference_rate(method: str, gas: dict, p, t) -> float:
+    """Points per second of the AGA8 reference code (pyaga8) called point by point for Z."""
+    import pyaga8
+
+    comp = pyaga8.Composition()
+    for k, v in gas.items():
+        setattr(comp, PYAGA8_NAMES.get(k, k), v)
+    state = pyaga8.Detail() if method == "aga8-detail" else pyaga8.Gerg2008()
+    state.set_composition(comp)
+    gerg = method == "gerg-2008"
+    pk = (np.asarray(p) / 1000.0).tolist()  # [kPa]
+    tk = np.asarray(t).tolist()
+    t0 = time.perf_counter()
+    for pi, ti in zip(pk, tk):
+        state.pressure = pi
+        state.temperature = ti
+        if gerg:
+            state.calc_density(0)
+        else:
+            state.calc_density()
+        state.calc_properties()
+        _ = state.z
+    return len(pk) / (time.perf_counter() - t0)
+
+
+COLD = """
+import time, numpy as np
+t0 = time.perf_counter()
+from meterfix import compressibility
+t1 = time.perf_counter()
+rng = np.random.default_rng(5)
+p = rng.uniform(0.1e6, 12e6, {n}); t = rng.uniform(263.0, 313.0, {n})
+gas = {gas!r}
+t2 = time.perf_counter(); compressibility(p, t, gas, method={method!r}); t3 = time.perf_counter()
+compressibility(p, t, gas, method={method!r}); t4 = time.perf_counter()
+print(t1 - t0, t3 - t2, t4 - t3)
+"""
+
+
+def against_reference(names, rng) -> None:
+    """compressibility() at 10^6 distinct points against pyaga8 point by point, same run."""
+    from meterfix import compressibility
+
+    try:
+        import pyaga8  # noqa: F401
+    except ImportError:
+        print("\npyaga8 not installed (pip install -e '.[bench]'): no comparison with the reference code")
+        return
+    n, n_ref = 10 ** 6, 10 ** 5
+    p, t = points(n, rng, distinct=True)
+    print(f"\ncompressibility() at {n} distinct (p, T) points vs the AGA8 reference code (pyaga8) point by "
+          f"point on {n_ref} of them; 3 rounds, interleaved")
+    for name in ("aga8-detail", "gerg-2008"):
+        if name not in names:
+            continue
+        compressibility(p[:10 ** 5], t[:10 ** 5], BASE_GAS, method=name)  # warm: imports, kernel load
+        ours, refs, ratios = [], [], []
+        for _ in range(3):
+            r_ref = reference_rate(name, BASE_GAS, p[:n_ref], t[:n_ref])
+            t0 = time.perf_counter()
+            compressibility(p, t, BASE_GAS, method=name)
+            r = n / (time.perf_counter() - t0)
+            ours.append(r)
+            refs.append(r_ref)
+            ratios.append(r / r_ref)
+        load = os.getloadavg()
+        print(f"{name:12s} ours {fmt_rate(min(ours))}-{fmt_rate(max(ours))}  reference {fmt_rate(min(refs))}-"
+              f"{fmt_rate(max(refs))}  ratio {min(ratios):.1f}-{max(ratios):.1f} x (target "
+              f"{REFERENCE_TARGETS[name]:.0f} x: {'met' if max(ratios) >= REFERENCE_TARGETS[name] else 'NOT met'}), "
+              f"load {load[0]:.2f}")
+    print("cold first call in a fresh process, 10^6 points (import meterfix / first call / second call):")
+    for name in ("aga8-detail", "gerg-2008"):
+        if name not in names:
+            continue
+        out = subprocess.run([sys.executable, "-c", COLD.format(n=n, gas=BASE_GAS, method=name)],
+                             capture_output=True, text=True, check=True).stdout.split()
+        imp, first, second = (float(v) for v in out)
+        print(f"{name:12s} import {imp:.2f} s, first call {first:.2f} s, second call {second:.2f} s "
+              f"(first - second = {first - second:.2f} s of loading)")
+
+
 def fmt_rate(r: float) -> str:
     return f"{r / 1e6:8.3f} M/s" if r >= 1e5 else f"{r / 1e3:8.1f} k/s"
 
@@ -104,6 +196,8 @@ def main() -> None:
     ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     ap.add_argument("--quick", action="store_true", help="10^3 and 10^5 points only")
     ap.add_argument("--methods", default="", help="comma-separated registry names (default: all)")
+    ap.add_argument("--reference-only", action="store_true",
+                    help="only compressibility() against the AGA8 reference code and the cold first call")
     args = ap.parse_args()
     sizes = [10 ** 3, 10 ** 5] if args.quick else [10 ** 3, 10 ** 5, 10 ** 6]
     names = [m.strip() for m in args.methods.split(",") if m.strip()] or method_names()
@@ -112,6 +206,9 @@ def main() -> None:
     data = {n: points(n, rng) for n in sizes}
     load = os.getloadavg()
     print(f"meterfix Z methods: {os.cpu_count()} CPU(s), load average {load[0]:.2f} {load[1]:.2f} {load[2]:.2f}")
+    if args.reference_only:
+        against_reference(names, rng)
+        return
     print(f"{'method':18s} {'points':>9s} {'one composition':>16s} {'peak MB':>8s} {'100 compositions':>17s} {'peak MB':>8s}")
     rates: dict[tuple[str, int], float] = {}
     peaks: dict[tuple[str, int], float] = {}
@@ -163,6 +260,7 @@ def main() -> None:
         ok = rates[key] >= target and peaks[key] <= PEAK_TARGET_MB
         print(f"{name:18s} {fmt_rate(rates[key])} (target {fmt_rate(target)}), peak {peaks[key]:.0f} MB "
               f"(target {PEAK_TARGET_MB:.0f} MB): {'met' if ok else 'NOT met'}")
+    against_reference(names, rng)
 
 
 if __name__ == "__main__":

@@ -89,6 +89,7 @@ def compressibility(pressure, temperature, composition=None, method: str = DEFAU
             break
     p = np.asarray(pressure, dtype=float)
     t = np.asarray(temperature, dtype=float)
+    options.setdefault("speed_of_sound", False)  # Z only: the derivatives only when asked
     res = evaluate_z(p, t, composition, method, **options)
     n_out = int(np.count_nonzero(res.range_class == OUTSIDE))
     n_nan = int(np.count_nonzero(~np.isfinite(res.z)))

@@ -20,6 +20,7 @@ from .aga8_detail_mixture import COL_B, COL_K, N_COL, R_DETAIL, U_EXPONENTS, Det
 from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_NO_CONVERGENCE,
                    REASON_NO_GAS_ROOT, ZResult)
 from .blocks import REASON_DTYPE, solve_points
+from .compiled import ColumnForm, column_form, solve_fast, use_compiled
 from .gas_root import solve_ln_density
 from .registry import ZMethod
 
@@ -272,6 +273,29 @@ def _solve_block(mix: DetailMixture, ws: _Workspace, p: np.ndarray, t: np.ndarra
     return np.where(ok, z, np.nan), rho, np.where(ok, snd, np.nan), reason
 
 
+@lru_cache(maxsize=512)
+def _form(mix: DetailMixture) -> ColumnForm:
+    """The compiled kernel's column form of one composition: phi = delta^b exp(-delta^k)."""
+    col_e = np.zeros((7, N_COL))
+    col_e[COL_K.astype(int), np.arange(N_COL)] = np.where(COL_K > 0, -1.0, 0.0)
+    return column_form(U_EXPONENTS, mix.coef, COL_B, col_e)
+
+
+def _solve_block_compiled(mix: DetailMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray):
+    """Z only, by the compiled kernel; the points it does not settle, and those where a van der
+    Waals loop is possible (see :func:`_reject_dense_roots`), go through :func:`_solve_block`."""
+    scale = mix.k3 / (1000.0 * R_DETAIL)
+    delta, ok = solve_fast(_form(mix), p, t, scale, 0.0, 0, DELTA_MAX, STEP_TOL_HALLEY)
+    z = scale * p / t / delta
+    rho = delta / mix.k3 * 1000.0
+    redo = np.flatnonzero(~ok | ((t < 1.6 * mix.energy) & (delta > 0.3)))
+    if redo.size == 0:
+        return z, rho, np.nan, ""  # no speed of sound, no reason: spread by the caller
+    reason = np.full(p.size, "", dtype=REASON_DTYPE)
+    z[redo], rho[redo], _, reason[redo] = _solve_block(mix, ws, p[redo], t[redo], False)
+    return z, rho, np.nan, reason
+
+
 def _reject_dense_roots(mix: DetailMixture, ws: _Workspace, w_all, delta, t, ok, reason):
     """Mark roots on a liquid-like branch: p(rho) must rise all the way from rho = 0.
 
@@ -428,9 +452,11 @@ def z_aga8_detail(pressure, temperature, composition, *, speed_of_sound: bool = 
     """
     comp = as_composition(composition)
     mix = mixture(comp.fractions)
-    shape, pf, tf, bad, z, rho, w, reason = solve_points(
-        pressure, temperature, _Workspace,
-        lambda ws, p, t: _solve_block(mix, ws, p, t, speed_of_sound), CHUNK, workers)
+    if not speed_of_sound and use_compiled(np.broadcast(np.asarray(pressure), np.asarray(temperature)).size):
+        block = lambda ws, p, t: _solve_block_compiled(mix, ws, p, t)  # noqa: E731
+    else:
+        block = lambda ws, p, t: _solve_block(mix, ws, p, t, speed_of_sound)  # noqa: E731
+    shape, pf, tf, bad, z, rho, w, reason = solve_points(pressure, temperature, _Workspace, block, CHUNK, workers)
     comp_class = composition_range(comp.fractions)
     rng = range_classes(pf, tf, comp.fractions)
     rng[bad] = OUTSIDE

@@ -8,12 +8,15 @@ temperature; the composition-dependent terms come from :mod:`meterfix.z.gerg2008
 
 from __future__ import annotations
 
+from functools import lru_cache
+
 import numpy as np
 
 from ..gas.composition import as_composition
 from .base import (EXTENDED, NORMAL, OUTSIDE, REASON_NO_CONVERGENCE,
                    REASON_NO_GAS_ROOT, ZResult, range_by_box)
 from .blocks import REASON_DTYPE, solve_points
+from .compiled import ColumnForm, column_form, solve_fast, use_compiled
 from .gas_root import solve_ln_density
 from .gerg2008_mixture import N_EXPO, N_POWERS, R_GERG, GergMixture, mixture
 from .registry import ZMethod
@@ -154,6 +157,27 @@ def _solve_block(mix: GergMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray,
         ok[i[bad]] = False
     rho = np.where(ok, delta * mix.rho_reducing, np.nan)
     return np.where(ok, z, np.nan), rho, np.where(ok, w, np.nan), reason
+
+
+@lru_cache(maxsize=512)
+def _form(mix: GergMixture) -> ColumnForm:
+    """The compiled kernel's column form of one composition."""
+    return column_form(mix.t_exponents, mix.coef, mix.expo[0], mix.expo[1:])
+
+
+def _solve_block_compiled(mix: GergMixture, ws: _Workspace, p: np.ndarray, t: np.ndarray):
+    """Z only, by the compiled kernel; the points it does not settle, and those where a van der
+    Waals loop is possible (see :func:`_reject_dense_roots`), go through :func:`_solve_block`."""
+    scale = 1.0 / (mix.rho_reducing * R_GERG)
+    delta, ok = solve_fast(_form(mix), p, t, scale, np.log(mix.t_reducing), 1, DELTA_MAX, STEP_TOL_HALLEY)
+    z = scale * p / t / delta
+    rho = delta * mix.rho_reducing
+    redo = np.flatnonzero(~ok | ((mix.t_reducing / t > 0.8) & (delta > 0.3)))
+    if redo.size == 0:
+        return z, rho, np.nan, ""  # no speed of sound, no reason: spread by the caller
+    reason = np.full(p.size, "", dtype=REASON_DTYPE)
+    z[redo], rho[redo], _, reason[redo] = _solve_block(mix, ws, p[redo], t[redo], False)
+    return z, rho, np.nan, reason
 
 
 def _safe_solve(mix: GergMixture, ws: _Workspace, b: np.ndarray, delta: np.ndarray, lnpi: np.ndarray):
@@ -301,9 +325,12 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
     """
     comp = as_composition(composition)
     mix = mixture(comp.fractions)
+    if not speed_of_sound and use_compiled(np.broadcast(np.asarray(pressure), np.asarray(temperature)).size):
+        block = lambda ws, p, t: _solve_block_compiled(mix, ws, p, t)  # noqa: E731
+    else:
+        block = lambda ws, p, t: _solve_block(mix, ws, p, t, speed_of_sound)  # noqa: E731
     shape, pf, tf, bad, z, rho, w, reason = solve_points(
-        pressure, temperature, lambda n: _Workspace(mix, n),
-        lambda ws, p, t: _solve_block(mix, ws, p, t, speed_of_sound), CHUNK, workers)
+        pressure, temperature, lambda n: _Workspace(mix, n), block, CHUNK, workers)
     rng = range_by_box(pf, tf, NORMAL_RANGE, EXTENDED_RANGE)
     rng[bad] = OUTSIDE
     return ZResult(z.reshape(shape), rng.reshape(shape), reason.reshape(shape),
