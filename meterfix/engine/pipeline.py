@@ -516,7 +516,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         if gas is None:
             z_line[sel] = 1.0
         else:
-            res = evaluate_z(p[sel], tl[sel], gas, method.name)
+            res = evaluate_z(p[sel], tl[sel], gas, method.name, speed_of_sound=False)  # Z only
             z_line[sel] = np.broadcast_to(res.z, (int(sel.sum()),))
             z_range[sel] = np.broadcast_to(res.range_class, (int(sel.sum()),))
             z_reason[sel] = np.broadcast_to(res.reason, (int(sel.sum()),))

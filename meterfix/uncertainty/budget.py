@@ -159,9 +159,9 @@ def z_log_derivatives(pressure, temperature, gas, method: str, z0=None, step: fl
     e, f = np.exp(step), np.exp(-step)
     pp = np.concatenate([p * e, p * f, p, p, p * e, p * e, p * f, p * f])
     tt = np.concatenate([t, t, t * e, t * f, t * e, t * f, t * e, t * f])
-    z = np.asarray(evaluate_z(pp, tt, gas, method).z, float).reshape(8, n)
+    z = np.asarray(evaluate_z(pp, tt, gas, method, speed_of_sound=False).z, float).reshape(8, n)
     if z0 is None:
-        z0 = np.asarray(evaluate_z(p, t, gas, method).z, float)
+        z0 = np.asarray(evaluate_z(p, t, gas, method, speed_of_sound=False).z, float)
     with np.errstate(invalid="ignore", divide="ignore"):
         lz = np.log(z)
         l0 = np.log(np.asarray(z0, float))
