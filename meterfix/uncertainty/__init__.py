@@ -107,7 +107,7 @@ class MonthUncertainty:
         }
 
 
-def month_uncertainty(result, *, draws: int = 100_000, seed: int = 2026, progress=None,
+def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress=None,
                       n_dig: int = 2, max_draws: int | None = None) -> MonthUncertainty:
     """GUM budget and Monte Carlo check of a month run.
 
@@ -116,10 +116,11 @@ def month_uncertainty(result, *, draws: int = 100_000, seed: int = 2026, progres
     result : MonthResult
         ``result.settings.uncertainty`` holds the inputs as strings (``[uncertainty]`` table or CLI
         options), see :func:`parse_uncertainty_settings`.
-    draws : int            Monte Carlo trials of the first stage (JCGM 101 M) [-]
-    max_draws : int, optional  further stages of ``draws`` trials until the month base volume's
-                           results are numerically stable to the tolerance (JCGM 101 §7.9), up to
-                           this many [-] (default 10·draws; give ``draws`` for a fixed M)
+    draws : int            Monte Carlo trials per stage of the adaptive procedure (JCGM 101 §7.9.4
+                           M = 10^4) [-]
+    max_draws : int, optional  stages of ``draws`` trials until the month base volume's results are
+                           numerically stable to the tolerance (JCGM 101 §7.9.4), up to this many
+                           [-] (default 10^6; give ``draws`` for a fixed M)
     seed : int             seed of the generator [-]
     progress : callable(done, total), optional   Monte Carlo progress [trials]
     n_dig : int            significant digits of u for the JCGM 101 numerical tolerance [-]

@@ -33,9 +33,12 @@ Coverage interval: probabilistically symmetric, p = 95 %, from the sorted result
 the shortest interval (§7.7.2) is reported too. Validation of the GUM result (JCGM 101 §8): the GUM
 interval y ± k_p·u(y) with k_p = 1.96 (normal output, p = 95 %) agrees when both endpoint
 differences are within the numerical tolerance δ = ½·10^l, u(y) = c·10^l with c an integer of
-``n_dig`` digits (§7.9.2). Adaptive stages (§7.9.4): after ``draws`` trials, more stages of ``draws``
-until 2 s ≤ δ for the mean, standard deviation and both endpoints of the base volume (s from h = 10
-blocks), up to ``max_draws``. The energy is computed from the same trials; its validation is marked
+``n_dig`` digits (§7.9.2). Adaptive procedure (§7.9.4): stages of M = ``draws`` trials (default
+10^4 = max(J, 10^4), J = 100/(1 - p) = 2000) until, for the mean, standard deviation and both
+endpoints of the base volume, twice the standard deviation s of their average over the h stages
+(each computed from its own stage's trials) is within δ; at least two stages, at most
+``max_draws`` trials (default 10^6). A fixed M (``max_draws`` = ``draws``) reports its stability
+from 10 blocks of its trials. The energy is computed from the same trials; its validation is marked
 not decided where its own results are not yet stable.
 """
 
@@ -50,6 +53,8 @@ BLOCK = 1000
 #: the grouping check evaluates every interval on min(BLOCK, max(CHECK_MIN, CHECK_ELEMENTS / n)) trials
 CHECK_ELEMENTS = 2**25
 CHECK_MIN = 32
+#: the adaptive procedure stops here at the latest (100 stages of 10^4 trials) unless told otherwise
+MAX_DRAWS = 1_000_000
 #: p = 95 % coverage factor of a normal output (GUM G.1.3) used in the JCGM 101 §8 comparison
 K_95 = 1.959963984540054
 
@@ -280,7 +285,7 @@ def _totals(cols, fac, fv, fe, A):
     return v, e
 
 
-def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None, draws: int = 100_000,
+def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None, draws: int = 10_000,
                 max_draws: int | None = None, seed: int = 2026, progress=None, coverage: float = 0.95,
                 n_dig: int = 2, explicit_max: int = 64, bins: int = 4, chunk_elements: int = 2**18,
                 blocks: int = 10, grouping: bool = True) -> dict:
@@ -291,10 +296,10 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
     model : IntervalModel          from :func:`meterfix.uncertainty.budget.build_model`
     gum_u_volume : float [-]       GUM relative standard uncertainty of the month base volume
     gum_u_energy : float [-], optional
-    draws : int                    trials M of the first stage
+    draws : int                    trials M of each stage (JCGM 101 §7.9.4: 10^4)
     max_draws : int, optional      continue in stages of ``draws`` until the results are numerically
-                                   stable to the tolerance (JCGM 101 §7.9), up to this many trials
-                                   (default 10·draws; equal to ``draws`` for a fixed M)
+                                   stable to the tolerance (JCGM 101 §7.9.4), up to this many trials
+                                   (default MAX_DRAWS = 10^6; equal to ``draws`` for a fixed M)
     seed : int                     seed of numpy's default generator (PCG64)
     progress : callable(done, total), optional   called after each chunk of trials
     coverage : float [-]           coverage probability p
@@ -312,7 +317,7 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
     dict   see :class:`meterfix.uncertainty.MonthUncertainty` ``monte_carlo``
     """
     draws = int(draws)
-    max_draws = 10 * draws if max_draws is None else max(int(max_draws), draws)
+    max_draws = max(MAX_DRAWS, draws) if max_draws is None else max(int(max_draws), draws)
     if draws < 1000:
         from ..errors import SettingsError
 
@@ -450,8 +455,10 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
     K = min(draws, BLOCK)  # trials drawn together: the same trials whatever the evaluation
     vol = np.empty(max_draws)
     ene = np.empty(max_draws) if has_e else None
-    done, target = 0, draws
+    stages = []  # JCGM 101 §7.9.4: (mean, standard deviation, low, high) of each stage's own trials
+    done = 0
     while True:
+        start, target = done, min(max_draws, done + draws)
         while done < target:
             k = min(K, target - done)
             v, e = run(k, cols)
@@ -461,14 +468,17 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
             done += k
             if progress is not None:
                 progress(done, target)
-        stable = _stability(vol[:done], coverage, blocks, delta_v)  # the month base volume decides
+        if done - start == draws:
+            stages.append(_stage_statistics(vol[start:done], coverage))
+        stable = _stages_stable(stages, delta_v)  # the month base volume decides
         if stable or done >= max_draws:
             break
-        target = min(max_draws, done + draws)
 
-    out = _summarise(vol[:done], y_v, gum_u_volume, coverage, n_dig, blocks, "m3")
+    spread = _stage_spread(stages) if len(stages) >= 2 else None
+    out = _summarise(vol[:done], y_v, gum_u_volume, coverage, n_dig, blocks, "m3", spread)
     out.update({
-        "draws": int(done), "first_stage_draws": draws, "max_draws": int(max_draws), "seed": int(seed),
+        "draws": int(done), "first_stage_draws": draws, "stage_draws": draws, "stages": len(stages),
+        "max_draws": int(max_draws), "seed": int(seed),
         "generator": "numpy PCG64 (default_rng)", "coverage_probability": coverage, "n_dig": n_dig, "k_p": K_95,
         "evaluation": check,
         "random_explicit_intervals": int(explicit.size),
@@ -479,7 +489,9 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
                  "second-order expansion in ln p and ln T, first order in composition",
     })
     if has_e and gum_u_energy is not None:
-        out["energy"] = _summarise(ene[:done], y_e, gum_u_energy, coverage, n_dig, blocks, "J")
+        e_stages = [_stage_statistics(ene[i:i + draws], coverage) for i in range(0, draws * len(stages), draws)]
+        out["energy"] = _summarise(ene[:done], y_e, gum_u_energy, coverage, n_dig, blocks, "J",
+                                   _stage_spread(e_stages) if len(e_stages) >= 2 else None)
         if not out["energy"]["numerically_stable"]:
             out["energy"]["gum_agrees"] = None  # not decided at this number of trials
     else:
@@ -499,13 +511,32 @@ def _block_spread(values, p, blocks):
     return np.std(np.array(stats), axis=0, ddof=1) / math.sqrt(h)
 
 
-def _stability(values, p, blocks, delta) -> bool:
+def _stage_statistics(values, p):
+    """(mean, standard deviation, low end, high end) of one stage's trials (JCGM 101 §7.9.4 d)."""
+    lo, hi = coverage_interval(np.sort(values), p)
+    return float(np.mean(values)), float(np.std(values, ddof=1)), lo, hi
+
+
+def _stage_spread(stages):
+    """Standard deviations of the averages of the stage statistics, s / sqrt(h) (JCGM 101 §7.9.4 f)."""
+    a = np.array(stages)
+    return np.std(a, axis=0, ddof=1) / math.sqrt(a.shape[0])
+
+
+def _stages_stable(stages, delta) -> bool:
+    """JCGM 101 §7.9.4 h: twice each standard deviation of the averages within the tolerance
+    (at least two stages)."""
     if not delta:
         return True
-    return bool(2.0 * float(np.max(_block_spread(values, p, blocks))) <= delta)
+    if len(stages) < 2:
+        return False
+    return bool(2.0 * float(np.max(_stage_spread(stages))) <= delta)
 
 
-def _summarise(values, y, u_rel, p, n_dig, blocks, unit):
+def _summarise(values, y, u_rel, p, n_dig, blocks, unit, spread=None):
+    """Coverage intervals, the JCGM 101 §8 comparison with the GUM interval, and the numerical
+    stability: from the adaptive stages' statistics (``spread``, §7.9.4) when there were two or
+    more, else from ``blocks`` blocks of the trials."""
     s = np.sort(values)
     lo, hi = coverage_interval(s, p)
     slo, shi = shortest_interval(s, p)
@@ -514,7 +545,8 @@ def _summarise(values, y, u_rel, p, n_dig, blocks, unit):
     delta = numerical_tolerance(u, n_dig)
     d_low = abs(y - Up - lo)
     d_high = abs(y + Up - hi)
-    spread = _block_spread(values, p, blocks)
+    if spread is None:
+        spread = _block_spread(values, p, blocks)
     sd = float(np.std(values, ddof=1))
     return {
         "estimate": y, "unit": unit, "mean": float(np.mean(values)), "standard_deviation": sd,
