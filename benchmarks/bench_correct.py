@@ -1,0 +1,118 @@
+"""What users run: ``meterfix correct`` in a fresh process, wall time and peak memory.
+
+1. The demo month (745 hourly intervals, analyses, invoice, site corrector column) through the
+   CLI with all default outputs, in fresh processes (imports counted), several times; beside it,
+   in the same run, the core path of the same month (read, quality, Z, totals: ``read_month``)
+   and the month job with uncertainty and checks (``run_files``) timed in-process, and the time
+   of ``import meterfix.cli`` alone.
+2. With ``--rows N``: an invented one-minute log of N rows through the CLI under
+   ``/usr/bin/time -v`` (wall time, maximum resident set size), uncertainty included. With
+   ``--no-workbook`` that run writes every output except the workbook (the writer module is
+   kept from importing, as when it is missing), to separate the workbook's share.
+
+    python benchmarks/bench_correct.py [--repeat 5] [--rows 1000000] [--no-workbook]
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import re
+import subprocess
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+ROOT = Path(__file__).resolve().parents[1]
+DEMO = ROOT / "fixtures" / "demo"
+GAS = "methane=0.93,ethane=0.035,propane=0.008,nitrogen=0.015,carbon_dioxide=0.012"
+#: runs the CLI with the workbook writer kept from importing (write_outputs then skips it)
+NO_WORKBOOK = ("import sys; sys.modules['meterfix.writers.workbook'] = None; "
+               "from meterfix.cli import main; sys.argv = ['meterfix'] + sys.argv[1:]; main()")
+
+
+def demo_args(out: Path) -> list[str]:
+    return ["correct", str(DEMO / "fv-m1_log_2026-10.csv"), "--site", str(DEMO / "site.toml"),
+            "--composition", str(DEMO / "fv-m1_analyses_2026-10.csv"),
+            "--invoice", str(DEMO / "harrowgate_invoice_2026-10.xlsx"), "--out", str(out), "--quiet"]
+
+
+def timed_process(cmd: list[str]) -> float:
+    t0 = time.perf_counter()
+    subprocess.run(cmd, check=True, stdout=subprocess.DEVNULL)
+    return time.perf_counter() - t0
+
+
+def time_v(cmd: list[str]) -> tuple[float, float]:
+    """(wall [s], maximum resident set size [MiB]) of a command under /usr/bin/time -v."""
+    r = subprocess.run(["/usr/bin/time", "-v", *cmd], capture_output=True, text=True)
+    if r.returncode != 0:
+        raise RuntimeError(r.stderr[-2000:])
+    wall = re.search(r"Elapsed \(wall clock\) time.*: (?:(\d+):)?(\d+):([\d.]+)", r.stderr)
+    h, m, s = wall.groups()
+    rss = re.search(r"Maximum resident set size \(kbytes\): (\d+)", r.stderr)
+    return int(h or 0) * 3600 + int(m) * 60 + float(s), int(rss.group(1)) / 1024
+
+
+def make_long_log(path: Path, rows: int) -> None:
+    sys.path.insert(0, str(ROOT / "benchmarks"))
+    from bench_read import make_frame
+
+    make_frame(rows).to_csv(path, index=False)
+
+
+def main() -> None:
+    ap = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    ap.add_argument("--repeat", type=int, default=5)
+    ap.add_argument("--rows", type=int, default=0, help="also run a one-minute log of this many rows")
+    ap.add_argument("--no-workbook", action="store_true", help="the long run without the workbook")
+    a = ap.parse_args()
+    load = os.getloadavg()
+    print(f"meterfix correct: {os.cpu_count()} CPU(s), load average {load[0]:.2f} {load[1]:.2f} {load[2]:.2f}")
+    py = sys.executable
+    with tempfile.TemporaryDirectory() as tmp:
+        tmp = Path(tmp)
+        imports = [timed_process([py, "-c", "import meterfix.cli"]) for _ in range(a.repeat)]
+        cli = []
+        for k in range(a.repeat):
+            cli.append(timed_process([py, "-m", "meterfix", *demo_args(tmp / f"demo{k}")]))
+        from meterfix.engine.run import read_month
+        from meterfix.engine.settings import build_settings
+        from meterfix.month import run_files
+
+        settings = build_settings(DEMO / "site.toml", {})
+        files = dict(composition=DEMO / "fv-m1_analyses_2026-10.csv")
+        run_files([DEMO / "fv-m1_log_2026-10.csv"], settings, **files)  # warm: imports, caches
+        core, job = [], []
+        for _ in range(a.repeat):
+            t0 = time.perf_counter()
+            read_month([DEMO / "fv-m1_log_2026-10.csv"], settings, **files)
+            core.append(time.perf_counter() - t0)
+            t0 = time.perf_counter()
+            run_files([DEMO / "fv-m1_log_2026-10.csv"], settings, invoice=DEMO / "harrowgate_invoice_2026-10.xlsx",
+                      **files)
+            job.append(time.perf_counter() - t0)
+        rng = lambda v: f"{min(v):.2f}-{max(v):.2f} s"  # noqa: E731
+        print(f"demo month (745 hourly intervals), {a.repeat} fresh processes each:")
+        print(f"  import meterfix.cli                     {rng(imports)}")
+        print(f"  meterfix correct, all default outputs   {rng(cli)}  (target 1 s: "
+              f"{'met' if min(cli) <= 1.0 else 'NOT met'})")
+        print(f"  in-process, warm: core path (read_month) {rng(core)}; month job with uncertainty and "
+              f"invoice check (run_files) {rng(job)}")
+        print(f"  ratio CLI / core path {min(cli) / min(core):.0f}x (best of each)")
+        if a.rows:
+            log = tmp / f"log_{a.rows}.csv"
+            make_long_log(log, a.rows)
+            args = ["correct", str(log), "--gas", GAS, "--base", "normal-0c", "--timezone", "Europe/Berlin",
+                    "--elevation", "240 m", "--out", str(tmp / "long"), "--quiet"]
+            cmd = [py, "-c", NO_WORKBOOK, *args] if a.no_workbook else [py, "-m", "meterfix", *args]
+            wall, rss = time_v(cmd)
+            what = "every output but the workbook" if a.no_workbook else "all default outputs"
+            load = os.getloadavg()
+            print(f"{a.rows:,} one-minute rows, uncertainty included, {what}: {wall:.1f} s wall, peak "
+                  f"{rss:,.0f} MiB (load average {load[0]:.2f})")
+
+
+if __name__ == "__main__":
+    main()
