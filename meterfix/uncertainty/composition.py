@@ -75,7 +75,8 @@ def composition_term(model, result, parsed, add, method_name):
                 pts_p = np.concatenate([[s.pressure_base], model.pressure[sel]])
                 pts_t = np.concatenate([[s.temperature_base], model.temperature[sel]])
                 with np.errstate(invalid="ignore", divide="ignore"):
-                    lz.append(np.log(np.asarray(evaluate_z(pts_p, pts_t, g, method_name).z, float)))
+                    lz.append(np.log(np.asarray(evaluate_z(pts_p, pts_t, g, method_name,
+                                                          speed_of_sound=False).z, float)))
             d = (lz[0] - lz[1]) / (2 * h)
             g_base[r, a] = d[0] if np.isfinite(d[0]) else 0.0
             g_line[r, sel] = np.where(np.isfinite(d[1:]), d[1:], 0.0)

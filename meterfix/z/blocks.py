@@ -88,7 +88,8 @@ def solve_points(pressure, temperature, make_workspace: Callable, solve_block: C
     make_workspace : callable   ``make_workspace(n)``: the work arrays of one thread for blocks
                                 of up to ``n`` points
     solve_block : callable      ``solve_block(ws, p, t) -> (z, rho, w, reason)`` for one block
-                                of valid points (p [Pa], t [K]); rho [mol/m3], w [m/s]
+                                of valid points (p [Pa], t [K]); rho [mol/m3], w [m/s]; w may be
+                                a scalar NaN and reason a scalar '' (none for the whole block)
     chunk : int                 points per block at the most
     workers : int or None       threads, see :func:`worker_count`
 
@@ -107,14 +108,20 @@ def solve_points(pressure, temperature, make_workspace: Callable, solve_block: C
     z = np.full(pf.size, np.nan)
     rho = np.full(pf.size, np.nan)
     w = np.full(pf.size, np.nan)
-    reason = np.full(pf.size, "", dtype=REASON_DTYPE)
+    # zero-filled by the operating system ('' everywhere): blocks without a failure leave it
+    # untouched, so the pages of a large call are never written (64 bytes a point)
+    reason = np.zeros(pf.size, dtype=REASON_DTYPE)
     reason[bad] = REASON_INVALID_INPUT
     idx = np.flatnonzero(~bad)
 
     def run(block_list):
         ws = make_workspace(min(chunk, idx.size))
         for j in block_list:
-            z[j], rho[j], w[j], reason[j] = solve_block(ws, pf[j], tf[j])
+            z[j], rho[j], wj, rj = solve_block(ws, pf[j], tf[j])
+            if not (np.ndim(wj) == 0 and np.isnan(wj)):
+                w[j] = wj
+            if not (np.ndim(rj) == 0 and rj == ""):
+                reason[j] = rj
 
     solve_in_blocks(run, idx, chunk, workers)
     return shape, pf, tf, bad, z, rho, w, reason
