@@ -25,6 +25,7 @@ with ``MFX_NO_COMPILED=1`` in the environment, everything runs in numpy.
 from __future__ import annotations
 
 import os
+import sys
 from dataclasses import dataclass
 
 import numpy as np
@@ -112,16 +113,30 @@ def column_form(exponents, coef, col_d, col_e) -> ColumnForm:
                       np.ascontiguousarray(shapes[sm, mm]), v1, v2)
 
 
+def _load():
+    """Import the numba kernel; where numba finds no writable cache directory (neither next to
+    this module nor in the user's cache folder) the cache goes to a folder in the temporary
+    directory."""
+    try:
+        from . import _numba_kernel
+    except ImportError:
+        return None
+    except RuntimeError:  # numba: "cannot cache function ...: no locator available"
+        import tempfile
+
+        import numba.core.config as numba_config
+
+        numba_config.CACHE_DIR = os.path.join(tempfile.gettempdir(), f"meterfix-numba-{getattr(os, 'getuid', lambda: 0)()}")
+        sys.modules.pop(__name__.rsplit(".", 1)[0] + "._numba_kernel", None)
+        from . import _numba_kernel
+    return _numba_kernel.solve
+
+
 def kernel():
     """The compiled kernel, or None (numba missing or switched off with MFX_NO_COMPILED=1)."""
     if not _KERNEL:
-        k = None
-        if os.environ.get("MFX_NO_COMPILED", "") not in ("1", "true", "yes"):
-            try:
-                from ._numba_kernel import solve as k
-            except ImportError:
-                k = None
-        _KERNEL.append(k)
+        off = os.environ.get("MFX_NO_COMPILED", "") in ("1", "true", "yes")
+        _KERNEL.append(None if off else _load())
     return _KERNEL[0]
 
 
