@@ -445,3 +445,17 @@ def test_print_ready(book):
                     width = next(d.width for d in ws.column_dimensions.values()
                                  if d.min and d.max and d.min <= c.column <= d.max)  # neighbours may share one <col>
                     assert width >= len(shown_text(c.value, c.number_format)) + 1, (name, c.coordinate, width)
+
+
+def test_overview_names_the_energy_standard(tmp_path):
+    """The energy edition is named in every output (issue 17): the Overview carries it."""
+    from openpyxl import load_workbook
+
+    from meterfix.cli.demo import run_demo
+
+    out = tmp_path / "demo"
+    run_demo(out)
+    book = load_workbook(next(out.glob("*.xlsx")), read_only=True)
+    cells = [str(c) for row in book["Overview"].iter_rows(values_only=True) for c in row if c is not None]
+    i = cells.index("Energy standard")
+    assert cells[i + 1].startswith("ISO 6976:2016")

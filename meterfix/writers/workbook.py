@@ -207,6 +207,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
              s.base_preset or "")
     at["base temperature"] = r
     r = _row(ws, r, "Base temperature", du.scalar("temperature", s.temperature_base), du.label("temperature"), "0.00")
+    r = _long_row(ws, r, "Energy standard", m.get("energy_standard") or "")
     r = _row(ws, r, "Combustion reference temperature", s.temperature_combustion - 273.15, "°C", "0.00")
     r = _row(ws, r, "Gas day", f"starts {s.gas_day_start_hour:02d}:00 local time", s.timezone)
     if result.reconciliation is not None:
