@@ -4,7 +4,7 @@ Sources of the figures checked here: ISO 6976:2016, Annex D — example 1 (D.2, 
 example 2 (D.3, gas with water vapour, 60 degF / 60 degF), example 3 (D.4, 11 components with
 neopentane; D.4.3 at 15/15 degC and D.4.4 at 25/0 degC, each with the identity correlation matrix
 and with the printed full correlation matrix). Compositions, uncertainties, the correlation matrix and
-the printed results were read from the transcriptions of Annex D in two open-source implementations
+the printed results were read from the reproductions of Annex D in two open-source implementations
 (the ISO6976.2016 R package on CRAN and its Python port's test module, which states the figures are
 verbatim from Annex D); each check names its clause.
 """

@@ -2,14 +2,14 @@
 
 Source of the figures: ISO 6976:1995 (second edition, corrected 1996), Table 1 (molar masses),
 Table 2 (summation factors sqrt(b) at 0, 15 and 20 degC) and Table 3 (ideal molar gross and net
-calorific values at 0, 15, 20 and 25 degC), as transcribed in the open-source library NeqSim
+calorific values at 0, 15, 20 and 25 degC), as reproduced in the open-source library NeqSim
 (equinor/neqsim, ``src/main/resources/data/ISO6976constants.csv``, columns MolarMass, srtb0/15/20,
 Hsupmolar0/15/20/25, Hinfmolar0/15/20/25). The 1995 edition has no 15.55 degC (60 degF) column and
 no component-value uncertainties; its method is the same summation as the 2016 edition's with the
 metering pressure fixed at 101.325 kPa.
 
 Not checked against the printed 1995 standard: the hydrogen and helium summation factors (this
-transcription gives 0 for hydrogen; another open transcription gives -0.0040/-0.0048 at 0/15 degC).
+reproduction gives 0 for hydrogen; another open reproduction gives -0.0040/-0.0048 at 0/15 degC).
 Constants R, M_air and Z_air of the 1995 edition are from memory (marked below).
 
 Columns of :data:`ROWS`: molar mass [g/mol]; sqrt(b) at 0, 15, 20 degC [-]; gross molar calorific
@@ -28,7 +28,7 @@ MOLAR_MASS_AIR = 28.9626
 METERING_TEMPERATURES_C = (0.0, 15.0, 20.0)
 COMBUSTION_TEMPERATURES_C = (0.0, 15.0, 20.0, 25.0)
 #: compression factor of dry air at 101.325 kPa (ISO 6976:1995; 0 and 15 degC as in an open
-#: transcription, 20 degC from memory)
+#: reproduction, 20 degC from memory)
 Z_AIR = (0.99941, 0.99958, 0.99963)
 PRESSURE_RANGE_KPA = (101.325, 101.325)
 Z_MIN = 0.9

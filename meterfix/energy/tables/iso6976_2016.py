@@ -4,11 +4,11 @@ Source of every figure: ISO 6976:2016, *Natural gas — Calculation of calorific
 relative density and Wobbe indices from composition*, third edition, Annex A (tables of molar
 masses, summation factors and ideal-gas gross molar calorific values with their standard
 uncertainties, components 1–60) and clause 4/Annex B constants. The figures were read from the
-transcription of those tables in the open-source package ISO6976.2016 (R, CRAN, version 0.1-0,
+reproduction of those tables in the open-source package ISO6976.2016 (R, CRAN, version 0.1-0,
 R. Forster; ``src/iso6976.cpp``, tables ``TAB_M``, ``TAB_S``, ``TAB_HC``) and are checked here
 against the standard's own worked examples (Annex D, tests/test_iso6976.py), which use the rows of
 methane, ethane, propane, n-butane, isobutane, n-pentane, isopentane, neopentane, n-hexane, water,
-nitrogen and carbon dioxide. Rows not exercised by Annex D are as transcribed.
+nitrogen and carbon dioxide. Rows not exercised by Annex D are as reproduced.
 
 Component order: :data:`meterfix.gas.iso6976_components.NAMES` (the standard's order).
 
