@@ -7,7 +7,7 @@ fleet runners and the Python API call ``run_files``.
 from __future__ import annotations
 
 from .engine.run import _check_file, file_record, load_analyses, read_month, read_month_with_frame  # noqa: F401
-from .engine.pipeline import MonthResult
+from .engine.pipeline import MonthResult  # noqa: F401  (re-exported for users of the month job)
 from .engine.settings import Settings
 
 

@@ -201,7 +201,7 @@ def test_meter_of_a_killed_worker_is_retried_and_reported(cluster, tmp_path):
         name = info[first]["name"]
         cluster.workers[name].send_signal(signal.SIGKILL)  # the worker dies while it holds the meter
         cluster.workers[name].wait(timeout=10)
-        while (second := _holder(cluster.client, "slow-m5")) in (None, first):
+        while (_holder(cluster.client, "slow-m5")) in (None, first):
             assert time.monotonic() < deadline and run.poll() is None, "the meter was not given to another worker"
             time.sleep(0.05)
         feeder.start()

@@ -141,7 +141,7 @@ def _steps_for_period(result, a, assumed_pressure_atm):
         for key in ("E3i", "E4r", "E4i", "E5r", "E5i", "Vest_r", "Vest_i", "Eest"):
             z[key] = 0.0
         return z
-    p_o, t_o = s.pressure_base, s.temperature_base
+    t_o = s.temperature_base
     p_i, t_i = a["pressure_base_invoice"], a["temperature_base_invoice"]
     vf = d["volume_line"].to_numpy(float)
     pf = d["pressure_line"].to_numpy(float)

@@ -25,7 +25,6 @@ import numpy as np
 
 from ..constants import BTU_IT, FOOT, PSI
 from ..errors import SettingsError
-from ..gas import iso6976_components as C
 from . import iso6976 as I
 
 #: US base: 14.73 psia and 60 degF (common practice in US gas contracts)

@@ -15,7 +15,7 @@ import numpy as np
 
 from ..errors import CompositionError
 from .components import (ACENTRIC_FACTOR, CRITICAL_PRESSURE, CRITICAL_TEMPERATURE, MOLAR_MASS,
-                         N_COMPONENTS, NAMES, _key, canonical_name)
+                         N_COMPONENTS, NAMES, canonical_name)
 from . import iso6976_components as ISO
 
 #: A composition whose sum differs from 1 by more than this is rejected (fraction units).

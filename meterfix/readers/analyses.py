@@ -159,7 +159,7 @@ def _fraction_scale(unit_text: str, where) -> float | None:
         return None
     try:
         return parse_unit(unit_text, "fraction").scale
-    except UnitError as exc:
+    except UnitError:
         raise CompositionError(f"unknown amount unit '{unit_text}'", **where,
                                hint="write the header as 'Mole percent [mol%]' or 'Mole fraction [-]'") from None
 

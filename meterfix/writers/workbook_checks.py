@@ -5,7 +5,6 @@ from __future__ import annotations
 import math
 
 import numpy as np
-import pandas as pd
 
 from . import workbook_charts as C
 from . import xlsx_common as X

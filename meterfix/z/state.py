@@ -17,7 +17,7 @@ from ..constants import R
 from ..errors import SettingsError
 from ..gas.composition import Composition, as_composition
 from ..gas.gross import GrossCharacterization
-from .base import (OUTSIDE, REASON_INVALID_INPUT, REASON_NO_CONVERGENCE, REASON_NO_GAS_ROOT, invalid_points)
+from .base import (OUTSIDE, REASON_INVALID_INPUT, REASON_NO_CONVERGENCE, REASON_NO_GAS_ROOT)
 from .registry import ZMethod, get_method
 
 _RTOL = 1e-13       # relative residual in molar volume that counts as solved
