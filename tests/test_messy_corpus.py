@@ -57,6 +57,13 @@ def test_messy_export(make, tmp_path):
         assert s["flags"].get(kind, 0) >= least, (kind, s["flags"])
     for k, v in s["totals"].items():
         assert not isinstance(v, float) or math.isfinite(v), (k, v)
+    # a verdict every time (JCGM 101 §8 validation of the GUM interval), on the volume and the energy
+    mc = (s.get("uncertainty") or {}).get("monte_carlo") or {}
+    if mc.get("draws"):
+        assert mc["gum_agrees"] in (True, False), mc["validation"]
+        assert mc["draws"] <= 200_000
+        if mc.get("energy"):
+            assert mc["energy"]["gum_agrees"] in (True, False), mc["energy"]["validation"]
     if case.check is not None:
         case.check(s, text)
 

@@ -33,6 +33,7 @@ from .budget import (BUDGET_COLUMNS, IntervalModel, build_model, budget_frame, c
                                  interval_variance)
 from .inputs import (DEFAULTS, INPUT_KEYS, InputSpec, UncertaintySettings, parse_uncertainty,
                                  parse_uncertainty_settings)
+from ..z.blocks import blas_single_thread
 from .monte_carlo import monte_carlo, numerical_tolerance
 
 COVERAGE_FACTOR = 2.0
@@ -108,7 +109,7 @@ class MonthUncertainty:
 
 
 def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress=None,
-                      n_dig: int = 2, max_draws: int | None = None) -> MonthUncertainty:
+                      n_dig: int | None = None, max_draws: int | None = None) -> MonthUncertainty:
     """GUM budget and Monte Carlo check of a month run.
 
     Parameters
@@ -120,10 +121,12 @@ def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress
                            M = 10^4) [-]
     max_draws : int, optional  stages of ``draws`` trials until the month base volume's results are
                            numerically stable to the tolerance (JCGM 101 §7.9.4), up to this many
-                           [-] (default 10^6; give ``draws`` for a fixed M)
+                           [-] (default 2·10^5; give ``draws`` for a fixed M)
     seed : int             seed of the generator [-]
     progress : callable(done, total), optional   Monte Carlo progress [trials]
-    n_dig : int            significant digits of u for the JCGM 101 numerical tolerance [-]
+    n_dig : int, optional  significant digits of u for the JCGM 101 numerical tolerance [-] (default:
+                           two when u's leading digit is 1, else one; see
+                           :func:`meterfix.uncertainty.monte_carlo.month_tolerance`)
 
     Returns
     -------
@@ -174,15 +177,17 @@ def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress
         notes.append(f"{n_out} interval(s) without a corrected result ({np.nansum(vl):.6g} m3 uncorrected) are not "
                      "in the month total and not in its uncertainty")
     if total_v and model.volume.size:
-        mc = monte_carlo(model, gum_u_volume=u_v, gum_u_energy=u_e, draws=draws, seed=seed, progress=progress,
-                         n_dig=n_dig, max_draws=max_draws)
+        # BLAS held to one thread: the trials' sums then do not depend on how many threads the
+        # process has (a Dask worker holds one), so the same seed gives the same bits everywhere
+        with blas_single_thread():
+            mc = monte_carlo(model, gum_u_volume=u_v, gum_u_energy=u_e, draws=draws, seed=seed, progress=progress,
+                             n_dig=n_dig, max_draws=max_draws)
         mc["coverage_interval_m3"] = mc["coverage_interval"]
         mc["shortest_interval_m3"] = mc["shortest_interval"]
         mc["gum_interval_m3"] = mc["gum_interval"]
-        if not mc["numerically_stable"]:
-            notes.append(f"after {mc['draws']} Monte Carlo trials the 95 % interval is not numerically stable to "
-                         "the tolerance: the comparison with the GUM result is not decided (give more draws)")
-        elif not mc["gum_agrees"]:
+        if mc["gum_agrees"] is None:
+            notes.append("Monte Carlo validation of the base volume " + mc["validation"])
+        elif mc["gum_agrees"] is False:
             notes.append("the Monte Carlo 95 % interval differs from the GUM interval by more than the numerical "
                          "tolerance: quote the Monte Carlo interval (JCGM 101 §8)")
     else:
