@@ -8,9 +8,11 @@ Measurement equation of one interval i (DESIGN.md glossary)::
 Relative sensitivity coefficients c = ∂ln V_b / ∂ln x:
 
 * analytic: meter (V_f) 1, Z_f −1, Z_b +1, heating value (energy) 1;
-* through the chosen Z method, by central differences in ln p and ln T (step 1e-3, all intervals
-  of an analysis in one vectorized call): pressure c_p = 1 − ∂lnZ/∂lnp, temperature
-  c_T = −1 − ∂lnZ/∂lnT, atmospheric pressure c_p · p_atm / p (gauge logs);
+* through the chosen Z method: AGA8 DETAIL and GERG-2008 by their own derivatives at the solved
+  density (closed form, :mod:`meterfix.z.derivatives`), the other methods by central differences
+  in ln p and ln T (step 1e-3, all intervals of an analysis in one vectorized call): pressure
+  c_p = 1 − ∂lnZ/∂lnp, temperature c_T = −1 − ∂lnZ/∂lnT, atmospheric pressure c_p · p_atm / p
+  (gauge logs);
 * composition through Z_f, Z_b and the heating value together: each mole fraction is perturbed
   by a factor exp(±h) and the analysis renormalised to sum 1 before Z is evaluated (the sum-to-one
   constraint is kept, the balance component absorbs the change); ∂ln Hm/∂ε_j = x_j (Hm_j/Hm − 1)
@@ -43,8 +45,11 @@ from ..z.base import EXTENDED, NORMAL, OUTSIDE
 from ..z.registry import get_method
 from .inputs import ATMOSPHERIC_DEFAULTS, HEATING_VALUE_DEFAULTS, INPUT_KEYS, InputSpec, relative_only as _relative_only
 
-#: step in ln p and ln T for the central differences of ln Z
+#: step in ln p and ln T for the central differences of ln Z (methods without a closed form)
 STEP_PT = 1e-3
+#: methods whose ln Z derivatives come from the equation of state's own derivatives
+_CLOSED_FORM = {"aga8-detail": ("..z.aga8_detail", "z_log_derivatives_detail"),
+                "gerg-2008": ("..z.gerg2008", "z_log_derivatives_gerg")}
 
 BUDGET_COLUMNS = ["input", "setting", "value", "unit", "uncertainty", "standard_uncertainty_pct", "distribution",
                   "type", "correlation", "sensitivity", "contribution_pct", "share_pct", "interval_contribution_pct",
@@ -137,8 +142,11 @@ class IntervalModel:
 
 
 # ---------------------------------------------------------------------------------------------
-def z_log_derivatives(pressure, temperature, gas, method: str, z0=None, step: float = STEP_PT):
-    """First and second derivatives of ln Z in ln p and ln T by central differences.
+def z_log_derivatives(pressure, temperature, gas, method: str, z0=None, step: float = STEP_PT,
+                      analytic: bool = True):
+    """First and second derivatives of ln Z in ln p and ln T: by the equation of state's own
+    derivatives where the method has them (AGA8 DETAIL, GERG-2008: :mod:`meterfix.z.derivatives`),
+    else by central differences.
 
     Parameters
     ----------
@@ -147,7 +155,8 @@ def z_log_derivatives(pressure, temperature, gas, method: str, z0=None, step: fl
     gas : Composition or GrossCharacterization
     method : str                 Z method (registry name)
     z0 : ndarray [-], optional   Z at the points (evaluated when None)
-    step : float [-]             step in ln p and ln T
+    step : float [-]             step in ln p and ln T (central differences)
+    analytic : bool              use the closed form where the method has one
 
     Returns
     -------
@@ -155,6 +164,15 @@ def z_log_derivatives(pressure, temperature, gas, method: str, z0=None, step: fl
     """
     p = np.asarray(pressure, float)
     t = np.asarray(temperature, float)
+    if analytic and method in _CLOSED_FORM:
+        from ..gas.composition import Composition
+
+        if isinstance(gas, Composition):
+            mod, fn = _CLOSED_FORM[method]
+            import importlib
+
+            d = getattr(importlib.import_module(mod, __package__), fn)(p, t, gas)
+            return {k: d[k] for k in ("p", "t", "pp", "tt", "pt")}
     n = p.size
     e, f = np.exp(step), np.exp(-step)
     pp = np.concatenate([p * e, p * f, p, p, p * e, p * e, p * f, p * f])

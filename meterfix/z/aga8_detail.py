@@ -466,6 +466,49 @@ def z_aga8_detail(pressure, temperature, composition, *, speed_of_sound: bool = 
                    extra={"k3": mix.k3, "energy": mix.energy, "composition_range": comp_class})
 
 
+def z_log_derivatives_detail(pressure, temperature, composition) -> dict:
+    """∂lnZ/∂lnp, ∂lnZ/∂lnT and the second derivatives by DETAIL's own derivatives at the solved
+    density (:mod:`meterfix.z.derivatives`): Z − 1 = Σ W_col(T) f_col(δ) is linear in the column
+    coefficients W_col(T) = Σ_n c T^(−u_n), so T ∂Z/∂T and T ∂(T ∂Z/∂T)/∂T are the same sums with
+    the coefficients of −u_n T^(−u_n) and u_n² T^(−u_n), and δ ∂/∂δ comes from the same moments.
+
+    Parameters
+    ----------
+    pressure, temperature : ndarray [Pa, K]   absolute pressure and temperature, one shape
+    composition : Composition or mapping
+
+    Returns
+    -------
+    dict of ndarray [-]: ``p``, ``t``, ``pp``, ``tt``, ``pt`` (NaN where Z has no result) and ``z``
+    """
+    from .derivatives import log_derivatives
+
+    comp = as_composition(composition)
+    mix = mixture(comp.fractions)
+    p = np.asarray(pressure, float).ravel()
+    t = np.asarray(np.broadcast_to(temperature, np.shape(pressure)), float).ravel()
+    res = z_aga8_detail(p, t, comp, speed_of_sound=False)
+    zf = np.asarray(res.z, float).ravel()
+    out = {k: np.full(p.size, np.nan) for k in ("p", "t", "pp", "tt", "pt")}
+    ok = np.flatnonzero(np.isfinite(zf))
+    coef = mix.coef_virial_t[:N_COL]
+    for a in range(0, ok.size, CHUNK):
+        i = ok[a:a + CHUNK]
+        ws = _Workspace(i.size)
+        delta = np.asarray(res.molar_density, float).ravel()[i] * mix.k3 / 1000.0
+        tp = _t_powers(t[i])
+        w = coef @ tp
+        zm1, zd, zdd = _z_functions(ws, w, delta, 3)
+        zt, zdt = _z_functions(ws, coef @ (-U_EXPONENTS[:, None] * tp), delta, 2)
+        ztt = _z_functions(ws, coef @ (U_EXPONENTS[:, None] ** 2 * tp), delta, 2)[0]
+        d = log_derivatives(1.0 + zm1, zd, zdd, zt, ztt, zdt)
+        for k in out:
+            out[k][i] = d[k]
+    out = {k: v.reshape(np.shape(pressure)) for k, v in out.items()}
+    out["z"] = np.asarray(res.z, float)
+    return out
+
+
 def _evaluate(pressure, temperature, gas, speed_of_sound=True, workers=None, **_options):
     return z_aga8_detail(pressure, temperature, gas, speed_of_sound=speed_of_sound, workers=workers)
 

@@ -339,6 +339,49 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
                    extra={"t_reducing": mix.t_reducing, "rho_reducing": mix.rho_reducing})
 
 
+def z_log_derivatives_gerg(pressure, temperature, composition) -> dict:
+    """∂lnZ/∂lnp, ∂lnZ/∂lnT and the second derivatives by GERG-2008's own derivatives at the solved
+    density (:mod:`meterfix.z.derivatives`): Z − 1 = δ ∂α^r/∂δ is linear in the column coefficients
+    b_col(τ) = Σ_t c τ^t with τ = T_r/T, so T ∂Z/∂T = −τ ∂Z/∂τ and T ∂(T ∂Z/∂T)/∂T are the same sums with
+    the coefficients of −t τ^t and t² τ^t; δ ∂/∂δ comes from the same moments (Kunz and Wagner 2012,
+    Table B4, the derivatives of the residual part).
+
+    Parameters
+    ----------
+    pressure, temperature : ndarray [Pa, K]   absolute pressure and temperature, one shape
+    composition : Composition or mapping
+
+    Returns
+    -------
+    dict of ndarray [-]: ``p``, ``t``, ``pp``, ``tt``, ``pt`` (NaN where Z has no result) and ``z``
+    """
+    from .derivatives import log_derivatives
+
+    comp = as_composition(composition)
+    mix = mixture(comp.fractions)
+    p = np.asarray(pressure, float).ravel()
+    t = np.asarray(np.broadcast_to(temperature, np.shape(pressure)), float).ravel()
+    res = z_gerg2008(p, t, comp, speed_of_sound=False)
+    zf = np.asarray(res.z, float).ravel()
+    out = {k: np.full(p.size, np.nan) for k in ("p", "t", "pp", "tt", "pt")}
+    ok = np.flatnonzero(np.isfinite(zf))
+    te = mix.t_exponents
+    for a in range(0, ok.size, CHUNK):
+        i = ok[a:a + CHUNK]
+        ws = _Workspace(mix, i.size)
+        delta = np.asarray(res.molar_density, float).ravel()[i] / mix.rho_reducing
+        taup = np.exp(np.multiply.outer(np.log(mix.t_reducing / t[i]), te))
+        zm1, zd, zdd = (v.copy() for v in _z_functions(mix, ws, taup @ mix.coef, delta, 3))
+        zt, zdt = (v.copy() for v in _z_functions(mix, ws, taup @ (-te[:, None] * mix.coef), delta, 2))
+        ztt = _z_functions(mix, ws, taup @ (te[:, None] ** 2 * mix.coef), delta, 1)[0].copy()
+        d = log_derivatives(1.0 + zm1, zd, zdd, zt, ztt, zdt)
+        for k in out:
+            out[k][i] = d[k]
+    out = {k: v.reshape(np.shape(pressure)) for k, v in out.items()}
+    out["z"] = np.asarray(res.z, float)
+    return out
+
+
 def _evaluate(pressure, temperature, gas, speed_of_sound=True, workers=None, **_options):
     return z_gerg2008(pressure, temperature, gas, speed_of_sound=speed_of_sound, workers=workers)
 
