@@ -153,7 +153,10 @@ def main() -> None:
     ap.add_argument("--workers", type=int, default=2)
     ap.add_argument("--hours", type=int, default=744)
     ap.add_argument("--no-workbooks", action="store_true", help="skip the --workbooks run")
+    ap.add_argument("--quick", action="store_true", help="2 meters of 48 hours (checks the benchmark runs)")
     a = ap.parse_args()
+    if a.quick:
+        a.meters, a.hours, a.no_workbooks = 2, 48, True
     sys.path.insert(0, str(ROOT))
     print(f"load average before: {' '.join(f'{x:.2f}' for x in os.getloadavg())}  ({os.cpu_count()} cores)")
     with tempfile.TemporaryDirectory() as tmp:

@@ -9,6 +9,7 @@ ratio to the closed-form Pitzer virial form; then the state solver (p, v -> T) o
 from __future__ import annotations
 
 import argparse
+import os
 import time
 
 import numpy as np
@@ -25,7 +26,10 @@ GAS = "methane=0.93,ethane=0.035,propane=0.008,nitrogen=0.015,carbon_dioxide=0.0
 def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--points", type=int, default=44640)
-    n = ap.parse_args().points
+    ap.add_argument("--quick", action="store_true", help="1,000 points (checks the benchmark runs)")
+    a = ap.parse_args()
+    n = 1000 if a.quick else a.points
+    print(f"load average {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
     rng = np.random.default_rng(1)
     p = rng.uniform(1e5, 1e7, n)
     t = rng.uniform(260.0, 320.0, n)

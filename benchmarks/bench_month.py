@@ -20,6 +20,7 @@ callback), not on a copy of it.
 from __future__ import annotations
 
 import argparse
+import os
 import tempfile
 import time
 from concurrent.futures import ProcessPoolExecutor
@@ -102,7 +103,11 @@ def main() -> None:
     ap.add_argument("--meters", type=int, default=1000)
     ap.add_argument("--workers", type=int, default=2)
     ap.add_argument("--method", default="aga8-detail")
+    ap.add_argument("--quick", action="store_true", help="4 meters (checks the benchmark runs)")
     a = ap.parse_args()
+    if a.quick:
+        a.meters = 4
+    print(f"load average {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
     with tempfile.TemporaryDirectory() as tmp:
         t0 = time.perf_counter()
         paths = [str(p) for p in make_logs(Path(tmp), a.meters)]

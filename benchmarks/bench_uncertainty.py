@@ -10,6 +10,7 @@ evaluations are, and the default adaptive procedure (JCGM 101 §7.9.4) in the sa
 from __future__ import annotations
 
 import argparse
+import os
 import time
 
 import numpy as np
@@ -19,8 +20,12 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--draws", type=int, default=100_000)
     ap.add_argument("--repeat", type=int, default=3)
+    ap.add_argument("--quick", action="store_true", help="10^4 trials, one run (checks the benchmark runs)")
     a = ap.parse_args()
+    if a.quick:
+        a.draws, a.repeat = 10_000, 1
 
+    print(f"load average {' '.join(f'{x:.2f}' for x in os.getloadavg())}")
     from meterfix.cli.demo import demo_month
     from meterfix.engine.pipeline import run_month
     from meterfix.engine.settings import build_settings

@@ -49,7 +49,10 @@ def main() -> None:
     ap = argparse.ArgumentParser()
     ap.add_argument("--sizes", type=int, nargs="+", default=[744, 8760, 50_000])
     ap.add_argument("--repeat", type=int, default=3, help="timed runs per size (the best is printed)")
+    ap.add_argument("--quick", action="store_true", help="744 intervals, one run (checks the benchmark runs)")
     a = ap.parse_args()
+    if a.quick:
+        a.sizes, a.repeat = [744], 1
     print(f"load average {os.getloadavg()[0]:.2f} {os.getloadavg()[1]:.2f} {os.getloadavg()[2]:.2f}")
     print("best of --repeat runs; 'cpu s' is this process's CPU time (what a quiet machine's wall time is close to)")
     print(f"{'intervals':>10} {'wall s':>8} {'cpu s':>7} {'cells/s':>10} {'MB':>6} {'peak MB':>8} {'old s':>6} "

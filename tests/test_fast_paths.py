@@ -150,3 +150,29 @@ def test_exact_iso_reading_agrees_with_pandas_and_declines_the_rest():
     for odd in (["2026-10-01 01:00", "2026-10-01T02:00"], ["2026-10-01 24:00"], ["2026-10-01T01:00+01"],
                 ["2500-01-01 00:00"], ["2026-10-01 01:00", "2026-10-01 01:00:00"], ["2026-10-01 01:00", None]):
         assert _exact_iso(np.array(odd, dtype=object)) is None, odd
+
+
+def test_interval_csv_bytes_are_pandas_to_csv():
+    # reference: pandas DataFrame.to_csv with the writer's options, on a month run's interval table
+    # and on texts the csv module must quote (comma, quote, line break), formulas, NaN, -0, 1e-20
+    import io
+
+    from meterfix.cli.demo import demo_month
+    from meterfix.engine.pipeline import run_month
+    from meterfix.engine.settings import build_settings
+    from meterfix.writers.tables import _csv_bytes, _neutralised, interval_table
+
+    def ref(df):
+        buf = io.StringIO()
+        _neutralised(df).to_csv(buf, index=False, lineterminator="\n", float_format="%.10g")
+        return buf.getvalue().encode("utf-8")
+
+    frame, analyses = demo_month()
+    s = build_settings(None, {"base": "normal-0c", "timezone": "Europe/Berlin", "gas_day_start": "06:00",
+                              "elevation": "240 m"})
+    df = interval_table(run_month(frame, analyses, s))
+    assert _csv_bytes(df) == ref(df)
+    odd = pd.DataFrame({"a": ["x,y", 'q"u', "=1+2", None, "line\nbreak"],
+                        "b": [1.5, np.nan, 1e-20, -0.0, 123456789012.0], "c": [True, False, True, True, False],
+                        "d": [1, 2, 3, 4, 5]})
+    assert _csv_bytes(odd) == ref(odd)

@@ -46,14 +46,46 @@ def _neutralised(df: pd.DataFrame) -> pd.DataFrame:
     obj = df.select_dtypes(include=["object", "string", "category"]).columns
     df = df.copy()
     for c in obj:
-        df[c] = df[c].astype(object).map(neutralise_cell)
+        col = df[c].astype(object)
+        # each distinct text once (a long log repeats its gas days and flags a million times)
+        codes, uniques = pd.factorize(col, use_na_sentinel=True)
+        fixed = np.array([neutralise_cell(v) for v in uniques], dtype=object)
+        out = np.full(len(col), None, dtype=object)
+        has = codes >= 0
+        out[has] = fixed[codes[has]]
+        out[~has] = col.to_numpy()[~has]
+        df[c] = out
     return df
 
 
 def _csv_bytes(df: pd.DataFrame) -> bytes:
+    """CSV bytes, the same as ``DataFrame.to_csv(index=False, float_format="%.10g")`` writes (tested),
+    at about twice its speed on long logs: floats by ``%.10g``, missing values empty, text quoted
+    by the csv module's minimal rule."""
+    import csv
+
     df = _neutralised(df)
     buf = io.StringIO()
-    df.to_csv(buf, index=False, lineterminator="\n", float_format="%.10g")
+    w = csv.writer(buf, lineterminator="\n")
+    w.writerow(df.columns)
+    cols = []
+    fm = "%.10g".__mod__
+    for c in df.columns:
+        a = df[c].to_numpy()
+        if a.dtype.kind == "f":
+            txt = list(map(fm, a.tolist()))
+            nan = np.flatnonzero(np.isnan(a))
+            for i in nan.tolist():
+                txt[i] = ""
+            cols.append(txt)
+        elif a.dtype.kind == "b":
+            cols.append(["True" if v else "False" for v in a.tolist()])
+        elif a.dtype.kind in "iu":
+            cols.append(list(map(str, a.tolist())))
+        else:
+            cols.append(["" if v is None or (isinstance(v, float) and v != v) or v is pd.NA or v is pd.NaT
+                         else str(v) for v in a.tolist()])
+    w.writerows(zip(*cols))
     return buf.getvalue().encode("utf-8")
 
 
