@@ -31,6 +31,7 @@ def _z_both(p, t, gas, method, monkeypatch):
     monkeypatch.setattr(compiled, "MIN_POINTS", 10 ** 12)
     plain = evaluate_z(p, t, gas, method, speed_of_sound=False)
     monkeypatch.setattr(compiled, "MIN_POINTS", 1)
+    monkeypatch.setattr(compiled, "MIN_POINTS_COLD", 1)
     fast = evaluate_z(p, t, gas, method, speed_of_sound=False)
     return plain, fast
 
@@ -54,6 +55,7 @@ def test_compiled_kernel_matches_numpy_path(method, monkeypatch):
 
 def test_compiled_path_only_for_large_z_only_calls(monkeypatch):
     monkeypatch.setattr(compiled, "MIN_POINTS", 100)
+    monkeypatch.setattr(compiled, "MIN_POINTS_COLD", 100)
     calls = []
     real = compiled.solve_fast
     monkeypatch.setattr("meterfix.z.aga8_detail.solve_fast", lambda *a, **k: calls.append(1) or real(*a, **k))
@@ -64,6 +66,15 @@ def test_compiled_path_only_for_large_z_only_calls(monkeypatch):
     assert not calls
     evaluate_z(p, t, gas, "aga8-detail", speed_of_sound=False)
     assert calls or compiled.kernel() is None
+
+
+def test_first_call_stays_in_numpy_until_the_load_pays(monkeypatch):
+    # before the kernel is loaded a call below MIN_POINTS_COLD runs in numpy (no numba import)
+    monkeypatch.setattr(compiled, "_KERNEL", [])
+    assert not compiled.use_compiled(compiled.MIN_POINTS)
+    assert not compiled._KERNEL
+    monkeypatch.setattr(compiled, "_KERNEL", [object()])
+    assert compiled.use_compiled(compiled.MIN_POINTS)
 
 
 @pytest.mark.parametrize("method", METHODS)

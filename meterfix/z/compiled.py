@@ -18,7 +18,8 @@ path's to rounding (about 1e-15 in Z).
 
 The kernel is compiled by numba (``cache=True``: the machine code is kept next to this module,
 or in numba's per-user cache directory where that folder is read-only) and used only for large
-Z-only calls (:data:`MIN_POINTS`); numba is imported on the first such call. Without numba, or
+Z-only calls (:data:`MIN_POINTS`, and :data:`MIN_POINTS_COLD` before it is loaded); numba is
+imported on the first such call. Without numba, or
 with ``MFX_NO_COMPILED=1`` in the environment, everything runs in numpy.
 """
 
@@ -30,9 +31,12 @@ from dataclasses import dataclass
 
 import numpy as np
 
-#: calls with fewer points than this stay in numpy (importing numba and loading the cached
-#: kernel costs about 0.3 s, the numpy path does about 0.5-1 M points/s)
+#: calls with fewer points than this stay in numpy once the kernel is loaded
 MIN_POINTS = 65536
+#: before the kernel is loaded, calls with fewer points than this stay in numpy: importing numba
+#: and loading the cached kernel costs 0.5-1.5 s, while the numpy path does 0.5-1 M points/s, so
+#: the first call of a process goes compiled only where that load pays for itself
+MIN_POINTS_COLD = 1_000_000
 #: first-pass Halley steps (as the numpy path's first pass)
 FAST_STEPS = 4
 
@@ -141,8 +145,11 @@ def kernel():
 
 
 def use_compiled(n_points: int) -> bool:
-    """Whether a Z-only call of ``n_points`` points goes to the compiled kernel."""
-    return n_points >= MIN_POINTS and kernel() is not None
+    """Whether a Z-only call of ``n_points`` points goes to the compiled kernel (from
+    :data:`MIN_POINTS` points once it is loaded, from :data:`MIN_POINTS_COLD` before)."""
+    if n_points < MIN_POINTS or (not _KERNEL and n_points < MIN_POINTS_COLD):
+        return False
+    return kernel() is not None
 
 
 def solve_fast(form: ColumnForm, p, t, pi_scale: float, ln_num: float, start: int, delta_max: float,

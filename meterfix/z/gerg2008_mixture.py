@@ -147,6 +147,17 @@ def _derivative_polys(d: int, e: np.ndarray) -> list[np.ndarray]:
     return res
 
 
+@lru_cache(maxsize=None)
+def _column_shape(shape: tuple, d: int):
+    """ln-shape polynomial and its derivative polynomials of one column kind: they depend on the
+    column (shape, delta exponent) only, never on the composition, so each is built once."""
+    e = _ln_shape(shape)
+    polys = np.concatenate(_derivative_polys(d, e))
+    e.setflags(write=False)
+    polys.setflags(write=False)
+    return e, polys
+
+
 def _build(fractions: np.ndarray) -> GergMixture:
     x = np.asarray(fractions, dtype=float)
     tr, rhor = reducing_functions(x)
@@ -181,11 +192,10 @@ def _build(fractions: np.ndarray) -> GergMixture:
     v1 = np.zeros(n_col)
     v2 = np.zeros(n_col)
     for k, (shape, d) in enumerate(columns):
-        e = _ln_shape(shape)
+        e, polys = _column_shape(shape, d)
         expo[0, k] = d
         expo[1:, k] = e
-        for m, poly in enumerate(_derivative_polys(d, e)):
-            gmat[k, m * N_POWERS:(m + 1) * N_POWERS] = poly
+        gmat[k] = polys
         # low-density series: Z - 1 = b1 delta + b2 delta^2 + ...  (W = W0 (1 + E1 delta + ...))
         w0 = np.exp(e[0])
         if d == 1:
