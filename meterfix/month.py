@@ -45,8 +45,8 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
         result.uncertainty = U.month_uncertainty(
             result, progress=None if progress is None else (lambda done, total: step(
                 "uncertainty: Monte Carlo", 0.6 + 0.25 * min(1.0, done / max(total, 1)))))
-    # the checks are imported only when needed: they bring in scipy.optimize (most of a second),
-    # which a month without an invoice or a site corrector does not use
+    # the checks are imported only when needed (a month without an invoice or a site corrector
+    # does not use them)
     if invoice is not None:
         from .checks import invoice as RC
 

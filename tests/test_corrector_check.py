@@ -284,3 +284,39 @@ def test_plausible_ratio_is_checked_not_flagged():
     theirs, _ = inject("ideal-gas")
     check = check_corrector(RESULT, FRAME.assign(volume_corrected_site=theirs))
     assert not check.totals.get("column_suspect") and check.best["cause"] == "ideal-gas"
+
+
+@pytest.mark.parametrize("loss", ["linear", "soft_l1"])
+def test_bounded_least_squares_finds_scipys_minimum(loss):
+    # reference: scipy.optimize.least_squares (method "trf", the same loss, scale and bounds) on
+    # bounded exponential fits with outliers, some with the optimum on a bound: the same minimiser
+    # (a cost no higher, parameters within 1e-6 where the problem is well conditioned)
+    from scipy.optimize import least_squares
+
+    from meterfix.checks.lsq import least_squares_bounded
+
+    rng = np.random.default_rng(3)
+    t = np.linspace(0.0, 1.0, 300)
+    lo, hi = np.array([0.1, -2.0, -0.5]), np.array([5.0, 2.0, 0.5])
+    scale = np.array([1.0, 1.0, 0.1])
+    for k in range(40):
+        a, b, c = rng.uniform(0.5, 2), rng.uniform(-3, 3), rng.uniform(-1, 1)
+        y = a * np.exp(b * t) + c + 0.01 * rng.standard_normal(t.size)
+        y[rng.integers(0, t.size, 10)] += 3.0 * (k % 3 == 0)
+
+        def f(th):
+            return y - (th[0] * np.exp(th[1] * t) + th[2])
+
+        ref = least_squares(f, np.array([1.0, 0.0, 0.0]), bounds=(lo, hi), x_scale=scale, method="trf", loss=loss,
+                            f_scale=0.05, xtol=1e-14, ftol=1e-14, gtol=1e-14)
+        x, J = least_squares_bounded(f, np.array([1.0, 0.0, 0.0]), (lo, hi), scale, loss=loss, f_scale=0.05)
+
+        def cost(th):
+            z = (f(th) / 0.05) ** 2
+            return 0.5 * np.sum(f(th) ** 2) if loss == "linear" else np.sum(np.sqrt(1 + z) - 1)
+
+        assert cost(x) <= cost(ref.x) * (1 + 1e-9)
+        assert np.all(x >= lo) and np.all(x <= hi)
+        cond = np.linalg.cond(J)
+        if cond < 1e3:
+            np.testing.assert_allclose(x, ref.x, atol=1e-6)

@@ -51,7 +51,7 @@ References
 ----------
 1. Schwarz, G. (1978), Estimating the dimension of a model, Ann. Statist. 6, 461.
 2. Kass, R. E. and Raftery, A. E. (1995), Bayes factors, J. Am. Stat. Assoc. 90, 773.
-3. Huber, P. J. (1981), Robust Statistics (M-estimation; the soft-L1 loss of scipy.optimize.least_squares).
+3. Huber, P. J. (1981), Robust Statistics (M-estimation; the soft-L1 loss, :mod:`meterfix.checks.lsq`).
 """
 
 from __future__ import annotations

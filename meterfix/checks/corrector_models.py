@@ -22,7 +22,7 @@ fixed Z at line conditions used   0.60-1.10                   natural gas at met
 from __future__ import annotations
 
 import numpy as np
-from scipy.optimize import least_squares
+from .lsq import least_squares_bounded
 
 #: common base conditions (common practice: 14.73, 14.65, 14.696 and 14.7 psia; 101.325 and 100 kPa;
 #: 0, 15, 60 degF, 20 and 25 degC), used to rank and to credit causes that give a constant ratio
@@ -230,10 +230,8 @@ def fit(combo, cause_set, y, sw, *, exact=False, loss="linear", f_scale=1.0):
     if len(theta0):
         span = hi - lo
         theta0 = np.clip(theta0, lo + 1e-6 * span, hi - 1e-6 * span)
-        sol = least_squares(lambda th: sw * (y - model(th)), theta0, x_scale=scales, bounds=(lo, hi), method="trf",
-                            loss=loss, f_scale=f_scale, xtol=1e-14, ftol=1e-14, gtol=1e-14)
-        theta = sol.x
-        jac = sol.jac
+        theta, jac = least_squares_bounded(lambda th: sw * (y - model(th)), theta0, (lo, hi), x_scale=scales,
+                                           loss=loss, f_scale=f_scale)
     else:
         theta = np.zeros(0)
     if exact and any(p.exact is not None for p in parts) and len(theta):
