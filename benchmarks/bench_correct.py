@@ -5,8 +5,8 @@
    in the same run, the core path of the same month (read, quality, Z, totals: ``read_month``)
    and the month job with uncertainty and checks (``run_files``) timed in-process, and the time
    of ``import meterfix.cli`` alone.
-2. With ``--rows N``: an invented one-minute log of N rows through the CLI under
-   ``/usr/bin/time -v`` (wall time, maximum resident set size), uncertainty included. With
+2. With ``--rows N``: an invented one-minute log of N rows through the CLI (wall time, maximum
+   resident set size of the process), uncertainty included. With
    ``--no-workbook`` that run writes every output except the workbook (the writer module is
    kept from importing, as when it is missing), to separate the workbook's share.
 
@@ -17,7 +17,6 @@ from __future__ import annotations
 
 import argparse
 import os
-import re
 import subprocess
 import sys
 import tempfile
@@ -45,14 +44,16 @@ def timed_process(cmd: list[str]) -> float:
 
 
 def time_v(cmd: list[str]) -> tuple[float, float]:
-    """(wall [s], maximum resident set size [MiB]) of a command under /usr/bin/time -v."""
-    r = subprocess.run(["/usr/bin/time", "-v", *cmd], capture_output=True, text=True)
+    """(wall [s], maximum resident set size [MiB]) of a command: the largest child's peak
+    (resource.getrusage), which is this command's when it is the largest run so far."""
+    import resource
+
+    t0 = time.perf_counter()
+    r = subprocess.run(cmd, capture_output=True, text=True)
+    wall = time.perf_counter() - t0
     if r.returncode != 0:
         raise RuntimeError(r.stderr[-2000:])
-    wall = re.search(r"Elapsed \(wall clock\) time.*: (?:(\d+):)?(\d+):([\d.]+)", r.stderr)
-    h, m, s = wall.groups()
-    rss = re.search(r"Maximum resident set size \(kbytes\): (\d+)", r.stderr)
-    return int(h or 0) * 3600 + int(m) * 60 + float(s), int(rss.group(1)) / 1024
+    return wall, resource.getrusage(resource.RUSAGE_CHILDREN).ru_maxrss / 1024
 
 
 def make_long_log(path: Path, rows: int) -> None:
