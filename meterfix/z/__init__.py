@@ -6,6 +6,7 @@
 
 from __future__ import annotations
 
+import sys
 import warnings
 
 import numpy as np
@@ -80,11 +81,11 @@ def compressibility(pressure, temperature, composition=None, method: str = DEFAU
         :func:`evaluate_z` for the reasons).
 
     """
-    import pandas as pd
-
+    # a Series can only come from an imported pandas: a plain array call does not import it
+    pd = sys.modules.get("pandas")
     index = None
     for arg in (pressure, temperature):
-        if isinstance(arg, pd.Series):
+        if pd is not None and isinstance(arg, pd.Series):
             index = arg.index
             break
     p = np.asarray(pressure, dtype=float)
