@@ -67,7 +67,7 @@ class MonthUncertainty:
                                     shortest_interval_m3, gum_interval_m3 (y ± 1.96 u), d_low, d_high [m3],
                                     gum_agrees, validation (text), tolerance_pct (JCGM 101 §7.9.2 with
                                     n_dig digits), numerically_stable, endpoint_standard_error,
-                                    evaluation (grouping check), energy (the same in J, or None), ...
+                                    evaluation (the interval-sums check), energy (the same in J, or None), ...
     standard_uncertainty_m3 : float  month base volume, k = 1 [m3]
     notes : list of str
     """

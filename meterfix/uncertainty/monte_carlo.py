@@ -19,27 +19,40 @@ interval and trial. For random inputs, the intervals holding the largest random 
 with the summed variance (central limit theorem over many small independent terms); the largest
 share of one interval in that remainder is reported.
 
-Never holding draws × intervals: intervals with the same analysis and the same step-valued
-coefficients (meter flow range, Z range class, estimated) are grouped by quantile bins of ln p and
-ln T, and each group is evaluated at its volume-weighted mean coefficients. The first-order error
-of that cancels exactly (the weighted mean of the deviations is zero); the rest is second order in
-the spread of the coefficients within a group × the drawn deviation, typically 1e-8 of the total.
-It is measured on the first 1000 trials (on long logs fewer, down to 32, so that the check stays
-near 2^25 interval values) against the per-interval evaluation with the same draws
-(``evaluation.max_relative_difference``); above δ/20 the whole run falls back to the per-interval
-evaluation, in slices of about 2^18 values.
+The intervals' sums once, then a few operations per trial: a systematic input is one draw shared
+by every interval, so a trial's month total is Σ_i V_i g(θ_i; draws), a sum over the intervals of
+one function of the trial's draws and of each interval's coefficients θ_i (its pressure and
+temperature figures, the ln Z derivatives, the composition rows). Each set of intervals sharing the
+analysis and the step-valued coefficients (meter flow range, Z range class, estimated) becomes a
+few columns: its volume-weighted mean θ̄ and the points θ̄ ± √(λ_k/W) q_k along the eigenvectors of
+the weighted second moments M = Σ V_i (θ_i − θ̄)(θ_i − θ̄)ᵀ, with weights that reproduce W = Σ V_i,
+the zero first moment and M exactly (moment matching, as the unscented transform). The sum is then
+exact to second order in the spread of the coefficients; the remainder is third order, below
+B³/6 of the set's total with B the largest scaled deviation of one interval (a set above 1e-8 is
+split into quantile bins of ln p and ln T). On the demo month two sets become 10 columns, within
+1e-10 of the per-interval sum (tests/test_uncertainty.py checks 1e-8). The energy gets the same
+points with its own weights. The first trials (at least 8, up to 1000, about 2^15 interval
+values) are evaluated per interval too (``evaluation.max_relative_difference``); above δ/20 the
+run falls back to the per-interval evaluation, in slices of about 2^18 values.
 
 Coverage interval: probabilistically symmetric, p = 95 %, from the sorted results (JCGM 101 §7.7.1);
 the shortest interval (§7.7.2) is reported too. Validation of the GUM result (JCGM 101 §8): the GUM
 interval y ± k_p·u(y) with k_p = 1.96 (normal output, p = 95 %) agrees when both endpoint
-differences are within the numerical tolerance δ = ½·10^l, u(y) = c·10^l with c an integer of
-``n_dig`` digits (§7.9.2). Adaptive procedure (§7.9.4): stages of M = ``draws`` trials (default
-10^4 = max(J, 10^4), J = 100/(1 - p) = 2000) until, for the mean, standard deviation and both
-endpoints of the base volume, twice the standard deviation s of their average over the h stages
-(each computed from its own stage's trials) is within δ; at least two stages, at most
-``max_draws`` trials (default 10^6). A fixed M (``max_draws`` = ``draws``) reports its stability
-from 10 blocks of its trials. The energy is computed from the same trials; its validation is marked
-not decided where its own results are not yet stable.
+differences are within the numerical tolerance δ (§7.9.2). The digits n_dig of u are the month's
+(:func:`month_tolerance`): two where u, rounded to one digit, leads with 1, else one, on u in
+percent of the month's total as it is quoted; δ is then between u/40 and about u/4. Adaptive
+procedure (§7.9.4): stages of M = ``draws`` trials (default 10^4 = max(J, 10^4), J = 100/(1 − p) =
+2000) until, for the mean, standard deviation and both endpoints of the base volume and of the
+energy, twice the standard deviation of their average over the h stages is within each one's δ; at
+least two stages, at most ``max_draws`` trials (default 2·10^5; an ordinary month stops at 2 to 5
+stages). A fixed M (``max_draws`` = ``draws``) reports its stability from 10 blocks of its trials.
+A verdict every time: when the trials run out before the results are stable, the endpoint
+differences are judged with their standard errors s (agrees when d + 2s ≤ δ at both ends, differs
+when d − 2s > δ at one); only in between is it "not decided", and the text says what was compared
+(both intervals, the differences, δ and n_dig) and how many trials would decide it.
+
+The trials' sums run with BLAS held to one thread (the caller, :func:`month_uncertainty`), so
+the same seed gives the same bits in any process.
 """
 
 from __future__ import annotations

@@ -68,25 +68,30 @@ def _csv_bytes(df: pd.DataFrame) -> bytes:
     buf = io.StringIO()
     w = csv.writer(buf, lineterminator="\n")
     w.writerow(df.columns)
-    cols = []
     fm = "%.10g".__mod__
-    for c in df.columns:
-        a = df[c].to_numpy()
-        if a.dtype.kind == "f":
-            txt = list(map(fm, a.tolist()))
-            nan = np.flatnonzero(np.isnan(a))
-            for i in nan.tolist():
-                txt[i] = ""
-            cols.append(txt)
-        elif a.dtype.kind == "b":
-            cols.append(["True" if v else "False" for v in a.tolist()])
-        elif a.dtype.kind in "iu":
-            cols.append(list(map(str, a.tolist())))
-        else:
-            cols.append(["" if v is None or (isinstance(v, float) and v != v) or v is pd.NA or v is pd.NaT
-                         else str(v) for v in a.tolist()])
-    w.writerows(zip(*cols))
+    arrays = [df[c].to_numpy() for c in df.columns]
+    for a0 in range(0, len(df), _CSV_ROWS):  # in blocks of rows: the text of a block at a time
+        cols = []
+        for full in arrays:
+            a = full[a0:a0 + _CSV_ROWS]
+            if a.dtype.kind == "f":
+                txt = list(map(fm, a.tolist()))
+                for i in np.flatnonzero(np.isnan(a)).tolist():
+                    txt[i] = ""
+                cols.append(txt)
+            elif a.dtype.kind == "b":
+                cols.append(["True" if v else "False" for v in a.tolist()])
+            elif a.dtype.kind in "iu":
+                cols.append(list(map(str, a.tolist())))
+            else:
+                cols.append(["" if v is None or (isinstance(v, float) and v != v) or v is pd.NA or v is pd.NaT
+                             else str(v) for v in a.tolist()])
+        w.writerows(zip(*cols))
     return buf.getvalue().encode("utf-8")
+
+
+#: rows formatted at a time by the CSV writer
+_CSV_ROWS = 65536
 
 
 def write_interval_csv(result, path, *, overwrite: bool = False):
