@@ -6,7 +6,9 @@ analysis and at base conditions: the sum-to-one constraint is kept, and the othe
 practice the balance, methane) absorb the change. Never one fraction alone without renormalising.
 With ε_j the relative perturbation of x_j before renormalising, the derivatives are
 
-    ∂ln Z / ∂ε_j  by central differences through the Z method,
+    ∂ln Z / ∂ε_j  by central differences through the Z method (DETAIL and GERG-2008: of Z at the
+                  solved molar density ρ, no new density solve, then at constant p and T by
+                  (∂ln Z/∂ε)_ρ / (∂ln p/∂ln ρ)_T, since ln p = ln ρ + ln T + ln Z + ln R),
     ∂ln Hm / ∂ε_j = x_j (Hm_j / Hm − 1)    (analytic; Hm = Σ x_j Hm_j, ideal molar gross heating value)
 
 and, since renormalising makes a common factor on every fraction a no-op, Σ_j ∂/∂ε_j = 0 for all of
@@ -56,6 +58,7 @@ def composition_term(model, result, parsed, add, method_name):
     g_hm = np.zeros((len(present), A))
     s = result.settings
     h = STEP_COMPOSITION
+    at_density = {}  # analysis -> (molar density at its points, 1 / (∂ln p/∂ln ρ)_T)
     for a, gas in comps.items():
         sel = model.analysis == a
         x = gas.fractions
@@ -67,17 +70,24 @@ def composition_term(model, result, parsed, add, method_name):
                 g_hm[r, a] = x[j] * (hcomp[j] / hm - 1.0)
             if method_name == "ideal":
                 continue
+            pts_p = np.concatenate([[s.base_pressure], model.pressure[sel]])
+            pts_t = np.concatenate([[s.base_temperature], model.temperature[sel]])
+            if method_name in _AT_DENSITY and a not in at_density:
+                at_density[a] = _density_state(method_name, pts_p, pts_t, gas)
             lz = []
             for sign in (1.0, -1.0):
                 xp = x.copy()
                 xp[j] *= np.exp(sign * h)
                 g = Composition.from_array(xp / xp.sum(), unit="fraction")
-                pts_p = np.concatenate([[s.base_pressure], model.pressure[sel]])
-                pts_t = np.concatenate([[s.base_temperature], model.temperature[sel]])
                 with np.errstate(invalid="ignore", divide="ignore"):
-                    lz.append(np.log(np.asarray(evaluate_z(pts_p, pts_t, g, method_name,
-                                                          speed_of_sound=False).z, float)))
+                    if a in at_density:
+                        lz.append(np.log(_z_at(method_name)(at_density[a][0], pts_t, g)))
+                    else:
+                        lz.append(np.log(np.asarray(evaluate_z(pts_p, pts_t, g, method_name,
+                                                              speed_of_sound=False).z, float)))
             d = (lz[0] - lz[1]) / (2 * h)
+            if a in at_density:
+                d = d * at_density[a][1]  # at constant p and T: divided by (∂ln p/∂ln ρ)_T
             g_base[r, a] = d[0] if np.isfinite(d[0]) else 0.0
             g_line[r, sel] = np.where(np.isfinite(d[1:]), d[1:], 0.0)
     rows_a = np.ones((len(present), 1), bool)
@@ -101,6 +111,25 @@ def composition_term(model, result, parsed, add, method_name):
     if method_name == "ideal":
         model.notes.append("ideal method: Z does not depend on the composition; the composition acts on the "
                            "heating value only")
+
+
+#: methods whose Z is evaluated at the solved density for the perturbed compositions
+_AT_DENSITY = {"aga8-detail": "..z.aga8_detail", "gerg-2008": "..z.gerg2008"}
+
+
+def _z_at(method_name):
+    import importlib
+
+    return importlib.import_module(_AT_DENSITY[method_name], __package__).z_at_density
+
+
+def _density_state(method_name, p, t, gas):
+    """Molar density of the analysis' gas at the points and 1/(∂ln p/∂ln ρ)_T = 1 − ∂lnZ/∂lnp."""
+    from .budget import z_log_derivatives
+
+    res = evaluate_z(p, t, gas, method_name, speed_of_sound=False)
+    d = z_log_derivatives(p, t, gas, method_name)
+    return np.asarray(res.molar_density, float), 1.0 - d["p"]
 
 
 def _component_heating_values(settings):

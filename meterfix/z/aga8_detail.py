@@ -466,6 +466,30 @@ def z_aga8_detail(pressure, temperature, composition, *, speed_of_sound: bool = 
                    extra={"k3": mix.k3, "energy": mix.energy, "composition_range": comp_class})
 
 
+def z_at_density(molar_density, temperature, composition) -> np.ndarray:
+    """Z of DETAIL at a given molar density [mol/m3] and temperature [K] (no density solve).
+
+    Parameters
+    ----------
+    molar_density, temperature : ndarray [mol/m3, K]   one shape
+    composition : Composition or mapping
+
+    Returns
+    -------
+    ndarray [-]
+    """
+    mix = mixture(as_composition(composition).fractions)
+    rho = np.asarray(molar_density, float).ravel()
+    t = np.asarray(np.broadcast_to(temperature, np.shape(molar_density)), float).ravel()
+    out = np.empty(rho.size)
+    coef = mix.coef_virial_t[:N_COL]
+    for a in range(0, rho.size, CHUNK):
+        sl = slice(a, a + CHUNK)
+        ws = _Workspace(rho[sl].size)
+        out[sl] = 1.0 + _z_functions(ws, coef @ _t_powers(t[sl]), rho[sl] * mix.k3 / 1000.0, 2)[0]
+    return out.reshape(np.shape(molar_density))
+
+
 def z_log_derivatives_detail(pressure, temperature, composition) -> dict:
     """∂lnZ/∂lnp, ∂lnZ/∂lnT and the second derivatives by DETAIL's own derivatives at the solved
     density (:mod:`meterfix.z.derivatives`): Z − 1 = Σ W_col(T) f_col(δ) is linear in the column

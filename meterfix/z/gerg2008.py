@@ -339,6 +339,30 @@ def z_gerg2008(pressure, temperature, composition, *, speed_of_sound: bool = Tru
                    extra={"t_reducing": mix.t_reducing, "rho_reducing": mix.rho_reducing})
 
 
+def z_at_density(molar_density, temperature, composition) -> np.ndarray:
+    """Z of GERG-2008 at a given molar density [mol/m3] and temperature [K] (no density solve).
+
+    Parameters
+    ----------
+    molar_density, temperature : ndarray [mol/m3, K]   one shape
+    composition : Composition or mapping
+
+    Returns
+    -------
+    ndarray [-]
+    """
+    mix = mixture(as_composition(composition).fractions)
+    rho = np.asarray(molar_density, float).ravel()
+    t = np.asarray(np.broadcast_to(temperature, np.shape(molar_density)), float).ravel()
+    out = np.empty(rho.size)
+    for a in range(0, rho.size, CHUNK):
+        sl = slice(a, a + CHUNK)
+        ws = _Workspace(mix, rho[sl].size)
+        taup = np.exp(np.multiply.outer(np.log(mix.t_reducing / t[sl]), mix.t_exponents))
+        out[sl] = 1.0 + _z_functions(mix, ws, taup @ mix.coef, rho[sl] / mix.rho_reducing, 1)[0]
+    return out.reshape(np.shape(molar_density))
+
+
 def z_log_derivatives_gerg(pressure, temperature, composition) -> dict:
     """∂lnZ/∂lnp, ∂lnZ/∂lnT and the second derivatives by GERG-2008's own derivatives at the solved
     density (:mod:`meterfix.z.derivatives`): Z − 1 = δ ∂α^r/∂δ is linear in the column coefficients
