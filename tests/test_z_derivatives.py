@@ -80,3 +80,45 @@ def test_budget_uses_the_closed_form():
         b = ANALYTIC[method](p, t, gas)
         for k in ("p", "t", "pp", "tt", "pt"):
             np.testing.assert_array_equal(a[k], b[k])
+
+
+@pytest.mark.parametrize("method", ANALYTIC)
+def test_z_at_the_solved_density_is_z(method):
+    # Z(ρ, T) at the density the solve found gives back the solve's Z (p = ρ R T Z, the same
+    # equation read the other way); the composition sensitivities use it without a new solve
+    from meterfix.z import evaluate_z
+    from meterfix.z.aga8_detail import z_at_density as detail_at
+    from meterfix.z.gerg2008 import z_at_density as gerg_at
+
+    at = detail_at if method == "aga8-detail" else gerg_at
+    p, t = _points(300, seed=4)
+    for name, gas in five_gases().items():
+        r = evaluate_z(p, t, gas, method, speed_of_sound=False)
+        np.testing.assert_allclose(at(r.molar_density, t, gas), r.z, rtol=1e-13, err_msg=name)
+
+
+def test_composition_sensitivity_at_density_equals_the_solved_one():
+    # (∂ln Z/∂ε)_ρ / (∂ln p/∂ln ρ)_T against central differences of Z solved at (p, T) for the
+    # perturbed compositions: the two difference schemes agree to their O(h^2) (h = 1e-2)
+    from meterfix.cli.demo import demo_month
+    from meterfix.engine.pipeline import run_month
+    from meterfix.engine.settings import build_settings
+    from meterfix.uncertainty import composition as C
+    from meterfix.uncertainty.budget import build_model
+    from meterfix.uncertainty.inputs import parse_uncertainty_settings
+
+    frame, analyses = demo_month()
+    for method in ANALYTIC:
+        s = build_settings(None, {"base": "normal-0c", "timezone": "Europe/Berlin", "gas_day_start": "06:00",
+                                  "elevation": "240 m", "method": method})
+        r = run_month(frame, analyses, s)
+        fast = build_model(r, parse_uncertainty_settings({}))
+        saved = dict(C._AT_DENSITY)
+        C._AT_DENSITY.clear()
+        try:
+            solved = build_model(r, parse_uncertainty_settings({}))
+        finally:
+            C._AT_DENSITY.update(saved)
+        scale = np.max(np.abs(solved.comp_line))
+        assert np.max(np.abs(fast.comp_line - solved.comp_line)) <= 1e-5 * scale
+        np.testing.assert_allclose(fast.comp_base, solved.comp_base, rtol=1e-5, atol=1e-10)
