@@ -137,7 +137,16 @@ def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress
     SettingsError   an uncertainty setting that cannot be read (naming the setting)
     """
     parsed = parse_uncertainty_settings(getattr(result.settings, "uncertainty", None) or {})
-    model = build_model(result, parsed)
+    # BLAS held to one thread for the whole budget and Monte Carlo: the matrix products then do not
+    # depend on how many threads the process has (a Dask worker holds one), so the same month
+    # gives the same bits in every process
+    with blas_single_thread():
+        model = build_model(result, parsed)
+    return _month_uncertainty(result, model, draws=draws, seed=seed, progress=progress, n_dig=n_dig,
+                              max_draws=max_draws)
+
+
+def _month_uncertainty(result, model, *, draws, seed, progress, n_dig, max_draws) -> MonthUncertainty:
     index = result.intervals.index
     has_e = model.energy is not None
     total_v = float(np.sum(model.volume))
@@ -177,9 +186,7 @@ def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress
         notes.append(f"{n_out} interval(s) without a corrected result ({np.nansum(vl):.6g} m3 uncorrected) are not "
                      "in the month total and not in its uncertainty")
     if total_v and model.volume.size:
-        # BLAS held to one thread: the trials' sums then do not depend on how many threads the
-        # process has (a Dask worker holds one), so the same seed gives the same bits everywhere
-        with blas_single_thread():
+        with blas_single_thread():  # see month_uncertainty
             mc = monte_carlo(model, gum_u_volume=u_v, gum_u_energy=u_e, draws=draws, seed=seed, progress=progress,
                              n_dig=n_dig, max_draws=max_draws)
         mc["coverage_interval_m3"] = mc["coverage_interval"]

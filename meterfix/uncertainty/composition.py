@@ -113,22 +113,27 @@ def composition_term(model, result, parsed, add, method_name):
                            "heating value only")
 
 
-#: methods whose Z is evaluated at the solved density for the perturbed compositions
-_AT_DENSITY = {"aga8-detail": "..z.aga8_detail", "gerg-2008": "..z.gerg2008"}
+#: methods whose Z is evaluated at the solved density for the perturbed compositions:
+#: (module, Z at density, ln Z derivatives in closed form)
+_AT_DENSITY = {"aga8-detail": ("..z.aga8_detail", "z_at_density", "z_log_derivatives_detail"),
+               "gerg-2008": ("..z.gerg2008", "z_at_density", "z_log_derivatives_gerg")}
+
+
+def _eos(method_name, which):
+    import importlib
+
+    mod, at, der = _AT_DENSITY[method_name]
+    return getattr(importlib.import_module(mod, __package__), at if which == "at" else der)
 
 
 def _z_at(method_name):
-    import importlib
-
-    return importlib.import_module(_AT_DENSITY[method_name], __package__).z_at_density
+    return _eos(method_name, "at")
 
 
 def _density_state(method_name, p, t, gas):
     """Molar density of the analysis' gas at the points and 1/(∂ln p/∂ln ρ)_T = 1 − ∂lnZ/∂lnp."""
-    from .budget import z_log_derivatives
-
     res = evaluate_z(p, t, gas, method_name, speed_of_sound=False)
-    d = z_log_derivatives(p, t, gas, method_name)
+    d = _eos(method_name, "derivatives")(p, t, gas)
     return np.asarray(res.molar_density, float), 1.0 - d["p"]
 
 
