@@ -61,7 +61,7 @@ import math
 
 import numpy as np
 
-#: trials drawn together (the first block also checks the grouped evaluation)
+#: trials drawn together (a stage of the adaptive procedure)
 BLOCK = 10_000
 #: the grouping check evaluates every interval on min(BLOCK, max(CHECK_MIN, CHECK_ELEMENTS / n)) trials
 CHECK_ELEMENTS = 2**15
