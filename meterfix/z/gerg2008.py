@@ -358,9 +358,15 @@ def z_at_density(molar_density, temperature, composition) -> np.ndarray:
     for a in range(0, rho.size, CHUNK):
         sl = slice(a, a + CHUNK)
         ws = _Workspace(mix, rho[sl].size)
-        taup = np.exp(np.multiply.outer(np.log(mix.t_reducing / t[sl]), mix.t_exponents))
-        out[sl] = 1.0 + _z_functions(mix, ws, taup @ mix.coef, rho[sl] / mix.rho_reducing, 1)[0]
+        out[sl] = 1.0 + _z_functions(mix, ws, _tau_sums(mix, t[sl], mix.coef), rho[sl] / mix.rho_reducing, 1)[0]
     return out.reshape(np.shape(molar_density))
+
+
+def _tau_sums(mix: GergMixture, t: np.ndarray, coef: np.ndarray) -> np.ndarray:
+    """Σ_t coef τ^t at each point, computed once per distinct temperature (logged ones repeat)."""
+    t_u, inv = np.unique(t, return_inverse=True)
+    taup = np.exp(np.multiply.outer(np.log(mix.t_reducing / t_u), mix.t_exponents))
+    return (taup @ coef)[inv.reshape(-1)]
 
 
 def z_log_derivatives_gerg(pressure, temperature, composition) -> dict:
@@ -394,10 +400,12 @@ def z_log_derivatives_gerg(pressure, temperature, composition) -> dict:
         i = ok[a:a + CHUNK]
         ws = _Workspace(mix, i.size)
         delta = np.asarray(res.molar_density, float).ravel()[i] / mix.rho_reducing
-        taup = np.exp(np.multiply.outer(np.log(mix.t_reducing / t[i]), te))
-        zm1, zd, zdd = (v.copy() for v in _z_functions(mix, ws, taup @ mix.coef, delta, 3))
-        zt, zdt = (v.copy() for v in _z_functions(mix, ws, taup @ (-te[:, None] * mix.coef), delta, 2))
-        ztt = _z_functions(mix, ws, taup @ (te[:, None] ** 2 * mix.coef), delta, 1)[0].copy()
+        b3 = _tau_sums(mix, t[i], np.concatenate([mix.coef, -te[:, None] * mix.coef, te[:, None] ** 2 * mix.coef],
+                                                 axis=1))
+        nc = mix.n_col
+        zm1, zd, zdd = (v.copy() for v in _z_functions(mix, ws, np.ascontiguousarray(b3[:, :nc]), delta, 3))
+        zt, zdt = (v.copy() for v in _z_functions(mix, ws, np.ascontiguousarray(b3[:, nc:2 * nc]), delta, 2))
+        ztt = _z_functions(mix, ws, np.ascontiguousarray(b3[:, 2 * nc:]), delta, 1)[0].copy()
         d = log_derivatives(1.0 + zm1, zd, zdd, zt, ztt, zdt)
         for k in out:
             out[k][i] = d[k]
