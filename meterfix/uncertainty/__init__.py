@@ -136,7 +136,7 @@ def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress
     ------
     SettingsError   an uncertainty setting that cannot be read (naming the setting)
     """
-    parsed = parse_uncertainty_settings(getattr(result.settings, "uncertainty", None) or {})
+    parsed = parse_uncertainty_settings(result.settings.uncertainty)
     # BLAS held to one thread for the whole budget and Monte Carlo: the matrix products then do not
     # depend on how many threads the process has (a Dask worker holds one), so the same month
     # gives the same bits in every process
