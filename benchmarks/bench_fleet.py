@@ -170,6 +170,14 @@ def main() -> None:
         books = None if a.no_workbooks else time_cli(tmp / "fleet", tmp / "out-wb", a.workers, workbooks=True)
         bare = time_api_without_uncertainty(tmp / "fleet", tmp / "out-api", a.workers)
         n = a.meters
+        import collections
+        import json
+
+        rows = json.loads((tmp / "out" / "fleet_summary.json").read_text())
+        verdicts = collections.Counter(str(r.get("monte_carlo_check")).split(":")[0] for r in rows)
+        trials = [r.get("monte_carlo_draws") or 0 for r in rows]
+        print(f"Monte Carlo verdicts of the {len(rows)} meters: {dict(verdicts)}; trials {min(trials):,}-"
+              f"{max(trials):,} per meter")
         print(f"\n{'':34s}{'wall s':>9s}{'ms/meter':>10s}{'x core':>8s}{'1,000 meters':>14s}  target")
         rows = [("core path (read_month), pool", core, None), ("meterfix fleet (CLI)", fleet, "<= 60 s, <= 3x core")]
         if books is not None:
