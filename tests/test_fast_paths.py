@@ -176,3 +176,18 @@ def test_interval_csv_bytes_are_pandas_to_csv():
                         "b": [1.5, np.nan, 1e-20, -0.0, 123456789012.0], "c": [True, False, True, True, False],
                         "d": [1, 2, 3, 4, 5]})
     assert _csv_bytes(odd) == ref(odd)
+    # blocks of rows, NaN here and there, carriage returns, empty and repeated texts, negative ints
+    from meterfix.writers import tables as T
+
+    rng = np.random.default_rng(8)
+    n = 50
+    x = rng.standard_normal(n) * 10.0 ** rng.integers(-12, 12, n)
+    x[rng.random(n) < 0.2] = np.nan
+    mixed = pd.DataFrame({"x": x, "y": rng.random(n), "t": rng.choice(["", "a\rb", "ok", "-5", "q,\"", None], n),
+                          "i": rng.integers(-9, 9, n), "b": rng.random(n) < 0.5, "inf": np.full(n, np.inf)})
+    old_rows = T._CSV_ROWS
+    try:
+        T._CSV_ROWS = 7
+        assert _csv_bytes(mixed) == ref(mixed)
+    finally:
+        T._CSV_ROWS = old_rows

@@ -60,36 +60,52 @@ def _neutralised(df: pd.DataFrame) -> pd.DataFrame:
     return df
 
 
-def _csv_bytes(df: pd.DataFrame) -> bytes:
-    """CSV bytes, the same as ``DataFrame.to_csv(index=False, float_format="%.10g")`` writes (tested),
-    at about twice its speed on long logs: floats by ``%.10g``, missing values empty, text quoted
-    by the csv module's minimal rule."""
+def _csv_field(v) -> str:
+    """One text cell as the csv module writes it (minimal quoting), missing values empty."""
     import csv
 
-    df = _neutralised(df)
+    if v is None or v is pd.NA or v is pd.NaT or (isinstance(v, float) and v != v):
+        return ""
+    v = str(v)
+    if v == "":
+        return ""
     buf = io.StringIO()
-    w = csv.writer(buf, lineterminator="\n")
-    w.writerow(df.columns)
-    fm = "%.10g".__mod__
-    arrays = [df[c].to_numpy() for c in df.columns]
+    csv.writer(buf, lineterminator="\n").writerow([v])  # the writer's own line end decides the quoting
+    return buf.getvalue()[:-1]
+
+
+def _csv_bytes(df: pd.DataFrame) -> bytes:
+    """CSV bytes, the same as ``DataFrame.to_csv(index=False, float_format="%.10g")`` writes (tested),
+    several times faster on long logs: every row is one ``%`` of a row format (floats ``%.10g``,
+    integers ``%d``); a float column with missing values, and each distinct text, are formatted
+    once as text (missing values empty, text quoted by the csv module's minimal rule)."""
+    df = _neutralised(df)
+    header = ",".join(_csv_field(c) for c in df.columns) + "\n"
+    specs, arrays = [], []
+    for c in df.columns:
+        a = df[c].to_numpy()
+        if a.dtype.kind == "f" and not np.isnan(a).any():
+            specs.append("%.10g")
+        elif a.dtype.kind == "f":
+            txt = np.array(list(map("%.10g".__mod__, a.tolist())), dtype=object)
+            txt[np.isnan(a)] = ""
+            a = txt
+            specs.append("%s")
+        elif a.dtype.kind in "iu":
+            specs.append("%d")
+        elif a.dtype.kind == "b":
+            a = np.where(a, "True", "False").astype(object)
+            specs.append("%s")
+        else:
+            codes, uniques = pd.factorize(pd.Series(a, dtype=object), use_na_sentinel=True)
+            a = np.array([_csv_field(v) for v in uniques] + [""], dtype=object)[codes]
+            specs.append("%s")
+        arrays.append(a)
+    row = (",".join(specs) + "\n").__mod__
+    parts = [header]
     for a0 in range(0, len(df), _CSV_ROWS):  # in blocks of rows: the text of a block at a time
-        cols = []
-        for full in arrays:
-            a = full[a0:a0 + _CSV_ROWS]
-            if a.dtype.kind == "f":
-                txt = list(map(fm, a.tolist()))
-                for i in np.flatnonzero(np.isnan(a)).tolist():
-                    txt[i] = ""
-                cols.append(txt)
-            elif a.dtype.kind == "b":
-                cols.append(["True" if v else "False" for v in a.tolist()])
-            elif a.dtype.kind in "iu":
-                cols.append(list(map(str, a.tolist())))
-            else:
-                cols.append(["" if v is None or (isinstance(v, float) and v != v) or v is pd.NA or v is pd.NaT
-                             else str(v) for v in a.tolist()])
-        w.writerows(zip(*cols))
-    return buf.getvalue().encode("utf-8")
+        parts.append("".join(map(row, zip(*[a[a0:a0 + _CSV_ROWS].tolist() for a in arrays]))))
+    return "".join(parts).encode("utf-8")
 
 
 #: rows formatted at a time by the CSV writer
