@@ -271,6 +271,12 @@ def _sigma_points(theta, w, scale, rank_cut):
     return np.array(pts), np.array(wts)
 
 
+def _codes(values):
+    """Codes 0..k-1 of the distinct values of an array and the distinct values (sorted)."""
+    uniq, codes = np.unique(values, return_inverse=True)
+    return codes.reshape(-1), uniq
+
+
 def _reduced_columns(model, entries, explicit, A, comp, bound: float = 1e-8, max_bins: int = 32):
     """Interval sums once: each set of intervals sharing the analysis and the step-valued coefficients
     (meter flow range, Z range class, estimated) becomes a few columns at moment-matched points of
@@ -288,9 +294,10 @@ def _reduced_columns(model, entries, explicit, A, comp, bound: float = 1e-8, max
     keep[explicit] = False
     keep &= model.volume != 0
     discrete = [e[1] for e in entries if e[0] in _METER_KINDS + _Z_KINDS and e[2].mode != "independent"]
-    stack = np.vstack([model.analysis.astype(float), np.sign(model.volume)] + discrete)
-    _, key = np.unique(stack.T, axis=0, return_inverse=True)
-    key = key.reshape(-1)
+    key = np.zeros(n, np.int64)
+    for col in [model.analysis, np.sign(model.volume)] + discrete:  # one code per distinct row of them
+        codes, uniq = _codes(col)
+        key = _codes(key * (len(uniq) + 1) + codes)[0]  # recoded to 0..k-1 at each step
     E = model.energy
     rank_cut = 1e-3 * bound
     pts, wv, we, an = [], [], [], []
