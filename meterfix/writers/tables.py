@@ -84,17 +84,12 @@ def _csv_bytes(df: pd.DataFrame) -> bytes:
     specs, arrays = [], []
     for c in df.columns:
         a = df[c].to_numpy()
-        if a.dtype.kind == "f" and not np.isnan(a).any():
-            specs.append("%.10g")
-        elif a.dtype.kind == "f":
-            txt = np.array(list(map("%.10g".__mod__, a.tolist())), dtype=object)
-            txt[np.isnan(a)] = ""
-            a = txt
-            specs.append("%s")
+        if a.dtype.kind == "f":
+            specs.append("%.10g" if not np.isnan(a).any() else "%s")
         elif a.dtype.kind in "iu":
             specs.append("%d")
         elif a.dtype.kind == "b":
-            a = np.where(a, "True", "False").astype(object)
+            a = np.array(["False", "True"], dtype=object)[a.astype(np.int8)]
             specs.append("%s")
         else:
             codes, uniques = pd.factorize(pd.Series(a, dtype=object), use_na_sentinel=True)
@@ -102,10 +97,21 @@ def _csv_bytes(df: pd.DataFrame) -> bytes:
             specs.append("%s")
         arrays.append(a)
     row = (",".join(specs) + "\n").__mod__
-    parts = [header]
+    out = io.BytesIO()
+    out.write(header.encode("utf-8"))
     for a0 in range(0, len(df), _CSV_ROWS):  # in blocks of rows: the text of a block at a time
-        parts.append("".join(map(row, zip(*[a[a0:a0 + _CSV_ROWS].tolist() for a in arrays]))))
-    return "".join(parts).encode("utf-8")
+        cols = []
+        for spec, a in zip(specs, arrays):
+            a = a[a0:a0 + _CSV_ROWS]
+            if spec == "%s" and a.dtype.kind == "f":  # a float column with missing values
+                txt = list(map("%.10g".__mod__, a.tolist()))
+                for i in np.flatnonzero(np.isnan(a)).tolist():
+                    txt[i] = ""
+                cols.append(txt)
+            else:
+                cols.append(a.tolist())
+        out.write("".join(map(row, zip(*cols))).encode("utf-8"))
+    return out.getvalue()
 
 
 #: rows formatted at a time by the CSV writer
