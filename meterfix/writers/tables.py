@@ -60,6 +60,10 @@ def _neutralised(df: pd.DataFrame) -> pd.DataFrame:
     return df
 
 
+#: characters that make the csv module quote a cell (delimiter, quote, line ends)
+_CSV_SPECIAL = (",", '"', "\n", "\r")
+
+
 def _csv_field(v) -> str:
     """One text cell as the csv module writes it (minimal quoting), missing values empty."""
     import csv
@@ -67,8 +71,8 @@ def _csv_field(v) -> str:
     if v is None or v is pd.NA or v is pd.NaT or (isinstance(v, float) and v != v):
         return ""
     v = str(v)
-    if v == "":
-        return ""
+    if v == "" or not any(ch in v for ch in _CSV_SPECIAL):  # nothing the minimal rule would quote
+        return v
     buf = io.StringIO()
     csv.writer(buf, lineterminator="\n").writerow([v])  # the writer's own line end decides the quoting
     return buf.getvalue()[:-1]
