@@ -70,6 +70,7 @@ def build_summary(result) -> dict:
         "base_conditions": {"pressure_Pa": s.pressure_base, "temperature_K": s.temperature_base,
                             "preset": s.base_preset},
         "combustion_reference_temperature_K": s.temperature_combustion,
+        "gas_day": {"start_hour": s.gas_day_start_hour, "timezone": s.timezone},
         "totals": t,
         "average_correction": result.average_correction,
         "analyses": [{"effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,
