@@ -143,3 +143,54 @@ def linepack(name, boundaries, pressure, temperature, *, volume: float, gas, met
     return Linepack(name=name, boundaries=np.asarray(boundaries, "datetime64[ns]"), pressure=p, temperature=t, z=z,
                     z_base=zb, amount_mol=n, volume_base=vb, energy=energy, u_random_volume=u_rand,
                     u_systematic_rel=float(u_volume_rel))
+
+
+def read_linepack_log(path, *, timezone: str = "UTC", atmospheric_pressure: float | None = None, sheet=None):
+    """A section's pressure and temperature log → (UTC times, pressure [Pa abs], temperature [K]).
+
+    Headers are recognised as in a meter log (``Time``, ``Pressure [bar(a)]`` or ``[bar(g)]``,
+    ``Temperature [degC]``); a gauge pressure needs ``atmospheric_pressure`` [Pa]. Rows with a
+    time or a value that cannot be read are refused with their row.
+    """
+    from ..readers.columns import map_columns
+    from ..readers.tables import read_table, to_numbers
+    from ..readers.times import localize, parse_datetimes
+    from ..units import to_absolute
+
+    t = read_table(path, sheet=sheet)
+    where = t.where()
+    cm = map_columns(t.header, where=where)
+    tcol = next((cm[n] for n in ("time", "interval_end", "interval_start", "clock") if n in cm), None)
+    pcol = cm["pressure_line"] if "pressure_line" in cm else (cm["pressure_gauge"] if "pressure_gauge" in cm else None)
+    Tcol = cm["temperature_line"] if "temperature_line" in cm else None
+    for col, what, ex in ((tcol, "time", "'Time'"), (pcol, "pressure", "'Pressure [bar(a)]'"),
+                          (Tcol, "temperature", "'Temperature [degC]'")):
+        if col is None:
+            raise InputError(f"the linepack log has no {what} column", **where,
+                             hint=f"name its header e.g. {ex} (time, line pressure and line temperature are needed)")
+    instants, bad, is_utc = parse_datetimes(t.cells[tcol.index].to_numpy(), t.where(column=tcol.header))
+    if bad.any():
+        raise InputError("a time that cannot be read", **t.where(row=int(t.rows[np.argmax(bad)]), column=tcol.header),
+                         hint="write times as YYYY-MM-DD HH:MM")
+    if not is_utc:
+        instants, nonexist, _ = localize(instants, timezone)
+        if nonexist.any():
+            raise InputError(f"a clock time that does not exist in {timezone} (a clock change)",
+                             **t.where(row=int(t.rows[np.argmax(nonexist)]), column=tcol.header),
+                             hint="check the log's time zone (linepack 'timezone')")
+    out = []
+    for col in (pcol, Tcol):
+        v, empty, badv = to_numbers(t.cells[col.index], t.decimal)
+        if (empty | badv).any():
+            raise InputError("a value that cannot be read", **t.where(row=int(t.rows[np.argmax(empty | badv)]),
+                             column=col.header), hint="every row needs a pressure and a temperature")
+        out.append(v)
+    try:
+        p = to_absolute(out[0], pcol.unit, atmospheric_pressure,
+                        unmarked="gauge" if pcol.name == "pressure_gauge" else "absolute", name=f"column '{pcol.header}'")
+    except Exception as exc:
+        raise InputError(str(exc), **t.where(column=pcol.header),
+                         hint="give the linepack's atmospheric_pressure for a gauge log") from None
+    temp = Tcol.unit.to_si(out[1])
+    order = np.argsort(np.asarray(instants, "datetime64[ns]"), kind="stable")
+    return np.asarray(instants, "datetime64[ns]")[order], np.asarray(p, float)[order], np.asarray(temp, float)[order]
