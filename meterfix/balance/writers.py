@@ -54,6 +54,7 @@ def balance_summary(result: BalanceResult, *, closing: dict | None = None) -> di
         "combustion_reference_temperature_K": result.temperature_combustion,
         "receipts_m3": m["receipts"], "deliveries_m3": m["deliveries"], "own_use_m3": m["own_use"],
         "fixed_m3": m["fixed"], "linepack_change_m3": m["linepack_change"], "ufg_m3": m["ufg"],
+        "fixed_standard_uncertainty_m3": m["u_fixed"], "linepack_change_standard_uncertainty_m3": m["u_linepack"],
         "ufg_pct": v.ufg_pct, "ufg_standard_uncertainty_m3": m["u_ufg"], "ufg_expanded_uncertainty_m3": v.expanded,
         "coverage_factor": COVERAGE_FACTOR, "consistent": v.consistent, "ufg_standard_uncertainties": v.sigmas,
         "energy": None if e is None else {
