@@ -11,10 +11,12 @@ from typing import Optional
 import typer
 
 from .app import _fail, app
+from .options import setting_options
 from ..errors import MeterfixError, SettingsError
 
 
 @app.command("balance", short_help="Close a system's balance: receipts, deliveries, own use, linepack, UFG.")
+@setting_options("balance")
 def balance_command(
     balance_file: Path = typer.Argument(..., metavar="BALANCE.toml", help="The balance file: its meters (folders as `meterfix fleet` reads them) and roles, linepack sections and fixed quantities."),
     out: Path = typer.Option(..., "--out", help="Folder for the balance's outputs (workbook, JSON, daily CSV) and, under meters/, each meter's outputs."),
@@ -27,12 +29,15 @@ def balance_command(
     reason: Optional[str] = typer.Option(None, "--reason", help="Why; required to close a balance or a month that is already closed."),
     overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress lines."),
+    settings_options: dict = None,
 ):
     """Receipts against deliveries, own use, fixed quantities and linepack change; the UFG with its
     uncertainty; which meter, on evidence; the VDI 2048 reconciliation."""
     try:
+        options = {k: v for k, v in (settings_options or {}).items() if v not in (None, [], ())}
         code = run_balance(balance_file, out, month=month, workers=workers, scheduler=scheduler, store=store,
-                           from_store=from_store, by=by, reason=reason, overwrite=overwrite, quiet=quiet)
+                           from_store=from_store, by=by, reason=reason, overwrite=overwrite, quiet=quiet,
+                           options=options)
     except MeterfixError as exc:
         _fail(exc)
     raise typer.Exit(code)
@@ -46,7 +51,7 @@ def _month_option(text):
     return text
 
 
-def _run_meters(cfg, out, *, workers, scheduler, store, by, reason, overwrite, quiet):
+def _run_meters(cfg, out, *, workers, scheduler, store, by, reason, overwrite, quiet, options=None):
     """Every meter's month through the fleet machinery; {entry name: (summary, source text)}."""
     from ..fleet.meter import meter_settings
     from ..store.job import Closer
@@ -59,8 +64,9 @@ def _run_meters(cfg, out, *, workers, scheduler, store, by, reason, overwrite, q
         if st.kind == "sqlite":
             store = str(st.path.resolve())
     closer = Closer(store, by, reason) if store else None
+    options = dict(options or {})
     for e in cfg.meters:   # names the meter folder that cannot be read, before any work
-        meter_settings(e.folder, {})
+        meter_settings(e.folder, options)
     folders = [e.folder for e in cfg.meters]
     meters_out = Path(out) / "meters"
 
@@ -71,12 +77,12 @@ def _run_meters(cfg, out, *, workers, scheduler, store, by, reason, overwrite, q
     if scheduler:
         from ..fleet.dask import run_fleet_dask
 
-        run = run_fleet_dask(folders, meters_out, {}, scheduler=scheduler, overwrite=overwrite, progress=progress,
+        run = run_fleet_dask(folders, meters_out, options, scheduler=scheduler, overwrite=overwrite, progress=progress,
                              closer=closer)
     else:
         from ..fleet.local import run_fleet
 
-        run = run_fleet(folders, meters_out, {}, workers=workers, overwrite=overwrite, progress=progress, closer=closer)
+        run = run_fleet(folders, meters_out, options, workers=workers, overwrite=overwrite, progress=progress, closer=closer)
     got = {}
     for e, row in zip(cfg.meters, run.rows):
         if row.get("status") != "ok":
@@ -92,7 +98,7 @@ def _run_meters(cfg, out, *, workers, scheduler, store, by, reason, overwrite, q
     return got, run
 
 
-def _from_store(cfg, target, month):
+def _from_store(cfg, target, month, options=None):
     from ..fleet.meter import meter_settings
     from ..store import open_store
     from ..store.balances import latest_meter_summary
@@ -100,7 +106,7 @@ def _from_store(cfg, target, month):
     st = open_store(target)
     got, parts = {}, []
     for e in cfg.meters:
-        meter = meter_settings(e.folder, {}).meter
+        meter = meter_settings(e.folder, dict(options or {})).meter
         found = latest_meter_summary(st, meter, month)
         if found is None:
             raise SettingsError(f"meter '{e.name}' ({meter}) has no closed month{' ' + month if month else ''} in the "
@@ -113,7 +119,9 @@ def _from_store(cfg, target, month):
 
 
 def run_balance(balance_file, out, *, month=None, workers=1, scheduler=None, store=None, from_store=None, by=None,
-                reason=None, overwrite=False, quiet=False, echo=typer.echo) -> int:
+                reason=None, overwrite=False, quiet=False, options=None, echo=typer.echo) -> int:
+    """The balance of ``balance_file`` (see the command); ``options``: per-meter settings applied to
+    every meter (as ``meterfix fleet`` applies them). Returns the exit code."""
     from ..balance.assemble import assemble
     from ..balance.config import read_balance_config
     from ..balance.writers import balance_json, balance_summary, write_balance_outputs
@@ -132,11 +140,11 @@ def run_balance(balance_file, out, *, month=None, workers=1, scheduler=None, sto
                    + [lp.pressure_log for lp in cfg.linepacks])
     t0 = time.perf_counter()
     if from_store:
-        summaries, parts, st = _from_store(cfg, from_store, month or cfg.month)
+        summaries, parts, st = _from_store(cfg, from_store, month or cfg.month, options)
         runner = f"from the store {st.name}"
     else:
         summaries, run = _run_meters(cfg, out, workers=workers, scheduler=scheduler, store=store, by=by, reason=reason,
-                                     overwrite=overwrite, quiet=quiet)
+                                     overwrite=overwrite, quiet=quiet, options=options)
         parts = [{"meter": s[0].get("meter"), "month": None, "how": s[1]} for s in summaries.values()]
         runner = run.runner
     t_meters = time.perf_counter() - t0
