@@ -101,7 +101,8 @@ def balance_entries(store: Store, name: str | None = None) -> pd.DataFrame:
             sql += " WHERE name = :n"
             params["n"] = name
         rows = c.rows(sql + " ORDER BY name, month, version", params)
-    df = pd.DataFrame(rows, columns=cols)
+    df = pd.DataFrame(rows, columns=cols).astype(object)
+    df = df.where(pd.notna(df), None)   # who and why stay None when not given (never NaN)
     if len(df):
         df["latest"] = df.groupby(["name", "month"])["version"].transform("max") == df["version"]
     return df
