@@ -126,7 +126,8 @@ def test_from_store_takes_the_closed_months_and_history_shows_the_balance(closed
 def test_closing_again_needs_a_reason_and_keeps_both(closed, zone, tmp_path):
     store, _, _ = closed
     r = _run("balance", zone / "balance.toml", "--out", tmp_path / "o1", "--store", store, "--quiet")
-    assert r.exit_code == 2 and "already closed" in r.output
+    assert r.exit_code == 2 and "balance 'Brackenfold zone' 2026-11 is already closed" in r.output
+    assert not (tmp_path / "o1").exists()   # refused before any meter was run
     r = _run("balance", zone / "balance.toml", "--out", tmp_path / "o2", "--store", store, "--quiet",
              "--reason", "vent estimate revised", "--by", "T. Quill")
     assert r.exit_code == 0, r.output
@@ -190,3 +191,23 @@ def test_meter_without_a_result_exits_2(zone, tmp_path):
     r = _run("balance", d / "small.toml", "--out", tmp_path / "o")
     assert r.exit_code == 2 and "BF-D2 Sladeburn village' has no result for the month" in r.output
     assert not list((tmp_path / "o").glob("*_balance*"))
+
+
+def test_balance_on_a_dask_cluster_gives_the_local_result(closed, zone, tmp_path):
+    """The meters' months on a real scheduler and two worker processes (tests/test_fleet_dask.py's
+    Cluster): the same balance as the local run."""
+    pytest.importorskip("distributed")
+    from test_fleet_dask import Cluster
+
+    _, out_local, _ = closed
+    c = Cluster(tmp_path, 2)
+    try:
+        r = _run("balance", zone / "balance.toml", "--out", tmp_path / "dask", "--scheduler", c.address, "--quiet")
+    finally:
+        c.stop()
+    assert r.exit_code == 0, r.output
+    assert "Dask cluster at" in r.output
+    a = json.loads((out_local / f"{STEM}_balance.json").read_text(encoding="utf-8"))
+    b = json.loads((tmp_path / "dask" / f"{STEM}_balance.json").read_text(encoding="utf-8"))
+    assert b["ufg_m3"] == pytest.approx(a["ufg_m3"], rel=1e-12)
+    assert [f["meter"] for f in b["findings"] if f["credited"]] == ["BF-D3 Kestrel mill"]

@@ -162,7 +162,7 @@ def build_workbook(summary: dict):
         ch.series = [{"name": "UFG", "x": x, "y": Ref("Daily", "G", 2, last), "colour": "1F4E79", "width": 2.25},
                      {"name": "UFG − U", "x": x, "y": Ref("Daily", "I", 2, last), "colour": "A6A6A6", "width": 1.0},
                      {"name": "UFG + U", "x": x, "y": Ref("Daily", "J", 2, last), "colour": "A6A6A6", "width": 1.0}]
-        dws.add_chart(ch, f"B{last + 3}")
+        dws.add_chart(ch, "M2")
 
     mws = book.create_sheet("Meters")
     mrows = [(m["name"], m["role"].replace("_", " "), m.get("correlation_group") or "", m["volume_m3"],
@@ -183,7 +183,7 @@ def build_workbook(summary: dict):
     frows = [(f["meter"], f["role"].replace("_", " "), f["bias_pct"], f["from_gas_day"], f["delta_bic"],
               "credited" if f["credited"] else "tried, not credited", f["evidence"]) for f in summary["findings"]]
     X.write_table(fws, r, 1, ["Meter", "Role", "Reads high by [%]", "From gas day", "ΔBIC against no meter [-]",
-                              "Status", "Evidence"], frows, [None, None, X.FMT_PCT2, None, X.FMT_FACTOR, None, None])
+                              "Status", "Evidence"], frows, [None, None, X.FMT_PCT2, None, "0.0", None, None])
     X.wrap_rows(fws, r + 1, r + len(frows), [7])
     X.set_widths(fws, {"G": 70})
     return book

@@ -138,6 +138,11 @@ def run_balance(balance_file, out, *, month=None, workers=1, scheduler=None, sto
     check_output_folder(out)
     protect_inputs([Path(balance_file)] + [p for e in cfg.meters for p in e.folder.rglob("*") if p.is_file()]
                    + [lp.pressure_log for lp in cfg.linepacks])
+    if store and (month or cfg.month):
+        from ..store import open_store
+        from ..store.balances import plan_balance
+
+        plan_balance(open_store(store), cfg.name, month or cfg.month, reason)  # before any meter is run
     t0 = time.perf_counter()
     if from_store:
         summaries, parts, st = _from_store(cfg, from_store, month or cfg.month, options)
