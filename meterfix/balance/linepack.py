@@ -185,12 +185,13 @@ def read_linepack_log(path, *, timezone: str = "UTC", atmospheric_pressure: floa
             raise InputError("a value that cannot be read", **t.where(row=int(t.rows[np.argmax(empty | badv)]),
                              column=col.header), hint="every row needs a pressure and a temperature")
         out.append(v)
-    try:
-        p = to_absolute(out[0], pcol.unit, atmospheric_pressure,
-                        unmarked="gauge" if pcol.name == "pressure_gauge" else "absolute", name=f"column '{pcol.header}'")
-    except Exception as exc:
-        raise InputError(str(exc), **t.where(column=pcol.header),
-                         hint="give the linepack's atmospheric_pressure for a gauge log") from None
+    gauge = pcol.name == "pressure_gauge" or pcol.unit.reference == "gauge"
+    if gauge and atmospheric_pressure is None:
+        raise InputError("the section's pressure is gauge and its linepack entry has no atmospheric_pressure",
+                         **t.where(column=pcol.header),
+                         hint="add atmospheric_pressure = \"1.013 bar(a)\" to its [[linepack]] entry, or log absolute pressure")
+    p = to_absolute(out[0], pcol.unit, atmospheric_pressure, unmarked="gauge" if gauge else "absolute",
+                    name=f"column '{pcol.header}'")
     temp = Tcol.unit.to_si(out[1])
     order = np.argsort(np.asarray(instants, "datetime64[ns]"), kind="stable")
     return np.asarray(instants, "datetime64[ns]")[order], np.asarray(p, float)[order], np.asarray(temp, float)[order]

@@ -118,6 +118,24 @@ def _from_store(cfg, target, month, options=None):
     return got, parts, st
 
 
+def _check_linepack_logs(cfg, month, options):
+    """Read every linepack log now, and with the month known check it covers both month boundaries
+    on the first meter's gas day, so that a bad log stops the run before any meter is run."""
+    from ..balance.assemble import boundaries
+    from ..balance.linepack import at_boundaries, read_linepack_log
+    from ..fleet.meter import meter_settings
+
+    if not cfg.linepacks:
+        return
+    s = meter_settings(cfg.meters[0].folder, dict(options or {}))
+    for lp in cfg.linepacks:
+        times, p, t = read_linepack_log(lp.pressure_log, timezone=lp.timezone or s.timezone,
+                                        atmospheric_pressure=lp.atmospheric_pressure, sheet=lp.sheet)
+        if month:
+            at_boundaries(times, p, boundaries(month, int(s.gas_day_start), s.timezone), what="pressure",
+                          file=lp.pressure_log)
+
+
 def run_balance(balance_file, out, *, month=None, workers=1, scheduler=None, store=None, from_store=None, by=None,
                 reason=None, overwrite=False, quiet=False, options=None, echo=typer.echo) -> int:
     """The balance of ``balance_file`` (see the command); ``options``: per-meter settings applied to
@@ -138,6 +156,7 @@ def run_balance(balance_file, out, *, month=None, workers=1, scheduler=None, sto
     check_output_folder(out)
     protect_inputs([Path(balance_file)] + [p for e in cfg.meters for p in e.folder.rglob("*") if p.is_file()]
                    + [lp.pressure_log for lp in cfg.linepacks])
+    _check_linepack_logs(cfg, month or cfg.month, options)   # before any meter is run
     if store and (month or cfg.month):
         from ..store import open_store
         from ..store.balances import plan_balance
