@@ -174,8 +174,11 @@ def test_linepack_log_short_of_the_month_and_month_without_result(closed, zone, 
     r = _run("balance", d / "balance.toml", "--out", tmp_path / "o", "--from-store", store)
     assert r.exit_code == 2 and "does not cover both month boundaries" in r.output
     assert not (tmp_path / "o").exists()
-    # a month the store does not hold
-    r = _run("balance", d / "balance.toml", "--out", tmp_path / "o", "--from-store", store, "--month", "2026-12")
+    # a month the store does not hold (a balance without the section, whose log is of November)
+    text = (d / "balance.toml").read_text(encoding="utf-8")
+    (d / "no_lp.toml").write_text(text.split("[[linepack]]")[0] + "[[fixed]]" + text.split("[[fixed]]")[1],
+                                  encoding="utf-8")
+    r = _run("balance", d / "no_lp.toml", "--out", tmp_path / "o", "--from-store", store, "--month", "2026-12")
     assert r.exit_code == 2 and "has no closed month 2026-12" in r.output
 
 
