@@ -8,9 +8,7 @@ from __future__ import annotations
 
 import csv
 import json
-import os
 import shutil
-import uuid
 
 import pytest
 from typer.testing import CliRunner
@@ -18,28 +16,9 @@ from typer.testing import CliRunner
 from meterfix.balance.writers import DAY_COLUMNS
 from meterfix.cli import app
 from meterfix.cli.demo import zone_folder
+from test_store import _pg_database  # a new database on the test server, dropped afterwards
 
-PG_URL = os.environ.get("METERFIX_TEST_POSTGRES_URL")
 STEM = "Brackenfold_zone_2026-11"
-
-
-def _pg_database():
-    if not PG_URL:
-        if os.environ.get("CI") == "true":
-            pytest.fail("CI=true but METERFIX_TEST_POSTGRES_URL is not set: .ci/run must start PostgreSQL")
-        pytest.skip("no PostgreSQL server (METERFIX_TEST_POSTGRES_URL unset); .ci/run starts one in CI")
-    import sqlalchemy as sa
-
-    name = "mf_b_" + uuid.uuid4().hex[:12]
-    admin = sa.create_engine(PG_URL.replace("postgresql://", "postgresql+psycopg://", 1), isolation_level="AUTOCOMMIT")
-    with admin.connect() as c:
-        c.execute(sa.text(f'CREATE DATABASE "{name}"'))
-    try:
-        yield f"{PG_URL.rsplit('/', 1)[0]}/{name}"
-    finally:
-        with admin.connect() as c:
-            c.execute(sa.text(f'DROP DATABASE IF EXISTS "{name}" WITH (FORCE)'))
-        admin.dispose()
 
 
 def _run(*args):
