@@ -193,3 +193,24 @@ def test_balance_on_a_dask_cluster_gives_the_local_result(closed, zone, tmp_path
     b = json.loads((tmp_path / "dask" / f"{STEM}_balance.json").read_text(encoding="utf-8"))
     assert b["ufg_m3"] == pytest.approx(a["ufg_m3"], rel=1e-12)
     assert [f["meter"] for f in b["findings"] if f["credited"]] == ["BF-D3 Kestrel mill"]
+
+
+@pytest.mark.parametrize("key,value,words", [
+    ("gas_day_start", '"07:00"', "is not meter 'BF-R1 Tarnside intake''s"),
+    ("combustion_temperature", '"15 degC"', "combustion reference"),
+])
+def test_meters_of_another_gas_day_or_energy_reference_exit_2(zone, tmp_path, key, value, words):
+    d = tmp_path / "z"
+    shutil.copytree(zone, d)
+    site = d / "meters" / "BF-D2" / "site.toml"
+    text = site.read_text(encoding="utf-8")
+    lines = [ln for ln in text.splitlines() if not ln.startswith(key)]
+    at = lines.index("[uncertainty]")
+    site.write_text("\n".join(lines[:at] + [f"{key} = {value}"] + lines[at:]) + "\n", encoding="utf-8")
+    text = (d / "balance.toml").read_text(encoding="utf-8")
+    keep = text.split("[[meters]]")
+    (d / "small.toml").write_text(keep[0] + "[[meters]]" + keep[1] + "[[meters]]" + keep[4].split("[[linepack]]")[0],
+                                  encoding="utf-8")
+    r = _run("balance", d / "small.toml", "--out", tmp_path / "o", "--quiet")
+    assert r.exit_code == 2 and words in r.output, r.output
+    assert not list((tmp_path / "o").glob("*_balance*"))

@@ -144,3 +144,21 @@ def test_linepack_log_must_cover_both_boundaries():
 def test_meter_month_sign():
     m = MeterMonth("x", "own_use", DAYS, np.ones(31), None, np.zeros(31), 0.0)
     assert m.sign == -1.0
+
+
+def test_energy_balance_is_the_volume_balance_times_one_heating_value():
+    """With one heating value H for every part, each energy figure is H times the volume figure."""
+    meters, fixed, dlp = zone(drift_meter="D3 Kestrel works", seed=4)
+    H = 38.2e6
+    for m in meters:
+        m.energy = m.volume * H
+        m.u_random_energy = m.u_random * H
+        m.u_systematic_energy_rel = m.u_systematic_rel
+    f = Fixed("vented", 900.0, 0.3, gas_day="2026-10-09", energy=900.0 * H)
+    lp = _LP(dlp, u=40.0)
+    lp.energy = lp.volume_base * H
+    b = compute_balance("z", "2026-10", meters, [f], [lp], DAYS)
+    assert b.energy is not None
+    np.testing.assert_allclose(b.energy.ufg, b.volume.ufg * H, rtol=1e-9, atol=1e-6 * H)
+    assert b.energy.month["u_ufg"] == pytest.approx(b.volume.month["u_ufg"] * H, rel=1e-12)
+    assert b.energy.consistent == b.volume.consistent
