@@ -162,3 +162,23 @@ def test_energy_balance_is_the_volume_balance_times_one_heating_value():
     np.testing.assert_allclose(b.energy.ufg, b.volume.ufg * H, rtol=1e-9, atol=1e-6 * H)
     assert b.energy.month["u_ufg"] == pytest.approx(b.volume.month["u_ufg"] * H, rel=1e-12)
     assert b.energy.consistent == b.volume.consistent
+
+
+def test_many_clean_meters_credit_none():
+    """300 deliveries with random flows and noise within their uncertainty: the search over 300
+    meters x 31 onsets finds no meter by chance (the choice of meter and onset is penalised)."""
+    rng = np.random.default_rng(17)
+    D = len(DAYS)
+    meters = []
+    total = np.zeros(D)
+    for i in range(300):
+        true = rng.uniform(500, 5000) * (1 + 0.2 * rng.standard_normal(D)).clip(0.3)
+        total += true
+        meas = true * (1 + 0.002 * rng.standard_normal(D))
+        meters.append(MeterMonth(f"D{i}", "delivery", DAYS, meas, None, 0.002 * meas, 0.003))
+    for j, share in enumerate((0.5, 0.3, 0.2)):
+        meas = share * total * (1 + 0.002 * rng.standard_normal(D))
+        meters.append(MeterMonth(f"R{j}", "receipt", DAYS, meas, None, 0.002 * meas, 0.003))
+    b = compute_balance("many", "2026-10", meters, [], [], DAYS)
+    assert b.credited is None, b.search_text
+    assert b.consistent

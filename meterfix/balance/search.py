@@ -11,7 +11,10 @@ bounded to ±MAX_BIAS (a larger error is not a plausible meter drift: it is trie
 the onset k runs over every gas day (k = first day: the error was there all month). Each (m, k)
 is a weighted least-squares line solved in closed form from cumulative sums, all meters and onsets
 at once. Evidence by the Bayesian information criterion with the scale estimated from the
-residuals (Schwarz 1978): BIC = n ln(RSS/n) + p ln n, ΔBIC = BIC(no meter) − BIC(meter m); a meter
+residuals (Schwarz 1978): BIC = n ln(RSS/n) + penalty, ΔBIC = BIC(no meter) − BIC(meter m). The
+bias costs ln n; the meter and the onset are choices among M meters and K onsets and cost
+2 ln M + 2 ln K (a uniform prior over them: a search over many meters must not find one by
+chance). A meter
 is credited only with ΔBIC ≥ 10 ("very strong", Kass & Raftery 1995), as the invoice attribution,
 when no other meter fits within 10 of it (else the data cannot tell them apart), and when its
 error is not a constant loss in disguise: with the error there all month and the meter's daily
@@ -118,7 +121,8 @@ def search(ufg, sigma, volumes, signs, names, roles, gas_days) -> tuple[list, st
     rss = Syy - 2 * L * Sy - 2 * beta * Sgy + L * L * Sw + 2 * L * beta * Sg + beta * beta * Sgg
     rss = np.maximum(rss, 1e-300)
     tiny = 1e-12 * max(rss0, 1e-300)
-    dbic = n * np.log((max(rss0, 0.0) + tiny) / (rss + tiny)) - 2.0 * np.log(n)
+    penalty = np.log(n) + 2.0 * np.log(D) + 2.0 * np.log(max(len(names), 1))
+    dbic = n * np.log((max(rss0, 0.0) + tiny) / (rss + tiny)) - penalty
     dbic = np.where(det > 0, dbic, -np.inf)
     best_k = np.argmax(dbic, axis=1)
     rows = np.arange(len(names))
