@@ -56,7 +56,8 @@ def print_balance(s: dict, written: dict, *, runner: str, seconds=(0.0, 0.0), cl
         echo(f"  which meter          {s['search']}")
     tried = [f["meter"] for f in s["findings"] if not f["credited"]]
     if tried and credited:
-        echo(f"    tried, not credited: {len(tried)} other meter(s)")
+        more = f" and {len(tried) - 6} more" if len(tried) > 6 else ""
+        echo(f"    tried, not credited: {', '.join(tried[:6])}{more}")
     rec = s.get("reconciliation")
     if rec:
         echo(f"  reconciliation       VDI 2048-1: χ² {rec['chi2']:.3g} against the 95 % limit {rec['chi2_limit']:.3g} "
