@@ -62,8 +62,8 @@ def _scale(t, f):
     """A summary's daily volumes, energies and random uncertainties times f (per gas day)."""
     f = np.broadcast_to(np.asarray(f, float), (len(t["gas_days"]),))
     for d, k in zip(t["gas_days"], f):
-        d["volume_base"] *= k
-        d["energy"] = d["energy"] * k if d.get("energy") is not None else None
+        d["volume_base_m3"] *= k
+        d["energy_J"] = d["energy_J"] * k if d.get("energy_J") is not None else None
     for d, k in zip(t["uncertainty"]["gas_days"], f):
         for key in ("random_standard_uncertainty_m3", "random_standard_uncertainty_J", "volume_base"):
             if d.get(key) is not None:
@@ -80,7 +80,7 @@ def scaled_summaries(summaries: dict, n: int, seed: int = 3):
 
     def days(s):  # at 0 °C (the restated meter's 15 °C volumes by the ideal-gas ratio: close enough here)
         tb = s["base_conditions"]["temperature_K"]
-        return np.array([d["volume_base"] for d in s["gas_days"]]) * (273.15 / tb)
+        return np.array([d["volume_base_m3"] for d in s["gas_days"]]) * (273.15 / tb)
 
     r0 = sum(days(s) for _, s in recs)
     d0 = sum(days(s) for _, s in dels)

@@ -32,7 +32,7 @@ def test_split_adds_back_to_the_month(demo_summary):
 def test_meter_month_from_summary_and_restated(demo_summary):
     days = [d["gas_day"] for d in demo_summary["gas_days"]]
     m = meter_month(demo_summary, name="FV-M1", role="delivery", gas_days=days)
-    assert np.nansum(m.volume) == pytest.approx(sum(d["volume_base"] for d in demo_summary["gas_days"]), rel=1e-12)
+    assert np.nansum(m.volume) == pytest.approx(sum(d["volume_base_m3"] for d in demo_summary["gas_days"]), rel=1e-12)
     assert m.energy is not None and not m.notes
     # the demo's base is 0 °C / 101.325 kPa; restated to 15 °C: V (T'/T)(Z'/Z)
     r = meter_month(demo_summary, name="FV-M1", role="delivery", gas_days=days, pressure_base=101325.0,

@@ -80,7 +80,8 @@ def assemble(cfg: BalanceConfig, summaries: dict, *, month: str | None = None) -
                                 f"meter '{first.name}''s ({gd0.get('start_hour')}:00 {gd0.get('timezone')})", file=file,
                                 hint="a balance adds meters over one gas day: set gas_day_start and timezone alike "
                                      "in their site.toml")
-        have = {d["gas_day"] for d in s.get("gas_days") or [] if d.get("volume_base") is not None}
+        have = {d["gas_day"] for d in s.get("gas_days") or []
+                if d.get("volume_base_m3", d.get("volume_base")) is not None}
         missing = [d for d in days if d not in have]
         if len(missing) == len(days):
             raise SettingsError(f"meter '{e.name}' has no result for gas month {mo}", file=file,

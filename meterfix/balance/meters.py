@@ -68,11 +68,14 @@ def meter_month(summary: dict, *, name: str, role: str, gas_days: list, correlat
     udays = {d["gas_day"]: d for d in unc.get("gas_days") or []}
     D = len(gas_days)
 
-    def col(table, key):
-        return np.array([np.nan if (table.get(g) or {}).get(key) is None else float(table[g][key]) for g in gas_days])
+    def col(table, *keys):  # the first key present: summaries before the one-name rename used the bare names
+        def one(row):
+            v = next((row[k] for k in keys if row.get(k) is not None), None)
+            return np.nan if v is None else float(v)
+        return np.array([one(table.get(g) or {}) for g in gas_days])
 
-    vol = col(days, "volume_base")
-    en = col(days, "energy")
+    vol = col(days, "volume_base_m3", "volume_base")
+    en = col(days, "energy_J", "energy")
     ur = col(udays, "random_standard_uncertainty_m3")
     ure = col(udays, "random_standard_uncertainty_J")
     us = float(unc["systematic_standard_uncertainty_pct"]) / 100.0
