@@ -147,6 +147,11 @@ def run_balance(balance_file, out, *, month=None, workers=1, scheduler=None, sto
     from ..writers.outset import check_output_folder
 
     month = _month_option(month)
+    options = dict(options or {})
+    from ..engine.settings_table import options_for
+
+    if (month or None) and any(s.name == "month" for s in options_for("balance")):
+        options["month"] = month   # once the month run selects one gas month (issue 21), every meter runs that one
     if store and from_store:
         raise SettingsError("--store and --from-store go separately", hint="--from-store reads closed months; "
                             "--store runs and closes them")
