@@ -4,7 +4,7 @@
 # quick run mean nothing, run a benchmark without --quick for those (DEVELOPERS.md).
 set -euo pipefail
 cd "$(dirname "$0")/.."
-for b in bench_z bench_read bench_generalized bench_uncertainty bench_workbook bench_month bench_correct bench_fleet; do
+for b in bench_z bench_read bench_generalized bench_uncertainty bench_workbook bench_month bench_correct bench_fleet bench_balance; do
     echo "== benchmarks/$b.py --quick"
     python "benchmarks/$b.py" --quick
 done
