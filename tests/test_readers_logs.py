@@ -212,13 +212,17 @@ def test_time_going_backwards_and_unreadable_time():
     assert f["flag_unparseable"].tolist() == [False, False, False, True]
 
 
-def test_unreadable_time_placed_between_regular_neighbours():
+def test_unreadable_time_never_placed_by_guess():
+    # a row whose time cannot be read is left out and recorded (never placed between its neighbours:
+    # a value enters a total only when its interval is known); the next row carries the flag and the
+    # quality step sees the missing 08:00 interval (no result there, counted)
     text = ("Interval end,P [bar(g)],T [degC],Volume [m3]\n2026-10-01 06:00,1,10,5\n2026-10-01 07:00,1,10,5\n"
             "31/02/2026 25:61,1,10,6\n2026-10-01 09:00,1,10,5\n2026-10-01 10:00,1,10,5\n")
     f, m = parse_log(io.BytesIO(text.encode()), name="b.csv")
-    assert list(f.index.hour) == [6, 7, 8, 9, 10] and f["volume_line"].tolist() == [5, 5, 6, 5, 5]
-    assert f["flag_unparseable"].tolist() == [False, False, True, False, False] and m.dropped_rows == []
-    assert m.unparseable[0]["row"] == 4 and m.unparseable[0]["column"] == "Interval end"
+    assert list(f.index.hour) == [6, 7, 9, 10] and f["volume_line"].tolist() == [5, 5, 5, 5]
+    assert f["flag_unparseable"].tolist() == [False, False, True, False]
+    assert m.dropped_rows == [{"file": "b.csv", "sheet": None, "row": 4, "reason": "the time cannot be read",
+                               "value": "31/02/2026 25:61"}]
 
 
 def test_nonexistent_spring_hour_dropped_with_reason():

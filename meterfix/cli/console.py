@@ -119,6 +119,11 @@ def _print_reading(result) -> None:
     if oi is not None and "index" in vf:
         typer.echo(f"  opening index        {oi:,.6g} m3 (the reading that opens the log; "
                    "--opening-index sets the one before the first row)")
+    dropped = getattr(meta, "dropped_rows", None) or []
+    if dropped:
+        first = "; ".join(f"{d.get('file')} row {d.get('row')} '{d.get('value')}' ({d.get('reason')})" for d in dropped[:3])
+        typer.echo(f"  rows left out        {len(dropped)} (their intervals have no result): {first}"
+                   + (" ..." if len(dropped) > 3 else ""))
     for note in (getattr(meta, "notes", None) or [])[:12]:
         typer.echo(f"  reader: {note}")
     extra = len(getattr(meta, "notes", None) or []) - 12
