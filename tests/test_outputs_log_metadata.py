@@ -36,8 +36,9 @@ def _lines(path):
         return list(enumerate(csv.reader(fh), start=1))
 
 
-def _run(logs, tmp_path, **options):
+def _run(logs, tmp_path, overlap=None, **options):
     s = build_settings(None, {**OPTIONS, **options})
+    s.overlap = overlap
     result = run_files(logs, s, gas=GAS, uncertainty=False)
     written = write_outputs(result, tmp_path / "out")
     summary = json.loads(written["summary"].read_text(encoding="utf-8"))
@@ -147,7 +148,7 @@ def test_edits_csv_holds_the_result_edit_record(faults):
 
 def test_joined_files_report_the_differing_duplicate_where_it_is(tmp_path):
     parts = [LOGS / f"fv_m1_part{k}.csv" for k in (1, 2, 3)]
-    _, written, d = _run(parts, tmp_path)
+    _, written, d = _run(parts, tmp_path, overlap="earlier")
     rows = {}  # time → [(file, line, values)] from the files themselves
     for p in parts:
         lines = _lines(p)

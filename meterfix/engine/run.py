@@ -75,6 +75,7 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
         column_map=settings.column_map or None, register_digits=settings.register_digits,
         sheet=getattr(settings, "sheet", None), opening_index=getattr(settings, "opening_index", None),
         timezone_given=(settings.sources or {}).get("timezone", "default") != "default",
+        overlap=getattr(settings, "overlap", None),
     )
     step(f"checking data quality of {len(frame):,} intervals", 0.3)
     frame, edits = quality.apply_quality(frame, policy=settings.substitution,

@@ -148,7 +148,7 @@ def _known_text(cell: str) -> bool:
 
 def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", column_map=None,
              register_digits: int | None = None, sheet=None, limits: Limits = DEFAULT_LIMITS,
-             opening_index: float | None = None, timezone_given: bool = True):
+             opening_index: float | None = None, timezone_given: bool = True, overlap: str | None = None):
     """Read one meter's log from one or several files.
 
     Parameters
@@ -165,6 +165,9 @@ def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", colum
                                     the first reading then closes an interval (index logs)
     timezone_given : bool           False when the user gave no time zone: a local clock whose
                                     stamps repeat or skip an hour (a clock change) is refused
+    overlap : {None, 'later', 'earlier'}  files that overlap with different values: refused
+                                    (None, the default), or the later / earlier file's rows kept
+                                    (by the order of ``paths``); identical overlaps are dropped
 
     Returns
     -------
@@ -187,7 +190,8 @@ def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", colum
         with open(p, "rb") as fh:
             tables.append(parse_table(fh, name=str(p), suffix=p.suffix, sheet=sheet, header_score=_score,
                                       prefer=("log",), limits=limits))
-    return _assemble(tables, timezone, interval_label, column_map, register_digits, opening_index, timezone_given)
+    return _assemble(tables, timezone, interval_label, column_map, register_digits, opening_index, timezone_given,
+                     overlap)
 
 
 def parse_log(fileobj, *, name: str = "<log>", timezone: str = "UTC", interval_label: str = "end",
@@ -584,9 +588,13 @@ def _stray_times(utc: np.ndarray, bad: np.ndarray) -> np.ndarray:
 
 
 def _assemble(tables, timezone, interval_label, column_map, register_digits, opening_index=None,
-              timezone_given=True):
+              timezone_given=True, overlap=None):
     if interval_label not in ("end", "start"):
         raise SettingsError(f"interval label '{interval_label}' is not 'end' or 'start'")
+    if overlap not in (None, "later", "earlier"):
+        raise SettingsError(f"overlap '{overlap}' is not 'later' or 'earlier'",
+                            hint="--overlap later keeps the later file's rows where files overlap, "
+                                 "--overlap earlier the earlier file's (by the order of the files given)")
     try:
         from zoneinfo import ZoneInfo
 
@@ -622,7 +630,7 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits, ope
             raise SettingsError("column map names header(s) not found in any log file: " + ", ".join(unknown),
                                 hint="headers found: " + ", ".join(dict.fromkeys(str(h) for t in tables for h in t.header if str(h).strip())))
     return join_parts(parts, tables, meta, interval_label, column_map, register_digits,
-                      opening_index=opening_index, timezone_given=timezone_given)
+                      opening_index=opening_index, timezone_given=timezone_given, overlap=overlap)
 
 
 def file_sha256(path) -> str:
