@@ -517,9 +517,10 @@ def _drop_summary_rows(t: RawTable, c: dict, tcol, meta: LogMetadata) -> RawTabl
             v, _, _ = to_numbers(t.cells[c["volume_line"].index].to_numpy()[keep], t.decimal)
             last, rest = v[-1], v[:-1]
             if np.isfinite(last) and np.isfinite(rest).all() and last != 0:
-                tot = float(np.sum(rest))
-                if abs(last - tot) <= 1e-9 * max(abs(tot), 1e-300) or abs(last - tot) < 0.05 * 10 ** -_decimals(
-                        t.cells[c["volume_line"].index].iat[keep[-1]]):
+                with np.errstate(over="ignore", invalid="ignore"):
+                    tot = float(np.sum(rest))  # may overflow to inf on absurd cells: then no match
+                if np.isfinite(tot) and (abs(last - tot) <= 1e-9 * max(abs(tot), 1e-300) or abs(last - tot) < 0.05 * 10 ** -_decimals(
+                        t.cells[c["volume_line"].index].iat[keep[-1]])):
                     drop[keep[-1]] = True
                     why[keep[-1]] = "summary row (its volume is the sum of all the rows above)"
     if not drop.any():

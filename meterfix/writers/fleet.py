@@ -229,7 +229,7 @@ def write_fleet_outputs(rows, out_dir, *, overwrite: bool = False, run: dict | N
     if pq is not None:
         written["parquet"] = write_bytes(targets["parquet"], pq, overwrite=overwrite)
     written["workbook"] = write_bytes(targets["workbook"], xlsx, overwrite=overwrite)
-    written["json"] = write_text(targets["json"], json.dumps(_clean(doc), indent=2, sort_keys=True) + "\n",
+    written["json"] = write_text(targets["json"], json.dumps(_clean(doc), indent=2, sort_keys=True, allow_nan=False) + "\n",
                                  overwrite=overwrite)
     return written
 

@@ -18,8 +18,16 @@ CAUTION = (
 )
 
 
+def json_safe(obj):
+    """JSON-safe, deterministic: NaN/inf → None, numpy scalars → Python, sorted dict keys later.
+
+    Every JSON output of meterfix goes through this (and ``json.dumps(..., allow_nan=False)``):
+    JSON has no NaN or Infinity, so a value that is not a finite number is written as null.
+    """
+    return _clean(obj)
+
+
 def _clean(obj):
-    """JSON-safe, deterministic: NaN/inf → None, numpy scalars → Python, sorted dict keys later."""
     if isinstance(obj, dict):
         return {str(k): _clean(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
@@ -104,4 +112,4 @@ def build_summary(result) -> dict:
 def summary_json(result_or_summary) -> str:
     """Deterministic JSON text (sorted keys, fixed float repr)."""
     d = result_or_summary if isinstance(result_or_summary, dict) else build_summary(result_or_summary)
-    return json.dumps(_clean(d), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+    return json.dumps(_clean(d), indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
