@@ -169,6 +169,13 @@ def print_summary(result, written: dict) -> None:
     typer.echo(f"  base conditions      {du.text('pressure', s.pressure_base)} (absolute), "
                f"{du.text('temperature', s.temperature_base)}" + (f"   ({s.base_preset})" if s.base_preset else ""))
     _print_reading(result)
+    gm = getattr(result, "gas_month", None)
+    if gm:
+        typer.echo(f"  gas month            {gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
+                   f"logged ({gm['coverage_pct']:.4g} %)"
+                   + (f"; left out: {gm['intervals_before_month']} interval(s) before, "
+                      f"{gm['intervals_after_month']} after" if gm['intervals_before_month'] or gm['intervals_after_month']
+                      else ""))
     typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
     typer.echo(f"  uncorrected volume   {vol(t['uncorrected_volume_m3'])}")
     typer.echo(f"  base volume (real)   {vol(t['base_volume_m3'])}")

@@ -83,6 +83,9 @@ class MonthResult:
     history : DataFrame or None  the meter's stored months (meterfix.store fills it when a store is
                                used; one row per month and version, newest last, SI with units in
                                the column names)
+    gas_month : dict or None   the gas month of the run (GasMonthSelection.record(): bounds, hours
+                               in the month on the site's clock, hours logged, coverage, intervals
+                               left out before and after); None when the log spans several months
     """
 
     settings: Settings
@@ -104,6 +107,7 @@ class MonthResult:
     reconciliation: object = None
     corrector_check: object = None
     history: object = None
+    gas_month: dict | None = None  # the gas month closed and its coverage (engine.gas_month), or None
 
 
 # ---------------------------------------------------------------------------------------------

@@ -62,7 +62,7 @@ def closing_month(result) -> str:
     if len(order) > 1 and hours[order[1]] > 72.0:
         others = ", ".join(str(months.index[i]) for i in order[1:])
         raise StoreError(f"the log covers more than one gas month ({main} and {others}): a closing is one "
-                         "gas month", hint="give the logs of one gas month at a time")
+                         "gas month", hint=f"close one gas month with --month {main} (or the site key month)")
     return main
 
 

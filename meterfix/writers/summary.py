@@ -79,6 +79,9 @@ def build_summary(result) -> dict:
                             "preset": s.base_preset},
         "combustion_reference_temperature_K": s.temperature_combustion,
         "totals": t,
+        # the gas month of the run: bounds [UTC], hours in it on the site's clock, hours logged,
+        # coverage [%], intervals left out before and after (null when the log spans several months)
+        "gas_month": getattr(result, "gas_month", None),
         "average_correction": result.average_correction,
         "analyses": [{"effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,
                       "heating_value_J_per_m3": a.heating_value, "heating_value_source": a.heating_value_source,
