@@ -41,7 +41,7 @@ def _engine_hours(zone: str, start_hour: int, first_utc: dt.datetime, n: int, st
     ends = pd.date_range(pd.Timestamp(first_utc) + pd.Timedelta(minutes=step_min), periods=n,
                          freq=f"{step_min}min", tz="UTC")
     days, codes = _gas_day(ends, np.full(n, 60.0 * step_min),
-                           SimpleNamespace(timezone=zone, gas_day_start_hour=start_hour))
+                           SimpleNamespace(timezone=zone, gas_day_start=start_hour))
     out = Counter()
     for c in codes:
         out[days[c]] += step_min / 60

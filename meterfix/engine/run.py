@@ -75,7 +75,7 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
     step(f"reading {len(paths)} log file(s)", 0.05)
     frame, meta = read_log(
         paths, timezone=settings.timezone, interval_label=settings.interval_label,
-        column_map=settings.column_map or None, register_digits=settings.register_digits,
+        column_map=settings.columns or None, register_digits=settings.register_digits,
         sheet=getattr(settings, "sheet", None), opening_index=getattr(settings, "opening_index", None),
         timezone_given=(settings.sources or {}).get("timezone", "default") != "default",
         overlap=getattr(settings, "overlap", None),
@@ -116,7 +116,7 @@ def _one_gas_month(frame, edits, settings: Settings):
     month = getattr(settings, "month", None)
     if not month:
         return frame, edits, None
-    sel = select_gas_month(frame, month, timezone=settings.timezone, gas_day_start_hour=settings.gas_day_start_hour,
+    sel = select_gas_month(frame, month, timezone=settings.timezone, gas_day_start_hour=settings.gas_day_start,
                            interval_label=settings.interval_label)
     if not len(sel.frame):
         first, last = frame.index[0].tz_convert(settings.timezone), frame.index[-1].tz_convert(settings.timezone)
@@ -140,7 +140,7 @@ def _gas_month_notes(result, frame, selection, settings: Settings) -> None:
     if selection is None and len(months) == 1:
         try:
             selection = select_gas_month(frame, months[0], timezone=settings.timezone,
-                                         gas_day_start_hour=settings.gas_day_start_hour)
+                                         gas_day_start_hour=settings.gas_day_start)
         except InputError:
             selection = None  # an interval crosses the month's bound: no coverage to state
     if selection is not None:
@@ -155,10 +155,10 @@ def _gas_month_notes(result, frame, selection, settings: Settings) -> None:
         result.warnings.append(
             f"the log touches {len(months)} gas months ({', '.join(months)}): the outputs are named "
             f"{months[0]}_to_{months[-1]}; close one gas month with --month {main} (or the site key month)")
-    if likely_midnight_mislabel(frame, settings.timezone, settings.gas_day_start_hour, settings.interval_label):
+    if likely_midnight_mislabel(frame, settings.timezone, settings.gas_day_start, settings.interval_label):
         result.warnings.append(
             f"daily rows stamped at 00:00 are read as interval ends while the gas day starts at "
-            f"{settings.gas_day_start_hour:02d}:00: each row straddles two gas days (likely mislabelled); if the rows "
+            f"{settings.gas_day_start:02d}:00: each row straddles two gas days (likely mislabelled); if the rows "
             "are calendar days give --gas-day-start 00:00, if each stamp starts a gas day give --interval-label start")
 
 
