@@ -44,8 +44,7 @@ def test_june_exactly_from_a_log_of_25_may_to_2_july(tmp_path):
     log, n = _long_log(tmp_path / "long.csv")
     assert n == 912
     s = build_settings(None, {"base": "normal-0c", "timezone": "Europe/Berlin", "gas_day_start": "06:00",
-                              "method": "ideal"})
-    s.month = "2026-06"
+                              "method": "ideal", "month": "2026-06"})
     r = read_month([log], s)
     # June gas month: ends 1 June 07:00 CEST .. 1 July 06:00 CEST = 720 intervals; before it the ends
     # 25 May 01:00 .. 1 June 06:00 (7 x 24 + 6 = 174), after it 1 July 07:00 .. 2 July 00:00 (18)
@@ -80,8 +79,7 @@ def test_a_month_with_missing_hours_states_its_coverage(tmp_path):
     kept = [ln for ln in lines if not (ln.startswith("2026-06-10 ") and ln[11:13] != "00" or ln.startswith("2026-06-11 00"))]
     log.write_text("\n".join(kept) + "\n")
     s = build_settings(None, {"base": "normal-0c", "timezone": "Europe/Berlin", "gas_day_start": "06:00",
-                              "method": "ideal"})
-    s.month = "2026-06"
+                              "method": "ideal", "month": "2026-06"})
     r = read_month([log], s)
     assert r.gas_month["hours_logged"] == 696 and r.gas_month["hours_in_month"] == 720
     assert r.totals["uncorrected_volume_m3"] == pytest.approx(69600.0)
@@ -115,7 +113,39 @@ def test_daily_log_at_midnight_with_a_six_oclock_gas_day_straddles_and_is_refuse
 def test_select_is_pure_and_counts(tmp_path):
     idx = pd.date_range("2026-06-30 20:00", periods=12, freq="h", tz="UTC")
     f = pd.DataFrame({"volume_line": 1.0, "duration": 3600.0}, index=idx)
-    sel = select_gas_month(f, "2026-06", timezone="UTC", gas_day_start_hour=6)
+    sel = select_gas_month(f, "2026-06", timezone="UTC", gas_day_start=6)
     # June (UTC, 06:00 gas day) ends 1 July 06:00: ends 20:00 .. 06:00 kept (11), 07:00 after
     assert len(sel.frame) == 11 and sel.intervals_after == 1 and sel.intervals_before == 0
     assert len(f) == 12  # input untouched
+
+
+def test_cli_month_closes_june_exactly_into_the_store(tmp_path):
+    import json
+    import sqlite3
+
+    from typer.testing import CliRunner
+
+    from meterfix.cli import app
+
+    log, _ = _long_log(tmp_path / "long.csv")
+    store = tmp_path / "months.sqlite"
+    site = tmp_path / "site.toml"
+    site.write_text('meter = "GM-1"\nmonth = "2026-06"\ntimezone = "Europe/Berlin"\ngas_day_start = "06:00"\n'
+                    'base = "101.325kPa-0C"\nmethod = "ideal"\n')
+    r = CliRunner().invoke(app, ["correct", str(log), "--site", str(site), "--out", str(tmp_path / "out"),
+                                 "--store", str(store)])
+    assert r.exit_code == 0, r.output
+    assert "gas month            2026-06: 720 of 720 hours logged (100 %); left out: 174 interval(s) before, 18 after" \
+        in r.output
+    names = sorted(p.name for p in (tmp_path / "out").iterdir())
+    assert "GM-1_2026-06_summary.json" in names and not any("_to_" in n for n in names)
+    s = json.loads((tmp_path / "out" / "GM-1_2026-06_summary.json").read_text())
+    assert s["totals"]["uncorrected_volume_m3"] == pytest.approx(72000.0, rel=1e-12)
+    assert s["gas_month"]["coverage_pct"] == 100.0 and s["gas_month"]["hours_in_month"] == 720
+    with sqlite3.connect(store) as c:
+        month, n, vl = c.execute("SELECT month, intervals, uncorrected_volume_m3 FROM mf_closings").fetchone()
+    assert (month, n) == ("2026-06", 720) and vl == pytest.approx(72000.0, rel=1e-12)
+    # the option wins over the site key; a month outside the log is refused in one line
+    r = CliRunner().invoke(app, ["correct", str(log), "--site", str(site), "--month", "2026-09",
+                                 "--out", str(tmp_path / "o9")])
+    assert r.exit_code == 2 and "no interval in gas month 2026-09" in r.output

@@ -36,9 +36,8 @@ def _lines(path):
         return list(enumerate(csv.reader(fh), start=1))
 
 
-def _run(logs, tmp_path, overlap=None, **options):
+def _run(logs, tmp_path, **options):
     s = build_settings(None, {**OPTIONS, **options})
-    s.overlap = overlap
     result = run_files(logs, s, gas=GAS, uncertainty=False)
     written = write_outputs(result, tmp_path / "out")
     summary = json.loads(written["summary"].read_text(encoding="utf-8"))

@@ -48,3 +48,30 @@ def test_overlap_choice_keeps_that_files_rows(tmp_path, choice, total):
     assert len(m.duplicates) == 3 and f["flag_duplicate"].sum() == 3
     kept = {d["kept"].split()[0] for d in m.duplicates}
     assert kept == {"b.csv" if choice == "later" else "a.csv"}
+
+
+def test_cli_refuses_then_records_the_choice_in_manifest_and_store(tmp_path):
+    import json
+    import sqlite3
+
+    from typer.testing import CliRunner
+
+    from meterfix.cli import app
+
+    a = _write(tmp_path / "a.csv", range(1, 13), lambda h: 100)
+    b = _write(tmp_path / "b.csv", range(9, 19), lambda h: 101 if 10 <= h <= 12 else 100)
+    args = ["correct", str(a), str(b), "--gas", "methane=0.95,ethane=0.03,nitrogen=0.02", "--base", "101.325kPa-0C",
+            "--elevation", "100 m", "--timezone", "Europe/Berlin", "--quiet"]
+    r = CliRunner().invoke(app, [*args, "--out", str(tmp_path / "o1")])
+    assert r.exit_code == 2 and "a.csv row 11 and b.csv row 3" in r.output and "--overlap later" in r.output
+    assert not (tmp_path / "o1").exists() or not any((tmp_path / "o1").iterdir())
+    store = tmp_path / "s.sqlite"
+    r = CliRunner().invoke(app, [*args, "--out", str(tmp_path / "o2"), "--overlap", "later", "--store", str(store)])
+    assert r.exit_code == 0, r.output
+    summary = json.loads(next((tmp_path / "o2").glob("*_summary.json")).read_text())
+    assert summary["totals"]["uncorrected_volume_m3"] == pytest.approx(1803.0)
+    man = json.loads(next((tmp_path / "o2").glob("*_manifest.json")).read_text())
+    assert "later" in json.dumps(man) and '"overlap"' in json.dumps(man)
+    with sqlite3.connect(store) as c:
+        settings = json.loads(c.execute("SELECT settings_json FROM mf_closings").fetchone()[0])
+    assert settings["overlap"] == "later"

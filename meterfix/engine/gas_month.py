@@ -34,19 +34,19 @@ def parse_month(text) -> tuple[int, int]:
     return int(m.group(1)), int(m.group(2))
 
 
-def _gas_day_begin(day: _dt.date, timezone: str, gas_day_start_hour: int) -> pd.Timestamp:
+def _gas_day_begin(day: _dt.date, timezone: str, gas_day_start: int) -> pd.Timestamp:
     """UTC instant the gas day ``day`` begins: the gas-day start on that date on the site's clock
     (a start the spring change skips is taken at the first wall time after it)."""
-    t = pd.Timestamp(_dt.datetime(day.year, day.month, day.day, int(gas_day_start_hour)))
+    t = pd.Timestamp(_dt.datetime(day.year, day.month, day.day, int(gas_day_start)))
     return t.tz_localize(timezone, ambiguous=True, nonexistent="shift_forward").tz_convert("UTC")
 
 
-def gas_month_bounds(month: str, timezone: str, gas_day_start_hour: int) -> tuple[pd.Timestamp, pd.Timestamp]:
+def gas_month_bounds(month: str, timezone: str, gas_day_start: int) -> tuple[pd.Timestamp, pd.Timestamp]:
     """(start, end) of a gas month [UTC]: its first gas day's begin and the next month's."""
     y, m = parse_month(month)
     first = _dt.date(y, m, 1)
     nxt = _dt.date(y + (m == 12), m % 12 + 1, 1)
-    return _gas_day_begin(first, timezone, gas_day_start_hour), _gas_day_begin(nxt, timezone, gas_day_start_hour)
+    return _gas_day_begin(first, timezone, gas_day_start), _gas_day_begin(nxt, timezone, gas_day_start)
 
 
 @dataclass
@@ -92,7 +92,7 @@ def logged_mask(frame: pd.DataFrame) -> np.ndarray:
     return np.isfinite(frame[col].to_numpy(float))
 
 
-def select_gas_month(frame: pd.DataFrame, month: str, *, timezone: str, gas_day_start_hour: int,
+def select_gas_month(frame: pd.DataFrame, month: str, *, timezone: str, gas_day_start: int,
                      interval_label: str = "end") -> GasMonthSelection:
     """The intervals of one gas month.
 
@@ -102,7 +102,7 @@ def select_gas_month(frame: pd.DataFrame, month: str, *, timezone: str, gas_day_
                                 ``duration`` [s] (a row without one is an instant at its end)
     month : str                 'YYYY-MM'
     timezone : str              IANA zone of the site's clock
-    gas_day_start_hour : int    local hour the gas day starts
+    gas_day_start : int    local hour the gas day starts
     interval_label : str        how the log was read ('end' or 'start'): named in the refusal
 
     Returns
@@ -116,7 +116,7 @@ def select_gas_month(frame: pd.DataFrame, month: str, *, timezone: str, gas_day_
         message names it and, for a daily log stamped at midnight with a gas day that does not
         start at midnight, says so and gives the fix.
     """
-    start, end = gas_month_bounds(month, timezone, gas_day_start_hour)
+    start, end = gas_month_bounds(month, timezone, gas_day_start)
     t_end = pd.DatetimeIndex(frame.index).as_unit("ns").asi8
     dur = frame["duration"].to_numpy(float) if "duration" in frame.columns else np.zeros(len(frame))
     t_start = t_end - np.round(np.nan_to_num(dur, nan=0.0) * 1e9).astype(np.int64)
@@ -135,8 +135,8 @@ def select_gas_month(frame: pd.DataFrame, month: str, *, timezone: str, gas_day_
                 f"({bound.tz_convert(timezone):%Y-%m-%d %H:%M}): its volume belongs to two gas months")
         hint = ("give logs whose intervals end on the gas-day boundaries, or check --gas-day-start and "
                 "--interval-label")
-        if dur[i] >= 86_400 - 3_600 and e_loc.hour == 0 and e_loc.minute == 0 and gas_day_start_hour != 0:
-            text += (f"; a daily log stamped at 00:00 with a gas day starting {gas_day_start_hour:02d}:00 "
+        if dur[i] >= 86_400 - 3_600 and e_loc.hour == 0 and e_loc.minute == 0 and gas_day_start != 0:
+            text += (f"; a daily log stamped at 00:00 with a gas day starting {gas_day_start:02d}:00 "
                      "straddles every gas day")
             hint = ("if the rows are calendar days, give --gas-day-start 00:00; if each stamp is the start of a "
                     "gas day, give --interval-label start" + (" (read now as the end)" if interval_label == "end" else ""))
@@ -150,11 +150,11 @@ def select_gas_month(frame: pd.DataFrame, month: str, *, timezone: str, gas_day_
                              intervals_after=int(after.sum()))
 
 
-def likely_midnight_mislabel(frame: pd.DataFrame, timezone: str, gas_day_start_hour: int,
+def likely_midnight_mislabel(frame: pd.DataFrame, timezone: str, gas_day_start: int,
                              interval_label: str) -> bool:
     """A daily log whose stamps fall on local midnight, read as interval ends, with a gas day that
     starts at another hour: each row then straddles two gas days (a likely mislabel)."""
-    if interval_label != "end" or gas_day_start_hour == 0 or not len(frame) or "duration" not in frame.columns:
+    if interval_label != "end" or gas_day_start == 0 or not len(frame) or "duration" not in frame.columns:
         return False
     dur = frame["duration"].to_numpy(float)
     if not np.isfinite(dur).any() or float(np.nanmedian(dur)) < 86_400 - 3_600:

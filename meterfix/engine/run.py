@@ -116,7 +116,7 @@ def _one_gas_month(frame, edits, settings: Settings):
     month = getattr(settings, "month", None)
     if not month:
         return frame, edits, None
-    sel = select_gas_month(frame, month, timezone=settings.timezone, gas_day_start_hour=settings.gas_day_start,
+    sel = select_gas_month(frame, month, timezone=settings.timezone, gas_day_start=settings.gas_day_start,
                            interval_label=settings.interval_label)
     if not len(sel.frame):
         first, last = frame.index[0].tz_convert(settings.timezone), frame.index[-1].tz_convert(settings.timezone)
@@ -140,7 +140,7 @@ def _gas_month_notes(result, frame, selection, settings: Settings) -> None:
     if selection is None and len(months) == 1:
         try:
             selection = select_gas_month(frame, months[0], timezone=settings.timezone,
-                                         gas_day_start_hour=settings.gas_day_start)
+                                         gas_day_start=settings.gas_day_start)
         except InputError:
             selection = None  # an interval crosses the month's bound: no coverage to state
     if selection is not None:
