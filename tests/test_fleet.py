@@ -262,3 +262,17 @@ def test_fleet_totals_group_by_base_month_and_energy_reference():
     assert [(x["meter_folders"], x["base_volume_m3"]) for x in g] == [
         (["a", "b"], 150.0), (["c"], 7.0), (["d"], 3.0), (["e"], 1.0)]
     assert g[0]["energy_MJ"] == 20.0 and g[0]["gas_month"] == "2026-10"
+
+
+def test_fleet_month_option_closes_that_gas_month_for_every_meter(tmp_path):
+    root = _fleet(tmp_path, with_bad=False)
+    out = tmp_path / "out"
+    r = CliRunner().invoke(app, ["fleet", str(root), "--out", str(out), "--month", "2026-10", "--quiet"])
+    assert r.exit_code == 0, r.output
+    rows = {row["meter_folder"]: row for row in json.loads((out / "fleet_summary.json").read_text())}
+    assert {k: v["gas_month"] for k, v in rows.items()} == {"fv-m1": "2026-10", "heron-fen-m4": "2026-10"}
+    fv = json.loads(next((out / "FV-M1").glob("*_summary.json")).read_text())
+    # the demo month: 1 Oct 06:00 CEST to 1 Nov 06:00 CET on the Berlin clock, 745 hours; the logger lost
+    # six of them (13 Oct, fixtures/make_demo.py), which substitution fills: 739 hours logged
+    assert fv["gas_month"]["hours_in_month"] == 745 and fv["gas_month"]["hours_logged"] == 739
+    assert any("covers 739 of the 745 hours" in w for w in fv["warnings"])

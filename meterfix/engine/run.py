@@ -146,9 +146,20 @@ def _gas_month_notes(result, frame, selection, settings: Settings) -> None:
     if selection is not None:
         result.gas_month = selection.record()
         if selection.hours_logged < selection.hours_in_month - 1e-9:
+            from .gas_month import logged_mask
+
+            iv = result.intervals
+            dur = np.nan_to_num(iv["duration"].to_numpy(float)) / 3600.0
+            not_logged = ~logged_mask(frame)
+            est = not_logged & iv["estimated"].to_numpy(bool)
+            none = not_logged & ~np.isfinite(iv["volume_base"].to_numpy(float))
+            absent = selection.hours_in_month - float(dur.sum())
+            parts = [f"{float(dur[est].sum()):g} h substituted (estimated)" if est.any() else "",
+                     f"{float(dur[none].sum()):g} h without a result" if none.any() else "",
+                     f"{absent:g} h not in the log" if absent > 1e-9 else ""]
             result.warnings.append(
                 f"the log covers {selection.hours_logged:g} of the {selection.hours_in_month:g} hours of gas month "
-                f"{selection.month} ({selection.coverage_pct:.4g} %): the totals are of the logged hours only")
+                f"{selection.month} ({selection.coverage_pct:.4g} %): " + ", ".join(p for p in parts if p))
     elif len(months) > 1:
         hours = result.months["hours"].to_numpy(float)
         main = months[int(np.argmax(hours))]
