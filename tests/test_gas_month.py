@@ -145,6 +145,14 @@ def test_cli_month_closes_june_exactly_into_the_store(tmp_path):
     with sqlite3.connect(store) as c:
         month, n, vl = c.execute("SELECT month, intervals, uncorrected_volume_m3 FROM mf_closings").fetchone()
     assert (month, n) == ("2026-06", 720) and vl == pytest.approx(72000.0, rel=1e-12)
+    # the next month from the same log: a closing of its own; the selected month is not a change of the
+    # meter's configuration (the store's configuration log stays empty)
+    r = CliRunner().invoke(app, ["correct", str(log), "--site", str(site), "--month", "2026-07",
+                                 "--out", str(tmp_path / "o7"), "--store", str(store), "--quiet"])
+    assert r.exit_code == 0, r.output
+    with sqlite3.connect(store) as c:
+        assert [m for (m,) in c.execute("SELECT month FROM mf_closings ORDER BY month")] == ["2026-06", "2026-07"]
+        assert c.execute("SELECT COUNT(*) FROM mf_config_log WHERE setting = 'month'").fetchone()[0] == 0
     # the option wins over the site key; a month outside the log is refused in one line
     r = CliRunner().invoke(app, ["correct", str(log), "--site", str(site), "--month", "2026-09",
                                  "--out", str(tmp_path / "o9")])

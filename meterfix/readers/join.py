@@ -32,6 +32,10 @@ VOLUME_CHECK_SUM_REL = 0.01
 #: (flow rates are often instantaneous samples, so rows are not compared one by one)
 FLOW_CHECK_REL = 0.05
 _MAX_RECORDED = 1000
+#: SI unit of each numeric canonical column (for messages)
+_SI_UNITS = {"pressure_gauge": "Pa", "pressure_line": "Pa", "pressure_atm": "Pa", "temperature_line": "K",
+             "volume_line": "m3", "volume_index": "m3", "flow_rate": "m3/s", "volume_corrected_site": "m3",
+             "volume_corrected_site_index": "m3", "duration": "s"}
 
 
 def join_parts(parts, tables, meta, interval_label, column_map, register_digits, opening_index=None,
@@ -312,7 +316,8 @@ def _dedupe(df: dict, meta, overlap=None) -> dict:
             raise InputError(
                 f"the files overlap with different values in {int(across.sum())} interval(s): first "
                 f"{files[src[a]]} row {df['source_row'][a]} and {files[src[b]]} row {df['source_row'][b]}, both the "
-                f"interval ending {pd.Timestamp(int(t[i]), tz='UTC').isoformat()} ({c0} {va:.9g} vs {vb:.9g} in SI)",
+                f"interval ending {pd.Timestamp(int(t[i]), tz='UTC').isoformat()} ({c0} {va:.9g} vs {vb:.9g} "
+                f"{_SI_UNITS.get(c0, '(SI)')})",
                 file=files[src[a]], row=int(df["source_row"][a]),
                 hint="say which export wins: --overlap later keeps the later file's rows (a re-export with "
                      "corrected values), --overlap earlier the earlier file's (by the order the files are given)")
