@@ -10,6 +10,7 @@ from __future__ import annotations
 import io
 import json
 
+import numpy as np
 import pandas as pd
 import pytest
 from typer.testing import CliRunner
@@ -116,7 +117,7 @@ def test_hour_ending_over_the_november_change():
     rows2 = _he_rows("2026-10-31", range(1, 25)) + _he_rows("2026-11-01", range(1, 26)) + _he_rows("2026-11-02", [1])
     f2, m2 = parse_log(io.BytesIO(_log(rows2, HE_HEADER)), name="n.csv", timezone="America/Chicago")
     assert list(f2.index) == list(f.index)
-    assert any("counts to 25" in n for n in m2.notes)
+    assert any("counts the hours of the clock-change days" in n for n in m2.notes)
     # HE 24 of 1 November ends at midnight CST = 2 November 06:00 UTC
     assert f.index[-2] == pd.Timestamp("2026-11-02 06:00", tz="UTC")
 
@@ -143,3 +144,20 @@ def test_absurd_volumes_give_no_library_warning_and_keep_the_last_row(tmp_path):
     s = json.loads((tmp_path / "s.json").read_text())
     # 23 rows, 21 readable volumes of 100 m3; the two absurd cells have no result
     assert s["totals"]["intervals"] == 23 and s["totals"]["uncorrected_volume_m3"] == pytest.approx(2100.0)
+
+
+def test_hour_ending_over_the_march_change():
+    # 8 March 2026 has 23 hours in Chicago (02:00 CST -> 03:00 CDT). Written on the clock, HE 3 does not
+    # exist (its start, 02:00, is skipped): 1, 2, 4 ... 24; counted from midnight: 1 ... 23. Same instants.
+    clock = _he_rows("2026-03-07", range(1, 25)) + _he_rows("2026-03-08", [1, 2] + list(range(4, 25)))
+    f, m = parse_log(io.BytesIO(_log(clock, HE_HEADER)), name="c.csv", timezone="America/Chicago")
+    counted = _he_rows("2026-03-07", range(1, 25)) + _he_rows("2026-03-08", range(1, 24))
+    g, n = parse_log(io.BytesIO(_log(counted, HE_HEADER)), name="e.csv", timezone="America/Chicago")
+    assert len(f) == len(g) == 47 and list(f.index) == list(g.index) and not m.dropped_rows and not n.dropped_rows
+    assert (np.diff(f.index.asi8) == 3600 * 10**9).all()
+    # HE 2 of 8 March: 01:00-02:00 CST = 07:00-08:00 UTC; HE 24 ends at midnight CDT = 9 March 05:00 UTC
+    assert f.index[25] == pd.Timestamp("2026-03-08 08:00", tz="UTC") and f.index[-1] == pd.Timestamp("2026-03-09 05:00", tz="UTC")
+    # an HE 3 on that day written on the clock is a row left out (its start does not exist), recorded
+    bad = _he_rows("2026-03-08", [1, 2, 3, 4, 5])
+    h, k = parse_log(io.BytesIO(_log(bad, HE_HEADER)), name="b.csv", timezone="America/Chicago")
+    assert len(h) == 4 and "does not exist" in k.dropped_rows[0]["reason"] and k.dropped_rows[0]["row"] == 4

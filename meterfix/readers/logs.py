@@ -254,14 +254,16 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
         d, bad_d = parse_dates(t.cells[c["date"].index].to_numpy(), {**where, "row": None, "column": c["date"].header})
         h, bad_h, elapsed = _hour_numbers(t.cells[hcol.index].to_numpy(), hcol, t, rows)
         local = (hcol.zone or c["date"].zone) != "utc"
+        if not elapsed and local and hcol.name == "hour_ending":
+            elapsed = _counts_elapsed(d, h, timezone)
         hour = np.timedelta64(3600, "s").astype("timedelta64[ns]")
         if elapsed:
             # hours counted from the day's local midnight (25 on the long day): midnight placed on
             # the clock, the hours added as elapsed time
             mid, hour_nonexist, _ = localize(d, timezone) if local else (d, np.zeros(n, bool), None)
             naive = mid + h
-            meta.notes.append(f"{fname}: '{hcol.header}' counts to 25: read as hours elapsed since the day's "
-                              "local midnight (23 or 25 on the clock-change days)")
+            meta.notes.append(f"{fname}: '{hcol.header}' counts the hours of the clock-change days (1..23 or "
+                              "1..25): read as hours elapsed since the day's local midnight")
         else:
             wall = d + h - (hour if hcol.name == "hour_ending" else np.timedelta64(0, "ns"))
             st, hour_nonexist, _ = localize(wall, timezone) if local else (wall, np.zeros(n, bool), None)
@@ -410,6 +412,27 @@ def _hour_numbers(cells, col, t: RawTable, rows):
     elapsed = col.name == "hour_ending" and bool((vals[fine] == 25).any())
     out[fine] = (vals[fine] * 3600.0).astype(np.int64).astype("timedelta64[s]").astype("timedelta64[ns]")
     return out, bad | wrong, elapsed
+
+
+def _counts_elapsed(d: np.ndarray, h: np.ndarray, timezone: str) -> bool:
+    """Hour-ending numbers that count a clock-change day's hours 1..23 or 1..25 (elapsed since local
+    midnight) rather than naming clock hours (1, 2, 4 ... 24 in spring; 1, 2, 2, 3 ... 24 in autumn)."""
+    ok = ~np.isnat(d) & ~np.isnat(h)
+    if not ok.any():
+        return False
+    days = np.unique(d[ok].astype("datetime64[D]"))
+    if len(days) > 10_000:
+        return False
+    mid, _, _ = localize(days.astype("datetime64[ns]"), timezone)
+    nxt, _, _ = localize((days + np.timedelta64(1, "D")).astype("datetime64[ns]"), timezone)
+    length = ((nxt - mid) / np.timedelta64(1, "h")).astype(float)
+    hours = (h / np.timedelta64(1, "h")).astype(float)
+    for day, n in zip(days, length):
+        if np.isfinite(n) and n != 24:
+            got = np.sort(hours[ok & (d.astype("datetime64[D]") == day)])
+            if len(got) == int(n) and (got == np.arange(1, int(n) + 1)).all():
+                return True
+    return False
 
 
 def _refuse_hour_numbers(cells, col, t: RawTable) -> None:
