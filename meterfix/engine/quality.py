@@ -252,11 +252,14 @@ def _testable(x: np.ndarray, half: int, t_ns: np.ndarray | None) -> np.ndarray:
         ok[n - k:] = False
     if t_ns is not None and n > 2 * half:
         sp = np.diff(np.asarray(t_ns, dtype=np.int64)).astype(float)
-        win = np.lib.stride_tricks.sliding_window_view(sp, 2 * half)  # the 2*half spacings around i = j + half
-        with np.errstate(invalid="ignore", divide="ignore"):
-            regular = (win.min(axis=1) > 0) & (win.max(axis=1) <= 1.5 * win.min(axis=1))
+        m = len(sp) - 2 * half + 1  # windows of the 2*half spacings around point i = j + half
+        lo = sp[:m].copy()
+        hi = sp[:m].copy()
+        for k in range(1, 2 * half):
+            np.minimum(lo, sp[k:k + m], out=lo)
+            np.maximum(hi, sp[k:k + m], out=hi)
         reg = np.zeros(n, bool)
-        reg[half:half + len(regular)] = regular
+        reg[half:half + m] = (lo > 0) & (hi <= 1.5 * lo)
         ok &= reg
     return ok
 
