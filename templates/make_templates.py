@@ -33,12 +33,12 @@ LOG_COLUMNS = [
      "repeated hour is told apart by the order of the rows.", "2026-10-01 07:00"),
     ("Line pressure [bar(g)]", "yes", "gauge: bar(g), kPa(g), psig; absolute: bar(a), kPa(a), psia, MPa(a)",
      "Static pressure at the meter during the interval. A gauge reading needs the atmospheric pressure: the "
-     "'Barometric pressure' column, or atmospheric_pressure or elevation in the site file.", "39.52"),
+     "'Atmospheric pressure' column, or atmospheric_pressure or elevation in the site file.", "39.52"),
     ("Line temperature [degC]", "yes", "degC, degF, K", "Gas temperature at the meter during the interval.", "11.8"),
     ("Uncorrected volume [m3]", "yes (or one of the two below)", "m3, ft3, Mcf, L",
      "Volume through the meter in the interval at line conditions (not corrected). Instead of it a log may "
      "carry 'Meter index [m3]' (the cumulative register reading) or 'Flow rate [m3/h]'.", "1150.4"),
-    ("Barometric pressure [kPa]", "no", "kPa, hPa, mbar, psia (absolute)",
+    ("Atmospheric pressure [kPa]", "no", "kPa, hPa, mbar, psia (absolute)",
      "Atmospheric pressure logged at the site; used for gauge pressure when the site file allows "
      "(use_barometer, default true). Empty cells fall back to the fixed value or the elevation.", "98.47"),
     ("Site corrected volume [m3]", "no", "m3, ft3, Mcf at the corrector's own base",

@@ -31,7 +31,7 @@ def _log(rows, header="Interval end,P [bar(g)],T [degC],Volume [m3]"):
 def test_24_00_is_the_midnight_ending_that_day():
     rows = [f"2026-06-01 {h:02d}:00,30,11,{10 + h}" for h in range(1, 25)] + ["2026-06-02 01:00,30,11,50"]
     f, m = parse_log(io.BytesIO(_log(rows)), name="g.csv", timezone="Europe/Berlin")
-    assert len(f) == 25 and not m.dropped_rows and not m.unparseable
+    assert len(f) == 25 and not m.dropped_rows and not m.unreadable
     # 2026-06-01 24:00 CEST = 2026-06-02 00:00 CEST = 2026-06-01 22:00 UTC
     assert f.index[23] == pd.Timestamp("2026-06-01 22:00", tz="UTC")
     assert (f["duration"] == 3600.0).all()
@@ -60,7 +60,7 @@ def test_unreadable_time_has_no_result_counted_and_named(tmp_path):
     assert s["totals"]["uncorrected_volume_m3"] == pytest.approx(1000.0, rel=1e-12)
     assert s["totals"]["intervals"] == 11
     assert "rows left out        1" in r.output and "u.csv row 7" in r.output
-    assert "without result       1 interval(s) without a known volume" in r.output
+    assert "intervals without volume (gap, unreadable cell, row left out): 1" in r.output
 
 
 def _he_rows(day, hours, v=1.0):
