@@ -136,7 +136,7 @@ def _print_reading(result) -> None:
     dropped = getattr(meta, "dropped_rows", None) or []
     if dropped:
         first = "; ".join(f"{d.get('file')} row {d.get('row')} '{d.get('value')}' ({d.get('reason')})" for d in dropped[:3])
-        typer.echo(f"  rows left out        {len(dropped)} (their intervals have no result): {first}"
+        typer.echo(f"  {V.ROWS_LEFT_OUT:<20} {len(dropped)} (their intervals have no result): {first}"
                    + (" ..." if len(dropped) > 3 else ""))
     for note in (meta.notes or [])[:12]:
         typer.echo(f"  reader: {note}")
@@ -186,7 +186,7 @@ def print_summary(result, written: dict) -> None:
     _print_reading(result)
     gm = getattr(result, "gas_month", None)
     if gm:
-        typer.echo(f"  gas month            {gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
+        typer.echo(f"  {_lc(V.GAS_MONTH):<20} {gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
                    f"logged ({gm['coverage_pct']:.4g} %)"
                    + (f"; left out: {gm['intervals_before_month']} interval(s) before, "
                       f"{gm['intervals_after_month']} after" if gm['intervals_before_month'] or gm['intervals_after_month']

@@ -27,6 +27,7 @@ import json
 import math
 from pathlib import Path
 
+from .. import vocabulary as V
 from ..vocabulary import flags_breakdown
 from .atomic import check_target, neutralise_cell, write_bytes, write_text
 from .summary import CAUTION, _clean
@@ -330,7 +331,7 @@ def _columns(units) -> list:
         ("Last gas day", "period_end", "text", None, 12),
         ("Z method", "method", "text", None, 14),
         ("Base preset", "base_preset", "text", None, 14),
-        ("Gas month", "gas_month", "text", None, 12),
+        (V.GAS_MONTH, "gas_month", "text", None, 12),
         (f"Base pressure [{pr}]", conv("pressure", "base_pressure_Pa"), "num", "#,##0.000", 14),
         (f"Base temperature [{te}]", conv("temperature", "base_temperature_K"), "num", "0.00", 14),
         ("Intervals", "intervals", "num", "#,##0", 10),

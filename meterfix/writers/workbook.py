@@ -192,7 +192,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     gm = getattr(result, "gas_month", None)
     if gm:
         left = gm["intervals_before_month"] + gm["intervals_after_month"]
-        r = _long_row(ws, r, "Gas month", f"{gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
+        r = _long_row(ws, r, V.GAS_MONTH, f"{gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
                       f"logged ({gm['coverage_pct']:.4g} %)" + (f"; {left} interval(s) outside it left out" if left else ""))
     if result.reconciliation is not None:
         rt = result.reconciliation.totals
