@@ -91,6 +91,7 @@ def build_summary(result) -> dict:
         "base_conditions": {"pressure_Pa": s.base_pressure, "temperature_K": s.base_temperature,
                             "preset": s.base},
         "combustion_reference_temperature_K": s.combustion_temperature,
+        "gas_day": {"start_hour": s.gas_day_start, "timezone": s.timezone},
         "totals": t,
         # the gas month of the run: bounds [UTC], hours in it on the site's clock, hours logged,
         # coverage [%], intervals left out before and after (null when the log spans several months)
