@@ -295,7 +295,8 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     unparseable = np.zeros(n, bool)
     missing = np.zeros(n, bool)
     empty_columns = []
-    required = {"pressure_gauge", "pressure_line", "temperature_line", "volume_line", "volume_index", "flow_rate"}
+    required = {"pressure_gauge", "pressure_line", "temperature_line", "volume_line", "volume_index", "flow_rate",
+                "pressure_differential", "mass", "mass_flow"}
     for name in NUMERIC:
         if name not in c:
             continue
