@@ -147,6 +147,25 @@ def _print_without_result(result) -> None:
                        + (" ..." if k > 3 else ""))
 
 
+def _print_meter_kind(result) -> None:
+    """One line for the meter kind (orifice, Coriolis, calibration) and one for the speed-of-sound check."""
+    fm = getattr(result, "flow_meter", None) or {}
+    mass = result.totals.get("mass_kg")
+    if fm.get("kind") == "orifice":
+        typer.echo(f"  meter                orifice plate, {fm['standard']}, {fm['taps']} taps, beta {fm['beta']:.4f}; "
+                   f"mass {_num(mass / 1000.0)} t")
+    elif fm.get("kind") == "coriolis":
+        typer.echo(f"  meter                Coriolis: mass {_num(mass / 1000.0)} t; base volume = mass / base density")
+    elif fm.get("meter_error_correction_pct") is not None:
+        typer.echo(f"  meter error correction {fm['meter_error_correction_pct']:+.2f} % ({fm['calibration']})")
+    sc = getattr(result, "speed_of_sound_check", None)
+    if sc:
+        largest = sc.get("largest_deviation_pct")
+        typer.echo(f"  speed of sound       {sc['compared_intervals']} intervals compared with {sc['method']}, "
+                   f"{sc['flagged_intervals']} beyond {sc['threshold_pct']:g} %"
+                   + (f" (largest {largest:+.2f} %)" if largest is not None else ""))
+
+
 def print_summary(result, written: dict) -> None:
     t = result.totals
     s = result.settings
@@ -165,6 +184,7 @@ def print_summary(result, written: dict) -> None:
                f"{du.text('temperature', s.temperature_base)}" + (f"   ({s.base_preset})" if s.base_preset else ""))
     _print_reading(result)
     typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
+    _print_meter_kind(result)
     typer.echo(f"  uncorrected volume   {vol(t['uncorrected_volume_m3'])}")
     typer.echo(f"  base volume (real)   {vol(t['base_volume_m3'])}")
     # the ideal-gas error is the difference of two corrections of the same data: the Z method's own

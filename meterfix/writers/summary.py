@@ -92,6 +92,10 @@ def build_summary(result) -> dict:
         # what the log reader found: files, column mapping and units, every problem cell with where it is
         "log": log_record(getattr(result, "log_metadata", None)),
     }
+    if getattr(result, "flow_meter", None):
+        summary["flow_meter"] = result.flow_meter  # the meter kind: orifice, Coriolis, calibrated volume meter
+    if getattr(result, "speed_of_sound_check", None):
+        summary["speed_of_sound_check"] = result.speed_of_sound_check
     if unc is not None and hasattr(unc, "to_summary"):
         summary["uncertainty"] = unc.to_summary()
     if result.reconciliation is not None and hasattr(result.reconciliation, "to_summary"):
