@@ -6,13 +6,12 @@ Writes log.xlsx, analyses.xlsx, invoice.xlsx and site.toml beside this script. T
 deterministic (fixed workbook timestamps and zip dates): running it again gives the same bytes,
 so the committed files only change when this script does. Headers follow the file conventions
 the readers read (meterfix/readers: logs.py, analyses.py, invoices.py); setting names and their
-descriptions come from meterfix.engine.settings.SETTING_KINDS.
+descriptions come from the settings table, meterfix.engine.settings_table.SETTINGS.
 """
 
 from __future__ import annotations
 
 import sys
-import textwrap
 from pathlib import Path
 
 from openpyxl import Workbook
@@ -21,9 +20,7 @@ from openpyxl.styles import Alignment
 HERE = Path(__file__).resolve().parent
 sys.path.insert(0, str(HERE.parent))
 
-from meterfix.engine.settings import BASE_PRESETS, SETTING_KINDS  # noqa: E402
-from meterfix.uncertainty.inputs import DEFAULTS as UNC_DEFAULTS  # noqa: E402
-from meterfix.uncertainty.inputs import FLOW_KEYS, INPUT_KEYS  # noqa: E402
+from meterfix.engine.site_template import site_template  # noqa: E402
 from meterfix.gas.components import NAMES  # noqa: E402
 from meterfix.writers import xlsx_openpyxl as X  # noqa: E402
 from meterfix.z.registry import method_names  # noqa: E402
@@ -160,91 +157,9 @@ def invoice_workbook() -> Workbook:
     return wb
 
 
-# ---------------------------------------------------------------------------------------------
-# example value of each setting (invented demo scenario); None: written without an example
-SETTING_EXAMPLES = {
-    "meter": '"FV-M1"', "site": '"Fennick Valley kiln works (invented)"', "base": '"normal-0c"',
-    "base_pressure": '"101.325 kPa"', "base_temperature": '"0 degC"', "atmospheric_pressure": '"98.5 kPa"',
-    "elevation": '"240 m"', "use_barometer": "true", "timezone": '"Europe/Berlin"', "gas_day_start": '"06:00"',
-    "interval_label": '"end"', "method": '"aga8-detail"', "heating_value": '"40.5 MJ/m3"',
-    "heating_value_reference_temperature": '"0 degC"', "heating_value_reference_pressure": '"101.325 kPa"',
-    "combustion_temperature": '"25 degC"', "energy_edition": '"2016"', "ideal_gas_threshold": "0.5", "substitution": '"none"',
-    "max_gap_intervals": "3", "price": '"35 EUR/MWh"', "invoice_tolerance": "1.0", "fail_on": "1.0",
-    "register_digits": "8", "invoice_base": '"us-14.73-60f"', "invoice_base_pressure": '"14.73 psia"',
-    "invoice_base_temperature": '"60 degF"', "store": '"months.sqlite"', "sheet": '"Log"', "bidirectional": "false",
-    "opening_index": '"123456 m3"',
-}
-#: settings set in the template: none. A blank template must not carry live values (a month run
-#: with it must be refused until the contract's base conditions are written in).
-ACTIVE = ()
-GROUPS = [
-    ("The meter", ("meter", "site")),
-    ("Contract base conditions (the contract says which)", ("base", "base_pressure", "base_temperature")),
-    ("Atmospheric pressure for gauge pressure", ("atmospheric_pressure", "elevation", "use_barometer")),
-    ("Clock and gas day", ("timezone", "gas_day_start", "interval_label")),
-    ("Compressibility and energy", ("method", "heating_value", "heating_value_reference_temperature",
-                                    "heating_value_reference_pressure", "combustion_temperature",
-                                    "energy_edition")),
-    ("Findings and data quality", ("ideal_gas_threshold", "substitution", "max_gap_intervals", "register_digits",
-                                   "fail_on")),
-    ("Invoice", ("price", "invoice_tolerance", "invoice_base", "invoice_base_pressure", "invoice_base_temperature")),
-    ("Closed months (meterfix history, meterfix verify)", ("store",)),
-    ("Reading the log", ("sheet", "opening_index", "bidirectional")),
-]
-UNC_EXAMPLES = {"meter": '"1 %"', "meter_below_qt": '"2 %"', "pressure": '"0.25 %"', "atmospheric": '"0.5 kPa"',
-                "temperature": '"0.5 K"', "z": '"0.1 %"', "z_outside": '"0.5 %"', "base_z": '"0.05 %"',
-                "composition": '"2 %"', "heating_value": '"0.1 %"', "estimated": '"10 % random"',
-                "meter_qt": '"65 m3/h"', "meter_qmax": '"1000 m3/h"'}
-
-
 def site_toml() -> str:
-    grouped = [k for _, keys in GROUPS for k in keys]
-    missing = [k for k in SETTING_KINDS if k not in grouped]
-    if missing:
-        raise SystemExit(f"settings not placed in a group of the site template: {missing}")
-    out = [
-        "# meterfix site file: the settings of one meter.",
-        "#",
-        "# Every setting can also be given as a command-line option of the same name",
-        "# (base_pressure <-> --base-pressure); an option given on the command line wins.",
-        "# Quantities are text with a unit: \"14.73 psia\", \"101.325 kPa\", \"15 degC\", \"180 m\".",
-        "# A line starting with '#' is a comment: remove the '#' in front of a setting to use it.",
-        "# Every setting is commented out: a month is refused until the contract's base conditions",
-        "# are set (base, or base_pressure and base_temperature). The example values describe an",
-        "# invented meter; replace them with your own.",
-    ]
-    for title, keys in GROUPS:
-        out += ["", f"# --- {title} " + "-" * max(3, 92 - len(title)), ""]
-        for k in keys:
-            desc = SETTING_KINDS[k][1]
-            if k == "method":
-                desc += ": " + ", ".join(method_names())
-            if k == "base":
-                desc = "named base conditions: " + "; ".join(f"{n} ({v[2]})" for n, v in BASE_PRESETS.items())
-            out += textwrap.wrap(f"{k}: {desc}", 96, initial_indent="#   ", subsequent_indent="#     ")
-            line = f"{k} = {SETTING_EXAMPLES[k]}"
-            out.append(line if k in ACTIVE else "# " + line)
-    out += ["", "# --- Uncertainty inputs " + "-" * 70,
-            "# Expanded uncertainty with k = 2 unless the text says otherwise: \"1 %\", \"2 kPa\", \"mpe 1 %\"",
-            "# (rectangular), \"0.3 K k=1\", \"0.25 % random\". Each input left out takes its default, stated in",
-            "# the workbook's Uncertainty sheet. meter_qt and meter_qmax are flow rates at line conditions.",
-            "# invoice_meter_pct: the supplier's meter, expanded [%]; corrector_check_pct: threshold [%].",
-            "# [uncertainty]"]
-    for k in list(INPUT_KEYS) + list(FLOW_KEYS):
-        label = INPUT_KEYS[k][0] if k in INPUT_KEYS else "flow rate of the meter"
-        default = UNC_DEFAULTS.get(k, (None,))[0]
-        note = f"{label}" + (f"; default {default}" if default else "")
-        out.append(f"# {k} = {UNC_EXAMPLES[k]}".ljust(40) + f"  # {note}")
-    out += ["# invoice_meter_pct = 1.0", "# corrector_check_pct = 0.15",
-            "", "# --- Columns of the logs: source header -> canonical name (when not recognised) " + "-" * 14,
-            "# [columns]", '# "P1 (barg)" = "pressure_gauge"', '# "TT-101 degC" = "temperature_line"',
-            "", "# --- Display units of the workbook (the JSON summary is always SI) " + "-" * 27,
-            "# [display_units]", '# pressure = "bar"', '# temperature = "degC"', '# volume = "m3"',
-            '# energy = "MWh"', '# heating_value = "MJ/m3"', '# mass = "t"',
-            "", "# --- Input files, for 'meterfix fleet' (paths relative to this file) " + "-" * 25,
-            "# [files]", '# logs = ["logs/*.csv"]', '# composition = "analyses.xlsx"', '# invoice = "invoice.xlsx"',
-            ""]
-    return "\n".join(out)
+    """The commented site file, made from the settings table (meterfix.engine.site_template)."""
+    return site_template(method_names())
 
 
 def main() -> None:

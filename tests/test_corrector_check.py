@@ -20,7 +20,7 @@ D = RESULT.intervals
 VL, PF, TF, ZF, ZB = (D[c].to_numpy(float) for c in ("volume_line", "pressure_line", "temperature_line", "z_line",
                                                         "z_base"))
 PG = FRAME["pressure_gauge"].to_numpy(float)
-PB, TB = RESULT.settings.pressure_base, RESULT.settings.temperature_base
+PB, TB = RESULT.settings.base_pressure, RESULT.settings.base_temperature
 OURS = D["volume_base"].to_numpy(float)
 # common base conditions (common practice; NIST SP 811 factors): 14.73 psia = 101 559.775 Pa; 0 degC = 273.15 K
 P_1473 = 101_559.775

@@ -38,7 +38,7 @@ def test_manifest_records_settings_inputs_and_rerun_is_byte_identical(tmp_path):
     summary = (tmp_path / "out1" / f"{STEM}_summary.json").read_bytes()
     assert man["summary_sha256"] == hashlib.sha256(summary).hexdigest()
     assert man["method"]["name"] == "gerg-2008" and man["method"]["edition"]
-    assert man["settings"]["pressure_base"] == 101325.0 and man["settings"]["sources"]["method"] == "option"
+    assert man["settings"]["base_pressure"] == 101325.0 and man["settings"]["sources"]["method"] == "option"
     assert man["run"]["options"] == {"method": "gerg-2008"}
     roles = {e["role"]: e for e in man["inputs"]}
     assert set(roles) == {"log", "analysis", "site_file"}

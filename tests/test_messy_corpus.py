@@ -90,8 +90,8 @@ def test_invoice_coverage_counts_the_hours_of_the_clock():
 
     from meterfix.checks.attribution import _period_hours
 
-    s = SimpleNamespace(timezone="Europe/Berlin", gas_day_start_hour=6)
+    s = SimpleNamespace(timezone="Europe/Berlin", gas_day_start=6)
     assert _period_hours(dt.date(2026, 10, 1), dt.date(2026, 10, 31), s) == 745.0
     assert _period_hours(dt.date(2026, 3, 1), dt.date(2026, 3, 31), s) == 743.0
-    s = SimpleNamespace(timezone="UTC", gas_day_start_hour=9)
+    s = SimpleNamespace(timezone="UTC", gas_day_start=9)
     assert _period_hours(dt.date(2026, 10, 1), dt.date(2026, 10, 31), s) == 744.0

@@ -34,7 +34,7 @@ def _frame(n=96, seed=4, **extra):
 
 
 def _settings(method="aga8-detail"):
-    return build_settings(None, {"base": "iso-15c", "method": method})
+    return build_settings(None, {"base": "101.325kPa-15C", "method": method})
 
 
 def _pyaga8(p, t, method):
@@ -135,7 +135,7 @@ def test_error_curve_month_by_hand():
     f["pressure_line"] = 101325.0
     f["temperature_line"] = 288.15
     f["volume_line"] = [100.0, 225.0, 20.0, 400.0]
-    r = run_month(f, [(None, GAS)], build_settings(None, {"base": "iso-15c", "method": "ideal"}), flow_meter=fm)
+    r = run_month(f, [(None, GAS)], build_settings(None, {"base": "101.325kPa-15C", "method": "ideal"}), flow_meter=fm)
     want = [100 / 1.008, 225 / 1.001, 20 / 1.012, 400 / 0.998]
     np.testing.assert_allclose(r.intervals["volume_base"].to_numpy(), want, rtol=1e-13)
     np.testing.assert_allclose(r.intervals["meter_error_pct"].to_numpy(), [0.8, 0.1, 1.2, -0.2], rtol=1e-13)
@@ -150,7 +150,7 @@ def test_meter_factor_month_by_hand():
     f["pressure_line"] = 101325.0
     f["temperature_line"] = 288.15
     f["volume_line"] = [10.0, 20.0, 30.0]
-    r = run_month(f, [(None, GAS)], build_settings(None, {"base": "iso-15c", "method": "ideal"}), flow_meter=fm)
+    r = run_month(f, [(None, GAS)], build_settings(None, {"base": "101.325kPa-15C", "method": "ideal"}), flow_meter=fm)
     np.testing.assert_allclose(r.intervals["volume_base"].to_numpy(), [10.021, 20.042, 30.063], rtol=1e-13)
     assert r.flow_meter["meter_error_correction_pct"] == pytest.approx(0.21, rel=1e-10)
 

@@ -161,14 +161,14 @@ def test_configuration_log_names_settings_that_differ_from_the_previous_month(tm
     url = str(tmp_path / "s.sqlite")
     _close(url, months, "OW-North", "2026-08")
     result, frame = months[("OW-North", "2026-09")]
-    result.settings.ideal_gas_threshold_pct = 0.25  # as if the site file had changed
+    result.settings.ideal_gas_threshold = 0.25  # as if the site file had changed
     try:
         _close(url, months, "OW-North", "2026-09")
     finally:
-        result.settings.ideal_gas_threshold_pct = 0.5
+        result.settings.ideal_gas_threshold = 0.5
     log = entries(open_store(url)).attrs["config_log"]
     assert [(e["month"], e["setting"], e["old"], e["new"], e["from_month"]) for e in log] == [
-        ("2026-09", "ideal_gas_threshold_pct", "0.5", "0.25", "2026-08")]
+        ("2026-09", "ideal_gas_threshold", "0.5", "0.25", "2026-08")]
 
 
 def test_two_processes_closing_at_once_never_corrupt_the_store(store_url, months):

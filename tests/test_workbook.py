@@ -352,7 +352,7 @@ def test_text_that_looks_like_a_formula_stays_text(tmp_path):
             for c in row:
                 assert c.data_type != "f", (ws.title, c.coordinate, c.value)
     ov = wb["Overview"]
-    assert ov.cell(row=_label_row(ov, "site"), column=2).value.startswith("'=")
+    assert ov.cell(row=_label_row(ov, "site_name"), column=2).value.startswith("'=")
 
 
 def test_display_units_from_the_site_table(tmp_path):

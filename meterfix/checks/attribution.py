@@ -88,7 +88,7 @@ def period_arrays(result, inv) -> dict:
     ok = np.isfinite(d["volume_base"].to_numpy(float))
     d = d[ok]
     n = int(len(d))
-    p_o, t_o = s.pressure_base, s.temperature_base
+    p_o, t_o = s.base_pressure, s.base_temperature
     p_i, t_i = float(inv["pressure_base"]), float(inv["temperature_base"])
     k = d["analysis"].to_numpy(int)
     z_o = d["z_base"].to_numpy(float)
@@ -124,7 +124,7 @@ def _period_hours(start, end, s) -> float:
     import pandas as pd
 
     def begin(day):
-        t = pd.Timestamp(_dt.datetime(day.year, day.month, day.day, int(s.gas_day_start_hour)))
+        t = pd.Timestamp(_dt.datetime(day.year, day.month, day.day, int(s.gas_day_start)))
         return t.tz_localize(s.timezone, ambiguous=True, nonexistent="shift_forward")
 
     return (begin(end + _dt.timedelta(days=1)) - begin(start)).total_seconds() / 3600.0
@@ -141,7 +141,7 @@ def _steps_for_period(result, a, assumed_pressure_atm):
         for key in ("E3i", "E4r", "E4i", "E5r", "E5i", "Vest_r", "Vest_i", "Eest"):
             z[key] = 0.0
         return z
-    t_o = s.temperature_base
+    t_o = s.base_temperature
     p_i, t_i = a["pressure_base_invoice"], a["temperature_base_invoice"]
     vf = d["volume_line"].to_numpy(float)
     pf = d["pressure_line"].to_numpy(float)

@@ -141,7 +141,7 @@ def reconcile_frame(result, invoice: pd.DataFrame, *, meter_uncertainty_pct=None
     """
     s = result.settings
     U, parts = combined_uncertainty_pct(result, meter_uncertainty_pct)
-    tol = s.invoice_tolerance_pct
+    tol = s.invoice_tolerance
     warnings = []
     rows = []
     chunks = []
@@ -152,7 +152,7 @@ def reconcile_frame(result, invoice: pd.DataFrame, *, meter_uncertainty_pct=None
             warnings.append(f"billing period {inv['period_start']} to {inv['period_end']} (row {int(inv['row'])}): "
                             "no intervals of ours fall in it")
         chunks.append(a)
-        price = inv["price"] if np.isfinite(inv["price"]) else (s.price_per_energy if s.price_per_energy is not None
+        price = inv["price"] if np.isfinite(inv["price"]) else (s.price if s.price is not None
                                                                  else np.nan)
         v_ours = a["volume_ours"]
         e_ours = a["energy_ours"]
@@ -215,8 +215,8 @@ def reconcile_invoice(result, invoice_path, **kw) -> InvoiceReconciliation:
 
     s = result.settings
     df, meta = read_invoice(invoice_path, timezone=s.timezone,
-                            pressure_base=getattr(s, "invoice_pressure_base", None),
-                            temperature_base=getattr(s, "invoice_temperature_base", None))
+                            pressure_base=s.invoice_base_pressure,
+                            temperature_base=s.invoice_base_temperature)
     if not len(df):
         raise InputError("the invoice has no billing period", file=invoice_path)
     return reconcile_frame(result, df, file=meta.file, currency=meta.currency, **kw)

@@ -180,8 +180,8 @@ def print_summary(result, written: dict) -> None:
         return du.text("volume", v, abs(v) * u_rel if (u_rel and _finite(v)) else None)
 
     typer.echo(f"meterfix: {s.meter}  method {result.method['name']} ({result.method['edition']})")
-    typer.echo(f"  base conditions      {du.text('pressure', s.pressure_base)} (absolute), "
-               f"{du.text('temperature', s.temperature_base)}" + (f"   ({s.base_preset})" if s.base_preset else ""))
+    typer.echo(f"  base conditions      {du.text('pressure', s.base_pressure)} (absolute), "
+               f"{du.text('temperature', s.base_temperature)}" + (f"   ({s.base})" if s.base else ""))
     _print_reading(result)
     typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
     _print_meter_kind(result)

@@ -11,30 +11,30 @@ from typing import Optional
 import typer
 
 from .app import _fail, app
+from .options import setting_options
 from ..errors import MeterfixError
 
 
 @app.command("fleet", short_help="Correct many meters (a folder each) in parallel.")
+@setting_options("fleet")
 def fleet_command(
     folder: Path = typer.Argument(..., help="Folder with one sub-folder per meter, each holding a site.toml and its logs."),
     out: Path = typer.Option(..., "--out", help="Folder for the outputs: the fleet table (fleet_summary.xlsx/.csv/.json) and one sub-folder per meter."),
     workers: int = typer.Option(1, "--workers", min=1, help="Meters processed in parallel on this machine (processes)."),
     scheduler: Optional[str] = typer.Option(None, "--scheduler", help="Run on a Dask cluster instead: the scheduler's address, e.g. tcp://HOST:8786 (pip install \"meterfix[dask]\"). FOLDER and --out must be paths every worker sees."),
     workbooks: bool = typer.Option(False, "--workbooks", help="Also write each meter's month workbook (slower; the JSON summary and CSV tables are always written)."),
-    method: Optional[str] = typer.Option(None, "--method", help="Z method for every meter (overrides site files)."),
-    base: Optional[str] = typer.Option(None, "--base", help="Named base conditions for every meter."),
-    base_pressure: Optional[str] = typer.Option(None, "--base-pressure", help="Base pressure for every meter."),
-    base_temperature: Optional[str] = typer.Option(None, "--base-temperature", help="Base temperature for every meter."),
     overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
-    store: Optional[str] = typer.Option(None, "--store", help="Close every meter's month into this store (SQLite file or PostgreSQL URL; with --scheduler a URL or a path every worker sees); else each site file's 'store', if any."),
     by: Optional[str] = typer.Option(None, "--by", help="Who closes the months (kept in the store)."),
     reason: Optional[str] = typer.Option(None, "--reason", help="Why; required for a meter whose month is already closed in the store."),
     quiet: bool = typer.Option(False, "--quiet", help="No progress; only the closing lines."),
+    settings_options: dict = None,
 ):
     """Correct the month of many meters (one folder each) and write the fleet table."""
     try:
         from ..store.job import Closer
 
+        options = {k: v for k, v in (settings_options or {}).items() if v not in (None, [], ())}
+        store = options.pop("store", None)  # closes through the Closer, not a setting of each meter
         if store:
             from ..store import check_store, open_store
 
@@ -44,8 +44,7 @@ def fleet_command(
                 store = str(st.path.resolve())  # the same file from every worker, whatever its folder
         closer = Closer(store, by, reason)
         code = _fleet(folder, out, workers=workers, scheduler=scheduler, workbooks=workbooks, overwrite=overwrite,
-                      quiet=quiet, options={"method": method, "base": base, "base_pressure": base_pressure,
-                                            "base_temperature": base_temperature}, closer=closer)
+                      quiet=quiet, options=options, closer=closer)
     except MeterfixError as exc:
         _fail(exc)
     raise typer.Exit(code)

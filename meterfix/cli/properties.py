@@ -30,9 +30,9 @@ def properties_command(
     composition: Optional[Path] = typer.Option(None, "--composition", help="A gas-analysis file (CSV/XLSX) with one analysis; a 'Standard uncertainty' column and a correlation matrix (one column per component) are used when present."),
     gas: Optional[str] = typer.Option(None, "--gas", help="Mole fractions, e.g. 'methane=0.95,ethane=0.03,nitrogen=0.02' (percent also accepted)."),
     combustion_temperature: str = typer.Option(..., "--combustion-temperature", help="Combustion reference temperature: 0, 15, 15.55 (60 degF), 20 or 25 degC."),
-    metering_temperature: str = typer.Option(..., "--metering-temperature", help="Metering reference temperature: 0, 15, 15.55 (60 degF) or 20 degC."),
-    metering_pressure: str = typer.Option("101.325 kPa", "--metering-pressure", help="Metering reference pressure, absolute, 90-110 kPa (default 101.325 kPa)."),
-    edition: str = typer.Option("2016", "--edition", help="ISO 6976 edition: 2016 (default) or 1995."),
+    metering_temperature: str = typer.Option(..., "--heating-value-reference-temperature", "--metering-temperature", help="Metering reference temperature of the heating value (the setting heating_value_reference_temperature): 0, 15, 15.55 (60 degF) or 20 degC."),
+    metering_pressure: str = typer.Option("101.325 kPa", "--heating-value-reference-pressure", "--metering-pressure", help="Metering reference pressure of the heating value, absolute, 90-110 kPa (default 101.325 kPa)."),
+    edition: str = typer.Option("2016", "--energy-edition", "--edition", help="ISO 6976 edition (the setting energy_edition): 2016 (default) or 1995."),
     as_json: bool = typer.Option(False, "--json", help="Print SI values as JSON instead of a table."),
 ):
     """Properties of one gas from its composition, by ISO 6976:2016 (or 1995), with Annex B uncertainties."""

@@ -62,7 +62,7 @@ def _base_density(which, in_force, settings, method: str, n: int):
     src = [""]
 
     def one(k, sel, a):
-        st = gas_state(settings.pressure_base, settings.temperature_base, a.gas, method, molar_mass=a.molar_mass)
+        st = gas_state(settings.base_pressure, settings.base_temperature, a.gas, method, molar_mass=a.molar_mass)
         out[sel] = float(np.asarray(st.density).reshape(-1)[0])
         src[0] = st.source
     _per_analysis(which, in_force, one)

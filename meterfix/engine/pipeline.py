@@ -121,7 +121,7 @@ def absolute_pressure(frame: pd.DataFrame, settings: Settings):
     atm_source = None
     if "pressure_line" in frame.columns and frame["pressure_line"].notna().any() and "pressure_gauge" not in frame.columns:
         return frame["pressure_line"].to_numpy(float), np.full(n, np.nan), "absolute in the log"
-    fixed = settings.pressure_atm
+    fixed = settings.atmospheric_pressure
     if fixed is None and settings.elevation is not None:
         from ..atmosphere import pressure_from_elevation
 
@@ -156,25 +156,25 @@ def _heating_value(gas, settings: Settings, z_base: float = None):
     from .. import energy as E
 
     if settings.heating_value is not None:
-        tref = settings.temperature_base if tref is None else tref
-        pref = settings.pressure_base if pref is None else pref
+        tref = settings.base_temperature if tref is None else tref
+        pref = settings.base_pressure if pref is None else pref
         comp = gas if isinstance(gas, Composition) else None
         hv2 = E.convert_volumetric_heating_value(
             hv, composition=comp, temperature_metering_from=tref, pressure_metering_from=pref,
-            temperature_metering_to=settings.temperature_base, pressure_metering_to=settings.pressure_base)
+            temperature_metering_to=settings.base_temperature, pressure_metering_to=settings.base_pressure)
         return float(hv2), "supplied, converted to the contract base conditions"
     if isinstance(gas, Composition):
         from ..energy.month import analysis_energy
 
-        res = analysis_energy(gas, temperature_combustion=settings.temperature_combustion,
-                              temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
+        res = analysis_energy(gas, temperature_combustion=settings.combustion_temperature,
+                              temperature_metering=settings.base_temperature, pressure_metering=settings.base_pressure,
                               edition=getattr(settings, "energy_edition", "2016"), z_metering=z_base)
         return float(res.gross_volumetric), res.source
     if isinstance(gas, GrossCharacterization) and gas.heating_value is not None:
         hv2 = E.convert_volumetric_heating_value(
             gas.heating_value, composition=None, temperature_metering_from=gas.temperature_reference_density,
-            pressure_metering_from=gas.pressure_reference, temperature_metering_to=settings.temperature_base,
-            pressure_metering_to=settings.pressure_base)
+            pressure_metering_from=gas.pressure_reference, temperature_metering_to=settings.base_temperature,
+            pressure_metering_to=settings.base_pressure)
         return float(hv2), "gross characterisation, converted to the contract base conditions"
     return np.nan, "unknown (no composition or supplied heating value)"
 
@@ -211,7 +211,7 @@ def _gas_day(index_utc: pd.DatetimeIndex, duration_s: np.ndarray, settings: Sett
     """
     start = index_utc - pd.to_timedelta(np.nan_to_num(duration_s, nan=0.0), unit="s")
     local = start.tz_convert(settings.timezone)
-    shifted = local - pd.Timedelta(hours=settings.gas_day_start_hour)
+    shifted = local - pd.Timedelta(hours=settings.gas_day_start)
     # subtracting a fixed timedelta from a tz-aware local time keeps wall-clock arithmetic exact
     # for DST days: the gas day is the local calendar date of (start − gas_day_start hours)
     day = shifted.tz_localize(None).to_numpy().astype("datetime64[D]")
@@ -414,7 +414,7 @@ def _average_correction(cols: dict, analyses, settings: Settings, method: str) -
         p = float(np.average(d["pressure_line"], weights=w))
         t = float(np.average(d["temperature_line"], weights=w))
         zl = float(evaluate_z(p, t, gas, method).z) if method != "ideal" else 1.0
-        vb = float(K.volume_at_base(vl, p, t, settings.pressure_base, settings.temperature_base, zl, zb))
+        vb = float(K.volume_at_base(vl, p, t, settings.base_pressure, settings.base_temperature, zl, zb))
         out[label] = {"pressure_Pa": p, "temperature_K": t, "z_line": zl, "base_volume_m3": vb,
                       "error_pct": 100.0 * (vb / real - 1.0) if real else None}
     return out
@@ -444,7 +444,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     -------
     MonthResult
     """
-    if settings.pressure_base is None or settings.temperature_base is None:
+    if settings.base_pressure is None or settings.base_temperature is None:
         raise SettingsError("no contract base conditions are set",
                             hint="give --base-pressure and --base-temperature, or --base PRESET")
     method = get_method(settings.method)
@@ -492,12 +492,12 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         if gas is None:
             a.z_base = 1.0
         else:
-            rb = evaluate_z(settings.pressure_base, settings.temperature_base, gas, method.name)
+            rb = evaluate_z(settings.base_pressure, settings.base_temperature, gas, method.name)
             a.z_base = float(np.asarray(rb.z).reshape(-1)[0])
             a.molar_mass = _molar_mass(gas)
             if not (isinstance(gas, Composition) and settings.heating_value is None):
                 a.heating_value, a.heating_value_source = _heating_value(gas, settings, a.z_base)
-            a.density_base = float(K.density_at_base(settings.pressure_base, settings.temperature_base,
+            a.density_base = float(K.density_at_base(settings.base_pressure, settings.base_temperature,
                                                      a.z_base, a.molar_mass))
             if isinstance(gas, Composition):
                 from .. import energy as E
@@ -505,8 +505,8 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
 
                 if settings.heating_value is None:
                     a.energy = analysis_energy(
-                        gas, temperature_combustion=settings.temperature_combustion,
-                        temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
+                        gas, temperature_combustion=settings.combustion_temperature,
+                        temperature_metering=settings.base_temperature, pressure_metering=settings.base_pressure,
                         edition=settings.energy_edition, z_metering=a.z_base)
                     a.heating_value, a.heating_value_source = float(a.energy.gross_volumetric), a.energy.source
                     a.heating_value_us = us_heating_value(gas, settings.energy_edition)
@@ -515,7 +515,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
                     a.wobbe_index = float(a.energy.wobbe_index)
                 else:
                     a.relative_density = float(E.relative_density(
-                        gas, temperature_metering=settings.temperature_base, pressure_metering=settings.pressure_base,
+                        gas, temperature_metering=settings.base_temperature, pressure_metering=settings.base_pressure,
                         z_metering=a.z_base, method=method.name))
                     if np.isfinite(a.heating_value):
                         a.wobbe_index = float(E.wobbe_index(a.heating_value, a.relative_density))
@@ -538,7 +538,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     kind = _meter_kind(fm, frame, p, tl, vl, duration, which, in_force, settings, method.name)
     if kind is not None:
         vl = kind.volume_line
-    pb, tb = settings.pressure_base, settings.temperature_base
+    pb, tb = settings.base_pressure, settings.base_temperature
     with np.errstate(invalid="ignore", divide="ignore"):
         fp = K.factor_pressure(p, pb)
         ft = K.factor_temperature(tl, tb)
@@ -602,7 +602,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     df = pd.DataFrame(cols, index=index)
     totals = _totals(cols)
     flags = {c[5:]: int(np.count_nonzero(cols[c])) for c in all_flags}
-    findings = _findings(cols, index, days, settings.ideal_gas_threshold_pct)
+    findings = _findings(cols, index, days, settings.ideal_gas_threshold)
     avg = _average_correction(cols, in_force, settings, method.name) if in_force[0].gas is not None or method.name == "ideal" else {}
     warn = []
     if flags.get("z_outside_range"):

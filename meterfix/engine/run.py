@@ -72,7 +72,7 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
     step(f"reading {len(paths)} log file(s)", 0.05)
     frame, meta = read_log(
         paths, timezone=settings.timezone, interval_label=settings.interval_label,
-        column_map=settings.column_map or None, register_digits=settings.register_digits,
+        column_map=settings.columns or None, register_digits=settings.register_digits,
         sheet=getattr(settings, "sheet", None), opening_index=getattr(settings, "opening_index", None),
         timezone_given=(settings.sources or {}).get("timezone", "default") != "default",
     )

@@ -132,7 +132,11 @@ def _flatten(d: dict, prefix: str = "") -> dict:
 
 
 def settings_changes(old: dict, new: dict) -> list[dict]:
-    """[{setting, old, new}] for every setting that differs (dotted names inside tables)."""
+    """[{setting, old, new}] for every setting that differs (dotted names inside tables); a record
+    of an earlier version is read under today's names first (a renamed setting is no change)."""
+    from ..engine.settings import RECORD_RENAMES
+
+    old = {RECORD_RENAMES.get(k, k): v for k, v in old.items()}
     a, b = _flatten(old), _flatten(new)
     return [{"setting": k, "old": a.get(k), "new": b.get(k)} for k in sorted(set(a) | set(b)) if a.get(k) != b.get(k)]
 

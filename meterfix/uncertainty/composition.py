@@ -72,8 +72,8 @@ def composition_term(model, result, parsed, add, method_name):
                 xp = x.copy()
                 xp[j] *= np.exp(sign * h)
                 g = Composition.from_array(xp / xp.sum(), unit="fraction")
-                pts_p = np.concatenate([[s.pressure_base], model.pressure[sel]])
-                pts_t = np.concatenate([[s.temperature_base], model.temperature[sel]])
+                pts_p = np.concatenate([[s.base_pressure], model.pressure[sel]])
+                pts_t = np.concatenate([[s.base_temperature], model.temperature[sel]])
                 with np.errstate(invalid="ignore", divide="ignore"):
                     lz.append(np.log(np.asarray(evaluate_z(pts_p, pts_t, g, method_name,
                                                           speed_of_sound=False).z, float)))
@@ -110,5 +110,5 @@ def _component_heating_values(settings):
         return None
     f = getattr(E, "component_heating_values", None)
     if f is not None:
-        return np.asarray(f(settings.temperature_combustion), float)
+        return np.asarray(f(settings.combustion_temperature), float)
     return np.asarray(getattr(E, "GROSS_MOLAR_25C"), float)

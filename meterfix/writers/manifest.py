@@ -13,7 +13,6 @@ byte-identical. The manifest itself holds no time stamp, so the same run gives t
 
 from __future__ import annotations
 
-import dataclasses
 import hashlib
 import json
 import os
@@ -121,15 +120,11 @@ def load_manifest(path) -> dict:
 
 
 def settings_from_record(record: dict, manifest_file=None):
-    """Settings exactly as recorded (SI values, sources), refusing unknown fields."""
-    from ..engine.settings import Settings
+    """Settings exactly as recorded (SI values, sources), refusing unknown fields; a record of an
+    earlier version is read under today's setting names (meterfix.engine.settings.RECORD_RENAMES)."""
+    from ..engine.settings import settings_from_record as from_record
 
-    names = {f.name for f in dataclasses.fields(Settings)}
-    unknown = sorted(set(record) - names)
-    if unknown:
-        raise InputError(f"the manifest has unknown setting(s) {', '.join(unknown)}", file=manifest_file,
-                         hint="it was written by another meterfix version; run the month anew without --manifest")
-    return Settings(**record)
+    return from_record(record, manifest_file)
 
 
 def locate_inputs(man: dict, manifest_file) -> dict:

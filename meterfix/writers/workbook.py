@@ -30,6 +30,7 @@ from . import workbook_charts as C
 from . import workbook_checks as K
 from . import workbook_history as H
 from . import workbook_sheets as S
+from .settings_view import setting_rows
 from . import workbook_source as R
 from . import xlsx_common as X
 from .atomic import atomic_path
@@ -53,29 +54,6 @@ SHEET_GUIDE = (
                     "out or differing duplicate with its file, sheet, row and column"),
     ("History", "this meter's stored months, newest last (when the run keeps a store)"),
 )
-
-# Settings field → the setting names that set it (for the 'source' column)
-_SETTING_ALIASES = {
-    "pressure_base": ("base_pressure", "base"), "temperature_base": ("base_temperature", "base"),
-    "base_preset": ("base",), "pressure_atm": ("atmospheric_pressure",), "gas_day_start_hour": ("gas_day_start",),
-    "temperature_combustion": ("combustion_temperature",), "ideal_gas_threshold_pct": ("ideal_gas_threshold",),
-    "price_per_energy": ("price",), "currency": ("price",), "invoice_tolerance_pct": ("invoice_tolerance",),
-}
-_SETTING_UNITS = {
-    "pressure_base": "Pa", "temperature_base": "K", "pressure_atm": "Pa", "elevation": "m", "heating_value": "J/m3",
-    "heating_value_reference_temperature": "K", "heating_value_reference_pressure": "Pa",
-    "temperature_combustion": "K", "ideal_gas_threshold_pct": "%", "price_per_energy": "currency/J",
-    "invoice_tolerance_pct": "%", "fail_on": "%", "max_gap_intervals": "intervals", "gas_day_start_hour": "h",
-}
-
-
-def _source(s, name):
-    src = s.sources or {}
-    for key in (name,) + _SETTING_ALIASES.get(name, ()):
-        if src.get(key) not in (None, "default"):
-            return src[key]
-    return "default"
-
 
 def _setting_text(v):
     if isinstance(v, (dict, list)):
@@ -129,7 +107,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     at = {}
     ws.cell(row=1, column=1, value=X.cell_value(f"Month report: meter {s.meter}, {_month_label(result)}")).font = \
         X.TITLE_FONT
-    ws.cell(row=2, column=1, value=X.cell_value(f"Site: {s.site or '(not named)'}    ·    meterfix {__version__}"))
+    ws.cell(row=2, column=1, value=X.cell_value(f"Site: {s.site_name or '(not named)'}    ·    meterfix {__version__}"))
     # the caution, prominent: merged, amber, framed
     ws.cell(row=3, column=1, value="CAUTION").font = X.CAUTION_FONT
     ws.cell(row=3, column=1).fill = X.CAUTION_FILL
@@ -166,7 +144,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         ("Ideal-gas error", t.get("ideal_gas_error_pct"), "%", X.FMT_PCT, "100 (ideal / real − 1)"),
         ("Mass", du.scalar("mass", t.get("mass_kg")), ml, X.FMT_VOLUME, ""),
         ("Energy, gross", du.scalar("energy", None if e_mj is None else e_mj * 1e6), el, X.FMT_ENERGY,
-         f"combustion reference {s.temperature_combustion - 273.15:g} °C"),
+         f"combustion reference {s.combustion_temperature - 273.15:g} °C"),
         ("Mean heating value, gross", du.scalar("heating_value", e_mj * 1e6 / vb) if (e_mj and vb) else None,
          f"{hl} at base", X.FMT_HV, "energy / corrected volume"),
         ("Expanded uncertainty, volume", getattr(unc, "expanded_pct", None) if unc is not None else None, "%",
@@ -203,13 +181,13 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     r = _long_row(ws, r, "Range of the method", m.get("range"))
     r = _long_row(ws, r, "Atmospheric pressure", m.get("atmospheric_pressure_source") or "")
     at["base pressure"] = r
-    r = _row(ws, r, "Base pressure", du.scalar("pressure", s.pressure_base), du.label("pressure"), "#,##0.000",
-             s.base_preset or "")
+    r = _row(ws, r, "Base pressure", du.scalar("pressure", s.base_pressure), du.label("pressure"), "#,##0.000",
+             s.base or "")
     at["base temperature"] = r
-    r = _row(ws, r, "Base temperature", du.scalar("temperature", s.temperature_base), du.label("temperature"), "0.00")
+    r = _row(ws, r, "Base temperature", du.scalar("temperature", s.base_temperature), du.label("temperature"), "0.00")
     r = _long_row(ws, r, "Energy standard", m.get("energy_standard") or "")
-    r = _row(ws, r, "Combustion reference temperature", s.temperature_combustion - 273.15, "°C", "0.00")
-    r = _row(ws, r, "Gas day", f"starts {s.gas_day_start_hour:02d}:00 local time", s.timezone)
+    r = _row(ws, r, "Combustion reference temperature", s.combustion_temperature - 273.15, "°C", "0.00")
+    r = _row(ws, r, "Gas day", f"starts {s.gas_day_start:02d}:00 local time", s.timezone)
     if result.reconciliation is not None:
         rt = result.reconciliation.totals
         pct = rt.get("energy_difference_pct") if rt.get("compared_on") == "energy" else rt.get("volume_difference_pct")
@@ -256,10 +234,8 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         r += 1
         first_input = None
 
-    r = X.section(ws, r + 1, "Settings of this run (SI values)")
-    rec = s.to_record()
-    rows = [[k, _short(_setting_text(v)), _SETTING_UNITS.get(k, ""), _source(s, k)] for k, v in rec.items()
-            if k != "sources"]
+    r = X.section(ws, r + 1, "Settings of this run (site-file names, display units; the manifest keeps SI)")
+    rows = setting_rows(s, X.DisplayUnits(s.display_units))
     at["settings"] = r + 1
     r = X.write_table(ws, r, 1, ["Setting", "Value", "Unit", "Source"], rows)
     settings_rows = (at["settings"], r - 1)

@@ -333,7 +333,7 @@ def _when(text, tz, end=False):
 def write_findings(ws, result, du) -> int:
     s = result.settings
     vl, el = du.label("volume"), du.label("energy")
-    r = X.section(ws, 1, f"Ideal-gas error: gas days and periods above {s.ideal_gas_threshold_pct:g} %")
+    r = X.section(ws, 1, f"Ideal-gas error: gas days and periods above {s.ideal_gas_threshold:g} %")
     r = X.note(ws, r, "Where the site or the supplier corrected with Z = 1 (ideal gas), its corrected volume differs "
                       "from the real-gas one by the error shown. Negative impact: Z = 1 gives less volume than real gas. "
                       f"Periods are contiguous runs of intervals above the threshold; times are local ({s.timezone}): "
