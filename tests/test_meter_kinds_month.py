@@ -33,8 +33,8 @@ def _frame(n=96, seed=4, **extra):
     return pd.DataFrame(cols, index=idx)
 
 
-def _settings(method="aga8-detail"):
-    return build_settings(None, {"base": "101.325kPa-15C", "method": method})
+def _settings(method="aga8-detail", **flow_meter):
+    return build_settings(None, {"base": "101.325kPa-15C", "method": method, "flow_meter": flow_meter})
 
 
 def _pyaga8(p, t, method):
@@ -170,7 +170,8 @@ def test_speed_of_sound_check_against_pyaga8(method):
     assert c["flagged_intervals"] == 3 and len(c["periods"]) == 1 and c["periods"][0]["intervals"] == 3
     assert c["largest_deviation_pct"] == pytest.approx(0.4, rel=1e-8)
     assert c["threshold_pct"] == 0.2
-    r2 = run_month(f, [(None, GAS)], _settings(method), flow_meter=parse_flow_meter({"speed_of_sound_threshold": 0.1}))
+    s2 = build_settings(None, {"base": "101.325kPa-15C", "method": method, "speed_of_sound_threshold": "0.1"})
+    r2 = run_month(f, [(None, GAS)], s2)
     assert r2.speed_of_sound_check["flagged_intervals"] == 4
 
 
@@ -191,3 +192,30 @@ def test_bad_flow_meter_tables_name_the_key(table, words):
     text = str(exc.value) + " " + (exc.value.hint or "")
     for w in words:
         assert w in text
+
+
+def test_flow_meter_table_through_the_settings(tmp_path):
+    """[flow_meter] in the site file and the same keys as options give the same FlowMeter (SI)."""
+    site = tmp_path / "site.toml"
+    site.write_text('base = "101.325kPa-15C"\n[flow_meter]\nkind = "orifice"\npipe_diameter = "4.026 in"\n'
+                    'bore_diameter = "50.8 mm"\ntaps = "corner"\nerror_curve_unused = 1\n', encoding="utf-8")
+    with pytest.raises(SettingsError) as exc:
+        build_settings(site)
+    assert "error_curve_unused" in str(exc.value)
+    site.write_text('base = "101.325kPa-15C"\n[flow_meter]\nkind = "orifice"\npipe_diameter = "102.26 mm"\n'
+                    'bore_diameter = "50.8 mm"\ntaps = "corner"\n', encoding="utf-8")
+    s = build_settings(site)
+    assert s.flow_meter["pipe_diameter"] == pytest.approx(0.10226, rel=1e-15)
+    opt = build_settings(None, {"base": "101.325kPa-15C", "kind": "orifice", "pipe_diameter": "102.26 mm",
+                                "bore_diameter": "50.8 mm", "taps": "corner"})
+    assert parse_flow_meter(opt.flow_meter) == parse_flow_meter(s.flow_meter)
+    assert s.sources["[flow_meter] bore_diameter"] == "site file"
+    with pytest.raises(SettingsError) as exc:
+        build_settings(None, {"base": "101.325kPa-15C", "kind": "orifice", "pipe_diameter": "102.26 mm",
+                              "bore_diameter": "110 mm"})
+    assert "[flow_meter] bore_diameter" in str(exc.value) and "not smaller" in str(exc.value)
+    with pytest.raises(SettingsError) as exc:
+        build_settings(None, {"base": "101.325kPa-15C", "error_curve": "150:0.4,50:1.2"})
+    assert "[flow_meter] error_curve" in str(exc.value) and "increasing" in str(exc.value)
+    s = build_settings(None, {"base": "101.325kPa-15C", "error_curve": "50:1.2,150:0.4"})
+    assert s.flow_meter["error_curve"] == [[50.0, 1.2], [150.0, 0.4]]

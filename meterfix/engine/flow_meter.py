@@ -15,8 +15,11 @@ viscosity = "1.1e-5 Pa s"        # optional: default Lee-Gonzalez-Eakin (1966)
 isentropic_exponent = 1.3        # optional: default w^2 rho / p of the Z method's equation of state
 error_curve = [[50, 1.2], [150, 0.4], [300, -0.2]]   # volume meters: [m3/h at line, error %]
 meter_factor = 1.0021            # volume meters: one factor instead of a curve (not both)
-speed_of_sound_threshold = 0.2   # percent: ultrasonic meters' speed of sound against the analysis'
 ```
+
+Each key is a row of the settings table (meterfix.engine.settings_table, table "flow_meter"), so
+also an option (``--kind orifice``, ``--bore-diameter "50.8 mm"``); the settings step reads each
+value by its kind (quantities to SI) and this module checks them together.
 """
 
 from __future__ import annotations
@@ -38,7 +41,6 @@ STANDARDS = {"iso-5167-2:2003": O.STANDARD}
 PIPE_EXPANSION_DEFAULT = 11.6e-6
 BORE_EXPANSION_DEFAULT = 16.0e-6
 DIAMETERS_AT_DEFAULT = 293.15
-SPEED_OF_SOUND_THRESHOLD_DEFAULT = 0.2
 
 #: key -> what it is (for messages and the template)
 KEYS = {
@@ -55,7 +57,6 @@ KEYS = {
     "isentropic_exponent": "isentropic exponent, e.g. 1.3 (default: from the Z method's equation of state)",
     "error_curve": "volume meters: [[flow rate m3/h at line, error %], ...]",
     "meter_factor": "volume meters: one meter factor, e.g. 1.0021 (not with error_curve)",
-    "speed_of_sound_threshold": "percent; measured speed of sound against the analysis', default 0.2",
 }
 
 
@@ -74,7 +75,6 @@ class FlowMeter:
     isentropic_exponent : float or None [-]
     error_curve : list of [m3/h, %] or None (as given; checked)
     meter_factor : float or None [-]
-    speed_of_sound_threshold : float [%]
     """
 
     kind: str = "volume"
@@ -90,7 +90,6 @@ class FlowMeter:
     isentropic_exponent: float | None = None
     error_curve: list | None = None
     meter_factor: float | None = None
-    speed_of_sound_threshold: float = SPEED_OF_SOUND_THRESHOLD_DEFAULT
 
     def to_record(self) -> dict:
         return asdict(self)
@@ -114,8 +113,9 @@ def parse_flow_meter(table: dict | None, *, file=None) -> FlowMeter:
     fm = FlowMeter()
 
     def fail(key, msg, hint=None):
-        raise SettingsError(f"setting '{key}' of [flow_meter]: {msg}", file=file,
-                            hint=hint or f"set it in the site file's [flow_meter] table: {key} = ... ({KEYS.get(key, '')})")
+        raise SettingsError(f"setting '[flow_meter] {key}': {msg}", file=file,
+                            hint=hint or f"set it in the site file's [flow_meter] table: {key} = ... ({KEYS.get(key, '')}), "
+                                         f"or with --{key.replace('_', '-')}")
 
     unknown = [k for k in raw if k not in KEYS]
     if unknown:
@@ -123,13 +123,17 @@ def parse_flow_meter(table: dict | None, *, file=None) -> FlowMeter:
                             hint="known keys: " + ", ".join(KEYS))
 
     def qty(key, kind, lo, hi, text):
-        try:
-            q = parse_quantity(str(raw[key]), kind)
-        except UnitError as exc:
-            fail(key, exc.message, exc.hint)
-        if not (math.isfinite(q.value) and lo <= q.value <= hi):
-            fail(key, f"'{raw[key]}' is outside {text}")
-        return q.value
+        v = raw[key]
+        if isinstance(v, (int, float)) and not isinstance(v, bool):
+            x = float(v)  # already in SI (the settings step read the text)
+        else:
+            try:
+                x = parse_quantity(str(v), kind).value
+            except UnitError as exc:
+                fail(key, exc.message, exc.hint)
+        if not (math.isfinite(x) and lo <= x <= hi):
+            fail(key, f"'{v}' is outside {text}")
+        return x
 
     def number(key, lo, hi, text):
         v = raw[key]
@@ -164,8 +168,6 @@ def parse_flow_meter(table: dict | None, *, file=None) -> FlowMeter:
         fm.viscosity = qty("viscosity", "viscosity", 1e-6, 1e-3, "1e-6 to 1e-3 Pa s")
     if "isentropic_exponent" in raw:
         fm.isentropic_exponent = number("isentropic_exponent", 1.0, 2.0, "1.0-2.0")
-    if "speed_of_sound_threshold" in raw:
-        fm.speed_of_sound_threshold = number("speed_of_sound_threshold", 0.0, 100.0, "0-100 %")
     for key in ("pipe_diameter", "bore_diameter"):
         if key in raw:
             setattr(fm, key, qty(key, "length", 1e-9, 10.0, "a positive diameter up to 10 m"))

@@ -535,6 +535,10 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         rho_b[sel] = a.density_base
 
     fm = flow_meter if flow_meter is not None else getattr(settings, "flow_meter", None)
+    if isinstance(fm, dict):  # the settings' [flow_meter] table (SI values), checked together
+        from .flow_meter import parse_flow_meter
+
+        fm = parse_flow_meter(fm) if fm else None
     kind = _meter_kind(fm, frame, p, tl, vl, duration, which, in_force, settings, method.name)
     if kind is not None:
         vl = kind.volume_line
@@ -568,7 +572,8 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     if fm is not None or "speed_of_sound" in frame.columns:
         from .meter_kinds import speed_of_sound_check
 
-        threshold = getattr(fm, "speed_of_sound_threshold", None) or 0.2
+        threshold = getattr(settings, "speed_of_sound_threshold", None)
+        threshold = 0.2 if threshold is None else threshold
         sos_cols, sos = speed_of_sound_check(frame, p, tl, which, in_force, method.name, threshold, index, duration)
     for extra in (kind.columns if kind is not None else {}), (sos_cols or {}):
         cols.update(extra)

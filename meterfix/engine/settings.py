@@ -25,7 +25,8 @@ __all__ = ["BASE_PRESETS", "SUBSTITUTION_POLICIES", "Settings", "build_settings"
 
 _PY_TYPES = {"text": str | None, "choice": str, "bool": bool, "int": int | None, "number": float | None,
              "hour": int, "base": str | None, "price": float | None, "list": list, "mapping": dict}
-_QUANTITY_KINDS = ("pressure", "temperature", "length", "volume", "heating_value")
+_QUANTITY_KINDS = ("pressure", "temperature", "length", "volume", "heating_value", "viscosity",
+                   "expansion_coefficient")
 
 
 def _si_default(s: Setting):
@@ -285,10 +286,28 @@ def _read_kept_text(s, v, fail):
     return v if isinstance(v, (int, float)) else str(v)
 
 
+def _read_curve(s, v, fail):
+    """An error curve: [[Q, e], ...] as TOML writes it, or the option's text 'Q:e,Q:e,...'."""
+    if isinstance(v, str):
+        try:
+            v = [[float(x) for x in pair.split(":")] for pair in v.replace(";", ",").split(",") if pair.strip()]
+        except ValueError:
+            fail(f"'{v}' is not a list of flow rate:error pairs", "write e.g. '50:1.2,150:0.4,300:-0.2' "
+                                                                   "(m3/h at line conditions : percent)")
+    from ..meters.error_curve import error_curve_checked
+
+    try:
+        error_curve_checked(v, setting=label(s))
+    except SettingsError as exc:
+        fail(exc.message.replace(f"{label(s)} ", "", 1), exc.hint)
+    return [[float(q), float(e)] for q, e in v]
+
+
 _READERS = {
     "text": _read_text, "choice": _read_choice, "bool": _read_bool, "int": _read_number,
     "number": _read_number, "hour": _read_hour, "base": _read_base, "price": _read_price,
     "mapping": _read_mapping, "list": _read_list, "uncertainty": _read_kept_text, "flow_rate": _read_kept_text,
+    "curve": _read_curve,
     **{k: _read_quantity for k in _QUANTITY_KINDS},
 }
 
@@ -397,6 +416,10 @@ def _check_combinations(s, require_base):
         s.method = get_method(s.method).name
     except SettingsError as exc:
         _fail_for(settings_of("")["method"], None)(exc.message, exc.hint)
+    if s.flow_meter:
+        from .flow_meter import parse_flow_meter
+
+        parse_flow_meter(s.flow_meter)  # the meter kind's keys checked together (a bore inside the pipe ...)
     if require_base and (s.base_pressure is None or s.base_temperature is None):
         missing = "base_pressure" if s.base_pressure is None else "base_temperature"
         raise SettingsError(
