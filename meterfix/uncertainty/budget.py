@@ -408,11 +408,14 @@ def _meter_kind_terms(model, add, parsed, df, used, fm: dict, vl, n: int) -> Non
         re = df["reynolds_pipe"].to_numpy(float)[used]
         d_pipe = float(fm["pipe_diameter_m"])
         flowing = np.isfinite(re) & (dp > 0)
-        uc = np.where(flowing, O.discharge_coefficient_uncertainty_iso5167_2_2003(beta, d_pipe, re), 0.0) / 200.0
-        ue = np.where(flowing, O.expansibility_uncertainty_iso5167_2_2003(dp, p1, kap), 0.0) / 200.0
         w = model.volume
+        # C's uncertainty is step-valued (beta and D fixed, +0.5 % below Re_D = 10^4); epsilon's, 3.5 dp/(kappa p1),
+        # is taken at its volume-weighted mean over the month (one value: a systematic input of a few 0.01 %)
+        uc = np.where(flowing, O.discharge_coefficient_uncertainty_iso5167_2_2003(beta, d_pipe, re), 0.0) / 200.0
+        ue = np.full(n, _wmean(np.where(flowing, O.expansibility_uncertainty_iso5167_2_2003(dp, p1, kap), 0.0), w,
+                               flowing) / 200.0)
         c_txt = f"{_wmean(uc * 200.0, w):.3g} % (k = 2, ISO 5167-2:2003 5.3.3.1, by beta and Re_D)"
-        e_txt = f"{_wmean(ue * 200.0, w):.3g} % (k = 2, 3.5 dp/(kappa p1) %, ISO 5167-2:2003 5.3.3.2)"
+        e_txt = f"{_wmean(ue * 200.0, w):.3g} % (k = 2, 3.5 dp/(kappa p1) %, ISO 5167-2:2003 5.3.3.2, month mean)"
         from .inputs import InputSpec as _Spec
 
         for key, u, text, src in (
