@@ -84,7 +84,7 @@ _ENERGY = {
     # and the US therm 1.054804e8 J, the latter available as therm_us)
     "therm": 1e5 * BTU_IT, "therm_us": 1.054804e8, "Dth": 1e6 * BTU_IT, "kcal": 4186.8,
 }
-_LENGTH = {"m": 1.0, "km": 1e3, "ft": FOOT, "mm": 1e-3}
+_LENGTH = {"m": 1.0, "km": 1e3, "ft": FOOT, "mm": 1e-3, "cm": 1e-2, "in": 0.0254}  # inch: NIST SP 811, exact
 _DENSITY = {"kg/m3": 1.0, "g/L": 1.0, "lb/ft3": 0.45359237 / _FT3}
 #: differential pressure (orifice plates): an inch of water in a differential column is the inch of
 #: water at 60 degF of gas-flow practice, 248.84 Pa (NIST SP 811 appendix B.8: inch of water (60 degF)
@@ -274,7 +274,8 @@ def parse_unit(text: str, kind: str) -> Unit:
             raise _unknown(text, kind) from None
         return Unit(t, "heating_value", e.scale / v.scale, basis=v.basis)
     if kind == "length":
-        key = {k.lower(): k for k in _LENGTH}.get(low.replace("feet", "ft").replace("metres", "m").replace("meters", "m"))
+        key = {k.lower(): k for k in _LENGTH}.get({"inch": "in", "inches": "in", '"': "in"}.get(low, low).replace(
+            "feet", "ft").replace("metres", "m").replace("meters", "m"))
         if key is None:
             raise _unknown(text, kind)
         return Unit(t, "length", _LENGTH[key])

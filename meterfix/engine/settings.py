@@ -297,9 +297,9 @@ def _read_curve(s, v, fail):
     from ..meters.error_curve import error_curve_checked
 
     try:
-        error_curve_checked(v, setting=label(s))
+        error_curve_checked(v, setting="the curve")
     except SettingsError as exc:
-        fail(exc.message.replace(f"{label(s)} ", "", 1), exc.hint)
+        fail(exc.message, exc.hint.replace("give the curve", f"give {label(s)}"))
     return [[float(q), float(e)] for q, e in v]
 
 
@@ -416,10 +416,6 @@ def _check_combinations(s, require_base):
         s.method = get_method(s.method).name
     except SettingsError as exc:
         _fail_for(settings_of("")["method"], None)(exc.message, exc.hint)
-    if s.flow_meter:
-        from .flow_meter import parse_flow_meter
-
-        parse_flow_meter(s.flow_meter)  # the meter kind's keys checked together (a bore inside the pipe ...)
     if require_base and (s.base_pressure is None or s.base_temperature is None):
         missing = "base_pressure" if s.base_pressure is None else "base_temperature"
         raise SettingsError(
@@ -446,6 +442,11 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
     _assign(s, raw, src, str(site_file) if site_file is not None else None)
     _apply_presets(s, raw)
     _check_combinations(s, require_base)
+    if s.flow_meter:  # the meter kind's keys checked together (a bore inside the pipe, a curve or a factor ...)
+        from .flow_meter import parse_flow_meter
+
+        from_file = any(t == "flow_meter" and w == "site file" for (t, _), w in src.items())
+        parse_flow_meter(s.flow_meter, file=str(site_file) if from_file and site_file is not None else None)
     s.sources = {label(x): "default" for x in SETTINGS if x.table not in TABLES}
     for (table, name), where in src.items():
         s.sources[f"[{table}] {name}" if table else name] = where
