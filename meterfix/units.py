@@ -22,7 +22,7 @@ from .errors import UnitError
 
 KINDS = ("pressure", "temperature", "volume", "flow", "energy", "heating_value", "length",
          "density", "molar_energy", "fraction", "time", "pressure_differential", "mass", "mass_flow",
-         "speed", "viscosity", "expansion_coefficient")
+         "speed", "viscosity", "expansion_coefficient", "root_pressure_differential")
 
 _FT3 = FOOT**3  # 0.028316846592 m3, exact
 
@@ -204,6 +204,8 @@ def accepted_units(kind: str) -> list[str]:
         return list(_VISCOSITY)
     if kind == "expansion_coefficient":
         return list(_EXPANSION)
+    if kind == "root_pressure_differential":
+        return [f"sqrt({u})" for u in _DIFFERENTIAL] + ["mbar^0.5", "√mbar"]
     if kind == "fraction":
         return ["%", "mol%", "fraction", "ppm"]
     raise ValueError(f"unknown unit kind {kind!r}; known kinds: {', '.join(KINDS)}")
@@ -295,6 +297,16 @@ def parse_unit(text: str, kind: str) -> Unit:
         if key is None:
             raise _unknown(text, kind)
         return Unit(t, kind, table[key])
+    if kind == "root_pressure_differential":
+        # the interval mean of sqrt(dp) (a flow computer's 'extension'): sqrt(mbar), mbar^0.5, √mbar ...
+        m = re.match(r"^(?:sqrt\s*\(\s*(.+?)\s*\)|√\s*\(?\s*(.+?)\s*\)?|(.+?)\s*\^\s*0?\.5)$", t, re.I)
+        if not m:
+            raise _unknown(text, kind)
+        try:
+            du = parse_unit(next(g for g in m.groups() if g), "pressure_differential")
+        except UnitError:
+            raise _unknown(text, kind) from None
+        return Unit(t, kind, float(np.sqrt(du.scale)))
     if kind == "mass_flow":
         m = re.match(r"^(.+?)\s*(?:/|per\s+)\s*(.+)$", t, re.I)
         if not m:
@@ -400,7 +412,8 @@ def _example(kind: str) -> str:
             "flow": "250 m3/h", "energy": "100 MJ", "heating_value": "38.5 MJ/m3",
             "length": "180 m", "density": "0.8 kg/m3", "time": "1 h", "fraction": "2 %",
             "pressure_differential": "250 mbar", "mass": "1200 kg", "mass_flow": "900 kg/h", "speed": "410 m/s",
-            "viscosity": "1.1e-5 Pa s", "expansion_coefficient": "11.6e-6 1/K"}.get(kind, "1")
+            "viscosity": "1.1e-5 Pa s", "expansion_coefficient": "11.6e-6 1/K",
+            "root_pressure_differential": "11.2 sqrt(mbar)"}.get(kind, "1")
 
 
 def to_absolute(pressure, unit: Unit, atmospheric=None, *, unmarked: str = "absolute",

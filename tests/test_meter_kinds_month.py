@@ -219,3 +219,21 @@ def test_flow_meter_table_through_the_settings(tmp_path):
     assert "[flow_meter] error_curve" in str(exc.value) and "increasing" in str(exc.value)
     s = build_settings(None, {"base": "101.325kPa-15C", "error_curve": "50:1.2,150:0.4"})
     assert s.flow_meter["error_curve"] == [[50.0, 1.2], [150.0, 0.4]]
+
+
+def test_orifice_uses_the_interval_mean_of_sqrt_dp_when_logged():
+    """Within an interval dp swings between 10 and 40 mbar (half the time each): mean dp = 25 mbar, mean
+    sqrt(dp) = (sqrt(10) + sqrt(40))/2 sqrt(mbar). The flow is that of (mean sqrt dp)^2 = 22.5 mbar (by hand);
+    averaging dp instead would overstate it by sqrt(25/22.5) - 1 = 5.41 %."""
+    fm = parse_flow_meter(ORIFICE)
+    root = (np.sqrt(1000.0) + np.sqrt(4000.0)) / 2  # sqrt(Pa)
+    f = _frame(n=4, pressure_differential=np.full(4, 2500.0), pressure_differential_root=np.full(4, root))
+    r = run_month(f, [(None, GAS)], _settings(), flow_meter=fm)
+    g = _frame(n=4, pressure_differential=np.full(4, root ** 2))
+    ref = run_month(g, [(None, GAS)], _settings(), flow_meter=fm)
+    np.testing.assert_allclose(r.intervals["mass"].to_numpy(), ref.intervals["mass"].to_numpy(), rtol=1e-12)
+    assert root ** 2 == pytest.approx(2250.0)
+    av = r.flow_meter["differential_pressure_averaging"]
+    assert av["root_mean_column"] == "pressure_differential_root"
+    assert av["mean_dp_error_pct"] == pytest.approx(100 * (np.sqrt(2500 / 2250) - 1), rel=1e-9)
+    assert not any("square root" in w for w in r.warnings)

@@ -73,3 +73,11 @@ def test_classify_keeps_old_meanings():
     assert classify("Mass flow")[0] == "mass_flow"
     assert classify("Differential pressure")[0] == "pressure_differential"
     assert classify("Speed of sound")[0] == "speed_of_sound"
+
+
+def test_mean_root_differential_pressure_column(tmp_path):
+    p = _write(tmp_path, ["Interval end", "Line pressure [bar(a)]", "Line temperature [degC]",
+                          "Mean root differential pressure [sqrt(mbar)]"],
+               [[t, 40.0, 10.0, 10.0] for t in TIMES])
+    frame, _ = read_log(p)
+    np.testing.assert_allclose(frame["pressure_differential_root"].to_numpy(), 100.0, rtol=1e-15)  # sqrt(100 mbar) Pa^0.5

@@ -101,11 +101,18 @@ def coriolis_kind(frame, p, tl, duration, which, in_force, settings, method: str
 def orifice_kind(frame, p, tl, duration, which, in_force, settings, method: str, fm: FlowMeter) -> KindResult:
     """Orifice plate by ISO 5167-2:2003 from the interval mean differential pressure."""
     n = len(frame)
-    if "pressure_differential" not in frame.columns:
+    has_root = "pressure_differential_root" in frame.columns and frame["pressure_differential_root"].notna().any()
+    if "pressure_differential" not in frame.columns and not has_root:
         raise InputError("an orifice meter's log needs a differential pressure column", column="pressure_differential",
                          hint="name it e.g. 'Differential pressure [mbar]', or map it with "
                               "--column 'HEADER=pressure_differential [mbar]'")
-    dp = frame["pressure_differential"].to_numpy(float)
+    dp_mean = frame["pressure_differential"].to_numpy(float) if "pressure_differential" in frame.columns else None
+    if has_root:
+        # qm is proportional to sqrt(dp): the interval's mean flow is that of (mean sqrt(dp))^2
+        root = frame["pressure_differential_root"].to_numpy(float)
+        dp = np.where(np.isfinite(root), np.sign(root) * root * root, np.nan if dp_mean is None else dp_mean)
+    else:
+        dp = dp_mean
     p1 = p + np.where(np.isfinite(dp), dp, 0.0) if fm.static_tap == "downstream" else p
     d_bore, d_pipe = bore_and_pipe_at(fm, tl)
     rho1 = np.full(n, np.nan)
@@ -147,7 +154,8 @@ def orifice_kind(frame, p, tl, duration, which, in_force, settings, method: str,
            "isentropic_exponent": ("stated" if fm.isentropic_exponent is not None
                                    else "w^2 rho / p of the Z method's equation of state"),
            "viscosity": ("stated" if fm.viscosity is not None else "Lee, Gonzalez and Eakin (1966)"),
-           "density": src[0], "differential_pressure_averaging": _averaging(frame, dp, flow, duration)}
+           "density": src[0], "differential_pressure_averaging": (
+               _root_averaging(dp_mean, dp, flow, duration) if has_root else _averaging(frame, dp, flow, duration))}
     findings = []
     av = rec["differential_pressure_averaging"]
     if av.get("root_mean_column") is None and av.get("month_mean_error_pct") is not None:
@@ -171,6 +179,19 @@ def _averaging(frame, dp, flow, duration) -> dict:
     k = flow.mass_flow[ok] / np.sqrt(dp[ok])
     m_mean = float(np.sum(k * w) / np.sum(w) * np.sqrt(np.sum(dp[ok] * w) / np.sum(w)) * np.sum(w))
     out["month_mean_error_pct"] = 100.0 * (m_mean / m_int - 1.0) if m_int else None
+    return out
+
+
+def _root_averaging(dp_mean, dp_eff, flow, duration) -> dict:
+    """The log has the mean sqrt(dp): it is used, and with the mean dp also logged the error that averaging dp
+    would have made is measured: 100 (sum sqrt(mean dp) / sum mean sqrt(dp) - 1) over the month's flow."""
+    out = {"root_mean_column": "pressure_differential_root", "used": "interval mean of sqrt(dp)"}
+    if dp_mean is None:
+        return out
+    ok = np.isfinite(flow.mass_flow) & np.isfinite(dp_mean) & (dp_mean > 0) & (dp_eff > 0)
+    if ok.any():
+        m = flow.mass_flow[ok] * duration[ok]
+        out["mean_dp_error_pct"] = 100.0 * (float(np.sum(m * np.sqrt(dp_mean[ok] / dp_eff[ok]))) / float(np.sum(m)) - 1.0)
     return out
 
 

@@ -32,6 +32,8 @@ name                            meaning                                         
 ``mass``                        mass in the interval (Coriolis)                       mass
 ``mass_flow``                   mass flow rate (Coriolis)                             mass_flow
 ``speed_of_sound``              the ultrasonic meter's speed of sound                 speed
+``pressure_differential_root``  interval mean of sqrt(dp) (a flow computer's          root_pressure_differential
+                                extension), e.g. 'Mean root differential pressure [sqrt(mbar)]'
 ``ignore``                      (column map only) do not read this column             –
 =============================== ===================================================== ==========
 
@@ -58,10 +60,11 @@ CANONICAL = {
     "flow_rate": "flow", "volume_corrected_site": "volume", "volume_corrected_site_index": "volume",
     "duration": "time", "status": None, "ignore": None,
     "pressure_differential": "pressure_differential", "mass": "mass", "mass_flow": "mass_flow",
-    "speed_of_sound": "speed",
+    "speed_of_sound": "speed", "pressure_differential_root": "root_pressure_differential",
 }
 #: the primary measurement of each meter kind: one of these stands for the uncorrected volume
-_PRIMARY = ("volume_line", "volume_index", "flow_rate", "pressure_differential", "mass", "mass_flow")
+_PRIMARY = ("volume_line", "volume_index", "flow_rate", "pressure_differential", "mass", "mass_flow",
+            "pressure_differential_root")
 _TIME_ROLES = ("time", "interval_end", "interval_start", "date", "clock")
 #: example headers for messages
 EXAMPLES = {
@@ -179,8 +182,10 @@ def classify(name: str):
         return ("mass_flow" if any(t.startswith("flow") or t == "rate" for t in toks) else "mass"), {}
     if n in ("dp", "delta p", "diff p", "hw", "h w", "dpf", "dp mean") or (
             any(t.startswith("press") for t in toks) and any(t in ("differential", "dp", "diff", "delta") for t in toks)):
-        if any(t in ("base", "contract", "reference", "set", "setpoint", "root", "sqrt") for t in toks):
+        if any(t in ("base", "contract", "reference", "set", "setpoint") for t in toks):
             return None, {}
+        if any(t in ("root", "sqrt", "extension") for t in toks):
+            return "pressure_differential_root", {}
         return "pressure_differential", {}
     if any(t.startswith("press") for t in toks) or n in ("p", "pf", "p1", "pline", "p line", "line p", "gas p",
                                                          "pg", "pabs", "p abs", "p gauge"):
@@ -316,7 +321,8 @@ def _example(family):
             "volume_corrected_site": "Site corrected volume [m3]",
             "volume_corrected_site_index": "Corrected index [m3]", "duration": "Duration [min]",
             "pressure_differential": "Differential pressure [mbar]", "mass": "Mass [kg]",
-            "mass_flow": "Mass flow [kg/h]", "speed_of_sound": "Speed of sound [m/s]"}.get(family, family)
+            "mass_flow": "Mass flow [kg/h]", "speed_of_sound": "Speed of sound [m/s]",
+            "pressure_differential_root": "Mean root differential pressure [sqrt(mbar)]"}.get(family, family)
 
 
 def _mapped(header, index, target: str, where) -> ColumnSpec | None:
@@ -339,7 +345,7 @@ def _mapped(header, index, target: str, where) -> ColumnSpec | None:
                 break
     if not unit_text:
         raise UnitError(f"column '{header}' is mapped to {name} but no unit is known", **where, column=header,
-                        hint=f"give the unit in the map, e.g. '{header}={name} [{ {'pressure': 'bar', 'temperature': 'degC', 'volume': 'm3', 'flow': 'm3/h', 'time': 's', 'pressure_differential': 'mbar', 'mass': 'kg', 'mass_flow': 'kg/h', 'speed': 'm/s'}[kind]}]'")
+                        hint=f"give the unit in the map, e.g. '{header}={name} [{ {'pressure': 'bar', 'temperature': 'degC', 'volume': 'm3', 'flow': 'm3/h', 'time': 's', 'pressure_differential': 'mbar', 'mass': 'kg', 'mass_flow': 'kg/h', 'speed': 'm/s', 'root_pressure_differential': 'sqrt(mbar)'}[kind]}]'")
     unit, err = _parse_unit(kind, unit_text)
     if unit is None:
         raise UnitError(f"unknown {kind} unit '{unit_text}' for column '{header}'", **where, column=header,
@@ -405,7 +411,8 @@ _ROLE_WORDS = {"volume_line": "uncorrected volume per interval", "volume_index":
                "temperature_line": "line temperature", "volume_corrected_site": "site corrected volume",
                "volume_corrected_site_index": "site corrected index", "pressure_atm": "barometer",
                "pressure_differential": "differential pressure", "mass": "mass per interval",
-               "mass_flow": "mass flow rate", "speed_of_sound": "speed of sound"}
+               "mass_flow": "mass flow rate", "speed_of_sound": "speed of sound",
+               "pressure_differential_root": "interval mean of sqrt(dp)"}
 
 
 def _role_group(names) -> set:
