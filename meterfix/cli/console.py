@@ -185,7 +185,11 @@ def print_summary(result, written: dict) -> None:
     _print_reading(result)
     typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
     _print_meter_kind(result)
-    typer.echo(f"  uncorrected volume   {vol(t['uncorrected_volume_m3'])}")
+    kind = (getattr(result, "flow_meter", None) or {}).get("kind")
+    if kind in ("orifice", "coriolis"):  # measured as mass: the line volume is mass / density at line
+        typer.echo(f"  volume at line       {vol(t['uncorrected_volume_m3'])}   (mass / density at line)")
+    else:
+        typer.echo(f"  uncorrected volume   {vol(t['uncorrected_volume_m3'])}")
     typer.echo(f"  base volume (real)   {vol(t['base_volume_m3'])}")
     # the ideal-gas error is the difference of two corrections of the same data: the Z method's own
     # uncertainty bounds its digits
