@@ -237,3 +237,13 @@ def test_orifice_uses_the_interval_mean_of_sqrt_dp_when_logged():
     assert av["root_mean_column"] == "pressure_differential_root"
     assert av["mean_dp_error_pct"] == pytest.approx(100 * (np.sqrt(2500 / 2250) - 1), rel=1e-9)
     assert not any("square root" in w for w in r.warnings)
+
+
+def test_coriolis_negative_mass_left_out_unless_bidirectional():
+    f = _frame(n=4, mass=np.array([100.0, -5.0, 100.0, 100.0]))
+    r = run_month(f, [(None, GAS)], _settings(), flow_meter=parse_flow_meter({"kind": "coriolis"}))
+    assert r.flags["negative_mass"] == 1 and np.isnan(r.intervals["volume_base"].iloc[1])
+    assert r.totals["intervals_without_result"] == 1 and r.totals["mass_kg"] == pytest.approx(300.0)
+    s = build_settings(None, {"base": "101.325kPa-15C", "bidirectional": "true"})
+    r2 = run_month(f, [(None, GAS)], s, flow_meter=parse_flow_meter({"kind": "coriolis"}))
+    assert r2.totals["mass_kg"] == pytest.approx(295.0)

@@ -81,7 +81,10 @@ def _mass_column(frame: pd.DataFrame, duration):
 
 
 def coriolis_kind(frame, p, tl, duration, which, in_force, settings, method: str) -> KindResult:
-    """Coriolis: base volume = mass / rho_b; the line volume mass / rho_line (for the interval table)."""
+    """Coriolis: base volume = mass / rho_b; the line volume mass / rho_line (for the interval table).
+
+    A negative interval mass is flagged ``negative_mass`` and left out of the totals (counted without
+    a result) unless the meter is declared bidirectional."""
     n = len(frame)
     mass, how = _mass_column(frame, duration)
     rho_b, src = _base_density(which, in_force, settings, method, n)
@@ -93,6 +96,8 @@ def coriolis_kind(frame, p, tl, duration, which, in_force, settings, method: str
     with np.errstate(invalid="ignore", divide="ignore"):
         vl = mass / rho_l
     neg = np.isfinite(mass) & (mass < 0)
+    if not getattr(settings, "bidirectional", False):
+        mass = np.where(neg, np.nan, mass)  # reverse flow left out (counted without result), as for volumes
     rec = {"kind": "coriolis", "practice": "AGA Report No. 11: base volume = mass / base density",
            "mass_from": how, "density": src}
     return KindResult(vl, mass, rho_b, {"density_line": rho_l}, {"negative_mass": neg}, rec, [], src)
