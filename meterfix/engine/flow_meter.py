@@ -34,13 +34,27 @@ from ..meters import orifice_iso5167 as O
 from ..meters.error_curve import error_curve_checked
 from ..units import parse_quantity
 
-KINDS = ("volume", "orifice", "coriolis")
+from .settings_table import METER_KINDS as KINDS
+from .settings_table import SETTINGS
+
 STANDARDS = {"iso-5167-2:2003": O.STANDARD}
-#: default linear expansion coefficients [1/K] (typical handbook values at 20-100 degC, from memory):
-#: carbon steel pipe, austenitic stainless steel (304/316) plate
-PIPE_EXPANSION_DEFAULT = 11.6e-6
-BORE_EXPANSION_DEFAULT = 16.0e-6
-DIAMETERS_AT_DEFAULT = 293.15
+
+
+def _default(name: str):
+    """The settings table's default of a [flow_meter] key, in SI (one definition, with its source there)."""
+    row = next(x for x in SETTINGS if x.table == "flow_meter" and x.name == name)
+    if isinstance(row.default, str) and row.kind not in ("choice", "text"):
+        return parse_quantity(row.default, row.kind).value
+    return row.default
+
+
+#: defaults (settings table): carbon steel pipe, austenitic stainless plate (typical handbook values at
+#: 20-100 degC, from memory), d and D stated at 20 degC, flange taps, line pressure at the upstream tap
+PIPE_EXPANSION_DEFAULT = _default("pipe_expansion")
+BORE_EXPANSION_DEFAULT = _default("bore_expansion")
+DIAMETERS_AT_DEFAULT = _default("diameters_at")
+TAPS_DEFAULT = _default("taps")
+STATIC_TAP_DEFAULT = _default("static_tap")
 
 #: key -> what it is (for messages and the template)
 KEYS = {
@@ -84,8 +98,8 @@ class FlowMeter:
     diameters_at: float = DIAMETERS_AT_DEFAULT
     pipe_expansion: float = PIPE_EXPANSION_DEFAULT
     bore_expansion: float = BORE_EXPANSION_DEFAULT
-    taps: str = "flange"
-    static_tap: str = "upstream"
+    taps: str = TAPS_DEFAULT
+    static_tap: str = STATIC_TAP_DEFAULT
     viscosity: float | None = None
     isentropic_exponent: float | None = None
     error_curve: list | None = None

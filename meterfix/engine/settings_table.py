@@ -121,7 +121,7 @@ _M, _B, _A, _C, _E, _Q, _I, _ST, _R, _F, _U, _D, _K = (
 #: meter kinds (meterfix.engine.flow_meter) and tap arrangements of ISO 5167-2:2003
 METER_KINDS = ("volume", "orifice", "coriolis")
 ORIFICE_STANDARDS = ("iso-5167-2:2003",)
-ORIFICE_TAPS = ("corner", "flange", "d-d2")
+from ..meters.orifice_iso5167 import TAPS as ORIFICE_TAPS  # noqa: E402  (corner, flange, d-d2)
 STATIC_TAPS = ("upstream", "downstream")
 
 _U_SRC = "meterfix.uncertainty.inputs (defaults with their sources in the workbook's Uncertainty sheet)"
