@@ -17,6 +17,26 @@ from ..constants import R
 from ..z import evaluate_z
 
 
+def density_basis(method) -> str:
+    """How the meter kinds get density from a Z method (``meterfix methods`` prints it).
+
+    Parameters
+    ----------
+    method : ZMethod   a method of the registry
+    """
+    from ..z.aga8_detail_mixture import R_DETAIL
+    from ..z.aga8_gross import R as R_GROSS
+    from ..z.gerg2008_mixture import R_GERG
+
+    own = {"aga8-detail": f"R = {R_DETAIL} J/(mol K) and AGA8's molar masses",
+           "aga8-gross1": f"R = {R_GROSS} J/(mol K), M from the relative density",
+           "aga8-gross2": f"R = {R_GROSS} J/(mol K), M from the relative density",
+           "gerg-2008": f"R = {R_GERG} J/(mol K) and GERG-2008's molar masses"}
+    if method.name in own:
+        return f"density = its molar density x molar mass ({own[method.name]})"
+    return f"density = p M / (Z R T), R = {R:.7g} J/(mol K) (2019 SI), M of the analysis"
+
+
 @dataclass
 class GasState:
     """Density and related properties of a gas at arrays of (p, T) (SI, one shape).
