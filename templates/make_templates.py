@@ -33,7 +33,7 @@ LOG_COLUMNS = [
      "repeated hour is told apart by the order of the rows.", "2026-10-01 07:00"),
     ("Line pressure [bar(g)]", "yes", "gauge: bar(g), kPa(g), psig; absolute: bar(a), kPa(a), psia, MPa(a)",
      "Static pressure at the meter during the interval. A gauge reading needs the atmospheric pressure: the "
-     "'Barometric pressure' column, or atmospheric_pressure or elevation in the site file.", "39.52"),
+     "'Atmospheric pressure' column, or atmospheric_pressure or elevation in the site file.", "39.52"),
     ("Line temperature [degC]", "yes", "degC, degF, K", "Gas temperature at the meter during the interval.", "11.8"),
     ("Uncorrected volume [m3]", "yes (or one of the two below)", "m3, ft3, Mcf, L",
      "Volume through the meter in the interval at line conditions (not corrected). Instead of it a log may "
@@ -49,7 +49,7 @@ LOG_COLUMNS = [
      "Ultrasonic meters: the meter's mean speed of sound; compared with the analysis' at line pressure and "
      "temperature (AGA8 DETAIL or GERG-2008), intervals beyond speed_of_sound_threshold (0.2 %) are counted.",
      "412.6"),
-    ("Barometric pressure [kPa]", "no", "kPa, hPa, mbar, psia (absolute)",
+    ("Atmospheric pressure [kPa]", "no", "kPa, hPa, mbar, psia (absolute)",
      "Atmospheric pressure logged at the site; used for gauge pressure when the site file allows "
      "(use_barometer, default true). Empty cells fall back to the fixed value or the elevation.", "98.47"),
     ("Site corrected volume [m3]", "no", "m3, ft3, Mcf at the corrector's own base",

@@ -225,14 +225,14 @@ def text_in_numeric_cells(d):
     body = rows()
     body[5][1] = "n/a"
     body[9][2] = "ERR"
-    return log_case(d, csv_text(body=body), exit_code=0, flag="unparseable")
+    return log_case(d, csv_text(body=body), exit_code=0, flag="unreadable")
 
 
 def spreadsheet_error_values(d):
     body = rows()
     body[3][1] = "#DIV/0!"
     body[4][3] = "#VALUE!"
-    return log_case(d, xlsx_bytes(body=body), name="log.xlsx", exit_code=0, flag=("unparseable", "missing"))
+    return log_case(d, xlsx_bytes(body=body), name="log.xlsx", exit_code=0, flag=("unreadable", "missing"))
 
 
 def every_pressure_unreadable(d):
@@ -265,7 +265,7 @@ def unparseable_timestamps(d):
 def one_unparseable_timestamp(d):
     body = rows()
     body[4][0] = "31/02/2026 25:61"
-    return log_case(d, csv_text(body=body), exit_code=0, flag="unparseable")
+    return log_case(d, csv_text(body=body), exit_code=0, flag="unreadable")
 
 
 def timestamps_out_of_order(d):
@@ -286,7 +286,7 @@ def nonexistent_local_time(d):
     body = []
     for i, h in enumerate(["00:00", "01:00", "02:30", "03:00", "04:00"]):
         body.append([f"2026-03-29 {h}", "30.0", "10.0", "800.0"])
-    return log_case(d, csv_text(body=body), exit_code=0, flag="unparseable")
+    return log_case(d, csv_text(body=body), exit_code=0, flag="unreadable")
 
 
 # --------------------------------------------------------------------------------- compositions
@@ -450,7 +450,7 @@ def mistyped_year(d):
     body = rows()
     body[7][0] = body[7][0].replace("2026", "2062")
     body[15][0] = body[15][0].replace("2026", "2500")
-    return log_case(d, csv_text(body=body), exit_code=0, flag="unparseable")
+    return log_case(d, csv_text(body=body), exit_code=0, flag="unreadable")
 
 
 CASES.append(mistyped_year)

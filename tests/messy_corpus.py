@@ -334,7 +334,7 @@ def non_finite_cells(d):
         assert "RuntimeWarning" not in out and "overflow" not in out.lower(), out
         for k, v in s["totals"].items():
             assert v is None or not isinstance(v, float) or v == v and abs(v) < 1e300, (k, v)
-    return Case([p], [str(p), *RUN, *UTC], expect=expect_of(rows), flags={"unparseable": 4}, check=check)
+    return Case([p], [str(p), *RUN, *UTC], expect=expect_of(rows), flags={"unreadable": 4}, check=check)
 
 
 # ------------------------------------------------------------------------------ 5. summary rows
@@ -414,7 +414,7 @@ def decimal_comma_contradiction(d):
             cells[0] = "30.125"
         body.append([tt, *cells])
     p = write(d, "decimal_comma.csv", csv(HEADER, body, sep=";"))
-    return Case([p], [str(p), *RUN, *UTC], expect=expect_of(rows), flags={"unparseable": 1})
+    return Case([p], [str(p), *RUN, *UTC], expect=expect_of(rows), flags={"unreadable": 1})
 
 
 # ----------------------------------------------------------------------- 8. negative volumes

@@ -70,7 +70,7 @@ def test_plain_overbilling_is_not_put_down_to_a_cause(u, daily):
     assert st["fixed atmospheric pressure"] == "tried" and st["ideal gas"] == "tried"
     assert st["heating value"] == "tried" and st["base pressure"] == "restatement"
     att = rec.attribution.set_index("step")
-    assert att.loc["unexplained", "volume_m3"] == pytest.approx(rec.totals["difference_as_billed_m3"], rel=1e-9)
+    assert att.loc["not explained", "volume_m3"] == pytest.approx(rec.totals["difference_as_billed_m3"], rel=1e-9)
     assert att.loc["fixed atmospheric pressure", "evidence"]  # the reason it was not credited is given
 
 
@@ -94,7 +94,7 @@ def test_fixed_atmosphere_injected_is_credited(daily):
     assert st["fixed atmospheric pressure"] == "credited" and st["ideal gas"] == "tried"
     ev = rec.attribution.set_index("step").loc["fixed atmospheric pressure", "evidence"]
     assert ("ΔBIC" in ev) if daily else ("explains the difference" in ev)
-    assert abs(rec.totals["unexplained_volume_m3"]) < 2e-4 * sum(billed)
+    assert abs(rec.totals["not_explained_volume_m3"]) < 2e-4 * sum(billed)
 
 
 def test_fixed_atmosphere_plus_overbilling_daily_credits_both_parts():
@@ -106,7 +106,7 @@ def test_fixed_atmosphere_plus_overbilling_daily_credits_both_parts():
     st = _status(rec)
     assert st["fixed atmospheric pressure"] == "credited"
     att = rec.attribution.set_index("step")
-    assert att.loc["unexplained", "volume_m3"] == pytest.approx(0.006 * sum(billed) / 1.006, rel=0.05)
+    assert att.loc["not explained", "volume_m3"] == pytest.approx(0.006 * sum(billed) / 1.006, rel=0.05)
 
 
 @pytest.mark.parametrize("u", [None, 0.5, 1.5])
@@ -115,7 +115,7 @@ def test_ideal_gas_injected_is_credited(u):
     billed = [_ideal(_sel(a, b)) for a, b in per]  # several percent low at 10-40 bar
     rec = reconcile_frame(_with_u(u), _invoice(per, billed))
     assert _status(rec)["ideal gas"] == "credited"
-    assert abs(rec.totals["unexplained_volume_m3"]) < 1e-6 * sum(billed)
+    assert abs(rec.totals["not_explained_volume_m3"]) < 1e-6 * sum(billed)
 
 
 def test_restating_to_the_invoice_base_is_no_cause():
@@ -132,6 +132,6 @@ def test_restating_to_the_invoice_base_is_no_cause():
     st = _status(rec)
     assert st["base pressure"] == "restatement" and st["base temperature"] == "restatement"
     assert not (rec.attribution["status"] == "credited").any()
-    assert abs(rec.totals["unexplained_volume_m3"]) < 1e-5 * sum(billed)
+    assert abs(rec.totals["not_explained_volume_m3"]) < 1e-5 * sum(billed)
     s = rec.to_summary()
     assert s["credited"] == [] and "ideal gas" in s["tried_not_credited"]

@@ -61,7 +61,7 @@ def test_correct_workbook_with_analysis_table_and_substitution(tmp_path):
                             "--out", str(tmp_path / "o"), "--quiet"])
     assert r.exit_code == 0, r.output
     summary = json.loads(next((tmp_path / "o").glob("*_summary.json")).read_text())
-    assert summary["flags"]["gap"] == 3 and summary["flags"]["unparseable"] == 1
+    assert summary["flags"]["gap"] == 3 and summary["flags"]["unreadable"] == 1
     assert summary["flags"]["estimated"] == 4  # three missing hours and the 'ERR' temperature
 
 

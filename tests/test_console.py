@@ -27,12 +27,27 @@ def test_console_uses_display_units_and_rounds(capsys):
     r.uncertainty = SimpleNamespace(expanded_pct=1.0, expanded_energy_pct=1.0)
     print_summary(r, {})
     out = capsys.readouterr().out
-    assert "Mcf" in out and "MWh" in out and "degF" in out and "psi" in out
+    assert "Mcf" in out and "MWh" in out and "°F" in out and "psi" in out
     assert " m3" not in out.split("outputs:")[0]
     # base volume in Mcf (1 Mcf = 28.316846592 m3, NIST SP 811), rounded to the 1 % uncertainty (two digits)
     v = r.totals["base_volume_m3"] / 28.316846592
-    line = next(ln for ln in out.splitlines() if "base volume (real)" in ln)
-    shown = float(line.split()[3].replace(",", ""))
+    line = next(ln for ln in out.splitlines() if ln.startswith("  base volume  "))
+    shown = float(line.split()[2].replace(",", ""))
     place = 10 ** (len(str(int(0.01 * v))) - 2)
     assert shown == pytest.approx(round(v / place) * place)
     assert "not an approved conversion device" in out
+
+
+def test_console_speaks_the_vocabulary_and_a_us_base_in_us_units(capsys):
+    """Issue 20: one name per quantity on the console; a US base (14.73 psia, 60 degF) is shown in psia,
+    degF, Mcf and MMBtu unless [display_units] says otherwise; the flagged count is broken down."""
+    r = run(month_frame(days=3), settings=month_settings(base="14.73psia-60F"))
+    print_summary(r, {})
+    out = capsys.readouterr().out
+    assert "14.73 psia, 60 °F" in out and "Mcf at base" in out
+    assert "base volume, ideal gas (Z = 1)" in out and "ideal-gas error" in out
+    assert "flagged " in out and "(flagged:" not in out
+    r.settings.display_units = {"volume": "m3"}
+    print_summary(r, {})
+    out = capsys.readouterr().out
+    assert "m3 at base" in out and "psia" in out

@@ -132,7 +132,7 @@ def test_fleet_table_says_what_each_meters_summary_says(tmp_path):
     assert fv["invoice_difference_pct"] == inv[f"{inv['compared_on']}_difference_pct"]
     assert "not explained" in fv["invoice_explained_by"]
     assert fv["corrector_difference_pct"] == summary["corrector_check"]["size_pct"]
-    assert summary["corrector_check"]["findings"][0]["cause"] in fv["corrector_finding"]
+    assert summary["corrector_check"]["findings"][0]["description"] in fv["corrector_finding"]  # words, not the code
     assert rows["heron-fen-m4"]["invoice_difference_pct"] is None
     assert rows["broken-m9"]["status"] == "error" and "log.csv" in rows["broken-m9"]["error"]
 
@@ -145,7 +145,7 @@ def test_fleet_table_says_what_each_meters_summary_says(tmp_path):
     assert ws.page_setup.fitToHeight == 0
     assert ws.print_title_rows.replace("$", "") == "4:4"
     head = [c.value for c in ws[4]]
-    vcol = head.index("Base volume, real gas [m3]") + 1
+    vcol = head.index("Base volume [m3 at base]") + 1
     ecol = head.index("Energy [GJ]") + 1
     by_meter = {ws.cell(row=i, column=1).value: i for i in range(5, 8)}
     i = by_meter["heron-fen-m4"]

@@ -16,7 +16,7 @@ ROOT = Path(meterfix.__file__).resolve().parent
 #: stage of each top-level module or subpackage; a module may import its own stage's modules
 #: only within its own subpackage, and any stage with a lower number
 STAGE = {
-    "__version__": 0, "errors": 0, "constants": 0,
+    "__version__": 0, "errors": 0, "constants": 0, "vocabulary": 0,
     "units": 1, "resources": 1,
     "atmosphere": 2, "gas": 2,
     "readers": 3, "z": 3,          # the bottom stages of the job
@@ -46,7 +46,13 @@ def _imports(path: Path):
     else:
         package = module.rsplit(".", 1)[0]
     tree = ast.parse(path.read_text(encoding="utf-8"))
+    # names imported only for type annotations (`if TYPE_CHECKING:`) are not imports at run time: the
+    # result object of a lower stage may name the types a higher stage fills it with
+    typing_only = {id(n) for b in ast.walk(tree) if isinstance(b, ast.If) and getattr(b.test, "id", "") == "TYPE_CHECKING"
+                   for s in b.body for n in ast.walk(s)}
     for node in ast.walk(tree):
+        if id(node) in typing_only:
+            continue
         if isinstance(node, ast.ImportFrom):
             if node.level:
                 base = package.split(".")

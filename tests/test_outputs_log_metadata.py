@@ -100,7 +100,7 @@ def test_summary_points_at_the_unreadable_cell(faults):
     assert (e["file"], e["sheet"], e["row"], e["column"], e["text"]) == \
         ("heron_fen_m4_faults.csv", None, line, column, text)
     assert d["log"]["dropped_rows"] == {"count": 0, "listed": 0, "entries": []}
-    assert d["log"]["reader_flags"]["unparseable"] == 1
+    assert d["log"]["reader_flags"]["unreadable"] == 1
 
 
 def test_source_data_sheet_lists_the_cell_as_text(faults):
@@ -229,10 +229,10 @@ def test_summary_lists_the_first_entries_and_counts_all():
                        columns={"a.csv": {"pressure_gauge": "P [bar(g)]"}, "b.xlsx": {"pressure_gauge": "P [bar(g)]"}},
                        units={"pressure_gauge": "bar(g)"})
     # entries recorded out of order: b.xlsx first, rows descending
-    meta.unparseable = [{"file": "b.xlsx", "sheet": "Log", "row": 5, "column": "P [bar(g)]", "value": "x"}]
-    meta.unparseable += [{"file": "a.csv", "sheet": None, "row": r, "column": "P [bar(g)]", "value": "?"}
+    meta.unreadable = [{"file": "b.xlsx", "sheet": "Log", "row": 5, "column": "P [bar(g)]", "value": "x"}]
+    meta.unreadable += [{"file": "a.csv", "sheet": None, "row": r, "column": "P [bar(g)]", "value": "?"}
                          for r in range(130, 10, -1)]
-    meta.unparseable_count = 400  # the reader counts beyond what it lists
+    meta.unreadable_count = 400  # the reader counts beyond what it lists
     rec = log_record(meta)
     u = rec["unreadable_cells"]
     assert u["count"] == 400 and u["listed"] == LISTED == len(u["entries"])

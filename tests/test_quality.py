@@ -46,7 +46,7 @@ def test_flags_where_the_faults_are(faults):
     assert rows("flag_temperature_range") == [55]             # 150 degC
     assert rows("flag_flow_zero_pressure") == [50]
     assert 40 in rows("flag_spike")                           # 38 degC among 9.0-10.5 degC
-    assert rows("flag_unparseable") == [60] and rows("flag_missing") == [65]
+    assert rows("flag_unreadable") == [60] and rows("flag_missing") == [65]
     assert rows("flag_pressure_range") == []
     assert faults.equals(read_log(FIX / "heron_fen_m4_faults.csv")[0])  # input frame not modified
 
@@ -72,7 +72,7 @@ def test_interpolate_records_every_edit(faults):
     # zero pressure while flowing (i = 50); the unparseable volume (i = 60) between 810 and 850 m3
     assert e[(e["time"] == at(50))]["reason"].tolist() == ["zero pressure while gas flows"]
     r = e[(e["time"] == at(60))].iloc[0]
-    assert r["what"] == "volume_line" and r["reason"] == "unparseable cell" and r["new"] == pytest.approx(830.0)
+    assert r["what"] == "volume_line" and r["reason"] == "unreadable cell" and r["new"] == pytest.approx(830.0)
     assert list(e.columns) == ["time", "what", "original", "new", "method", "reason"]
     assert q["flag_estimated"].sum() == 4 + 1 + 1 + 1 + 1
     # spikes and stuck values are flagged, not replaced

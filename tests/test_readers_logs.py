@@ -116,9 +116,9 @@ def test_xlsx_log_sheet_barometer_site_volume_and_bad_cell():
     assert r["volume_corrected_site"] == 4200.0 and r["source_row"] == 4
     # 'ERR' in the temperature of spreadsheet row 9: NaN, flagged, the cell recorded
     i = int(np.flatnonzero(f["source_row"].to_numpy() == 9)[0])
-    assert np.isnan(f["temperature_line"].iat[i]) and f["flag_unparseable"].iat[i]
+    assert np.isnan(f["temperature_line"].iat[i]) and f["flag_unreadable"].iat[i]
     assert f["volume_line"].iat[i] == 1150.0  # the rest of the row is kept
-    assert m.unparseable == [{"file": "fv_m1_log.xlsx", "sheet": "Log", "row": 9,
+    assert m.unreadable == [{"file": "fv_m1_log.xlsx", "sheet": "Log", "row": 9,
                               "column": "Line temperature [degC]", "value": "ERR"}]
     # three hours missing (ending 19:00-21:00 CEST = 17:00-19:00 UTC); the reader leaves them to the
     # quality step, and the row after them keeps a one-hour duration
@@ -209,7 +209,7 @@ def test_time_going_backwards_and_unreadable_time():
     # of the file carries the flag so that the month's counts show it
     assert m.dropped_rows == [{"file": "b.csv", "sheet": None, "row": 5, "reason": "the time cannot be read",
                                "value": "not a time"}]
-    assert f["flag_unparseable"].tolist() == [False, False, False, True]
+    assert f["flag_unreadable"].tolist() == [False, False, False, True]
 
 
 def test_unreadable_time_placed_between_regular_neighbours():
@@ -217,8 +217,8 @@ def test_unreadable_time_placed_between_regular_neighbours():
             "31/02/2026 25:61,1,10,6\n2026-10-01 09:00,1,10,5\n2026-10-01 10:00,1,10,5\n")
     f, m = parse_log(io.BytesIO(text.encode()), name="b.csv")
     assert list(f.index.hour) == [6, 7, 8, 9, 10] and f["volume_line"].tolist() == [5, 5, 6, 5, 5]
-    assert f["flag_unparseable"].tolist() == [False, False, True, False, False] and m.dropped_rows == []
-    assert m.unparseable[0]["row"] == 4 and m.unparseable[0]["column"] == "Interval end"
+    assert f["flag_unreadable"].tolist() == [False, False, True, False, False] and m.dropped_rows == []
+    assert m.unreadable[0]["row"] == 4 and m.unreadable[0]["column"] == "Interval end"
 
 
 def test_nonexistent_spring_hour_dropped_with_reason():
@@ -226,7 +226,7 @@ def test_nonexistent_spring_hour_dropped_with_reason():
             "2026-03-29 03:00,1,10,5\n")
     f, m = parse_log(io.BytesIO(text.encode()), name="s.csv", timezone="Europe/Berlin")
     assert len(f) == 2 and "does not exist" in m.dropped_rows[0]["reason"] and m.dropped_rows[0]["row"] == 3
-    assert f["flag_unparseable"].tolist() == [False, True]
+    assert f["flag_unreadable"].tolist() == [False, True]
 
 
 def test_spreadsheet_serial_times_in_text():
@@ -275,7 +275,7 @@ def test_one_bad_cell_in_a_long_log_is_a_flagged_row():
         lines.append(f"{t0 + dt.timedelta(hours=i):%Y-%m-%d %H:%M},{'x1,2' if i == 777 else '4.5'},10,5")
     lines[778] = lines[778].replace('x1,2', '"x1,2"')
     f, m = parse_log(io.BytesIO("\n".join(lines).encode()), name="long.csv")
-    assert len(f) == 2000 and f["flag_unparseable"].sum() == 1 and m.unparseable[0]["row"] == 779
+    assert len(f) == 2000 and f["flag_unreadable"].sum() == 1 and m.unreadable[0]["row"] == 779
 
 
 def test_ods_date_and_time_cells():

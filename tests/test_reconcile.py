@@ -46,7 +46,7 @@ def _check_waterfall(att):
     end = att.loc[att["kind"] == "end"]
     steps = att.loc[att["kind"] == "step"]
     assert list(steps["step"]) == ["base pressure", "base temperature", "ideal gas", "fixed atmospheric pressure",
-                                   "heating value", "estimated intervals", "unexplained"]
+                                   "heating value", "estimated intervals", "not explained"]
     # the steps add up to the total difference exactly (floating-point rounding only)
     total_v = end["volume_m3"].iat[0] - start["volume_m3"].iat[0]
     assert steps["volume_m3"].sum() == pytest.approx(total_v, abs=1e-9 * abs(end["volume_m3"].iat[0]))
@@ -97,7 +97,7 @@ def test_invoice_at_other_base_agrees_on_one_basis():
     vol, en = _check_waterfall(rec.attribution)
     # the apparent difference as billed is all base conditions: 14.73 psia vs 101.325 kPa, 60 degF vs 15 degC
     assert vol["base pressure"] + vol["base temperature"] == pytest.approx(sum(billed) - sum(ours), rel=2e-3)
-    assert abs(vol["unexplained"]) < 1e-4 * sum(ours)
+    assert abs(vol["not explained"]) < 1e-4 * sum(ours)
     assert en["base pressure"] == 0.0 and en["base temperature"] == 0.0
 
 
@@ -113,8 +113,8 @@ def test_ideal_gas_invoice_is_attributed_to_ideal_gas():
     vol, en = _check_waterfall(rec.attribution)
     applied = dict(zip(rec.attribution["step"], rec.attribution["applied"]))
     assert applied["ideal gas"] and not applied["fixed atmospheric pressure"]
-    assert abs(vol["unexplained"]) < 1e-9 * sum(billed)
-    assert abs(en["unexplained"]) < 1e-9 * sum(billed) * hv_i / 1e6
+    assert abs(vol["not explained"]) < 1e-9 * sum(billed)
+    assert abs(en["not explained"]) < 1e-9 * sum(billed) * hv_i / 1e6
     # the ideal-gas step is the month's ideal-gas error (pipeline total) restated at their base
     real_at_theirs = sum(billed) - vol["ideal gas"]
     assert 100 * vol["ideal gas"] / real_at_theirs == pytest.approx(RESULT.totals["ideal_gas_error_pct"], rel=1e-3)
@@ -138,7 +138,7 @@ def test_fixed_atmosphere_and_heating_value():
     applied = dict(zip(rec.attribution["step"], rec.attribution["applied"]))
     assert applied["fixed atmospheric pressure"] and applied["heating value"] and not applied["ideal gas"]
     assert vol["base pressure"] == 0.0 and vol["base temperature"] == pytest.approx(0.0, abs=1e-9)
-    assert abs(vol["unexplained"]) < 1e-9 * sum(billed) and abs(en["unexplained"]) < 1e-9 * sum(energy) / 1e6
+    assert abs(vol["not explained"]) < 1e-9 * sum(billed) and abs(en["not explained"]) < 1e-9 * sum(energy) / 1e6
     assert en["heating value"] == pytest.approx(sum(billed) * (38.0 - 38.5), rel=1e-9)
 
 
@@ -153,7 +153,7 @@ def test_estimated_intervals_step():
     rec = reconcile_frame(r, _invoice(billed, P_ISO, T_ISO))
     vol, _ = _check_waterfall(rec.attribution)
     assert vol["estimated intervals"] == pytest.approx(-0.5 * est, rel=1e-9)
-    assert abs(vol["unexplained"]) < 1e-6
+    assert abs(vol["not explained"]) < 1e-6
 
 
 def test_tolerance_and_uncertainty_flags():
@@ -197,4 +197,4 @@ def test_reconcile_invoice_file_and_summary(tmp_path):
     assert rec.totals["volume_difference_pct"] == pytest.approx(1.0, abs=1e-5)
     s = rec.to_summary()
     text = json.dumps(_clean(s))
-    assert "attribution" in s and "periods" in s and len(s["periods"]) == 2 and "unexplained" in text
+    assert "attribution" in s and "periods" in s and len(s["periods"]) == 2 and "not explained" in text

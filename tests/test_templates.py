@@ -127,7 +127,7 @@ def test_filled_log_template_reads_back(tmp_path):
     t0 = dt.datetime(2026, 10, 1, 7, 0)
     rows = [{"Interval end": t0 + dt.timedelta(hours=i), "Line pressure [bar(g)]": 39.5 + 0.1 * i,
              "Line temperature [degC]": 11.0 + i, "Uncorrected volume [m3]": 1150.0 + i,
-             "Barometric pressure [kPa]": 98.4, "Site corrected volume [m3]": 40000.0 + i, "Status": "ok"}
+             "Atmospheric pressure [kPa]": 98.4, "Site corrected volume [m3]": 40000.0 + i, "Status": "ok"}
             for i in range(4)]
     p, _ = _fill("log.xlsx", tmp_path, "Log", rows, "filled_log.xlsx")
     frame, meta = read_log(p, timezone="Europe/Berlin")

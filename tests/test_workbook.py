@@ -75,9 +75,9 @@ def test_interval_headers_units_formats_and_values(book):
     for want in ("Interval end [UTC]", "Interval end [local, Europe/Berlin]", "Gas day", "Line pressure [kPa abs]",
                  "Atmospheric pressure [kPa abs]", "Line temperature [°C]", "Uncorrected volume [m3]",
                  "Zf at line [-]", "Zb at base [-]", "Fp = pf/pb [-]", "Ft = Tb/Tf [-]", "Zb/Zf = Fpv² [-]",
-                 "Corrected volume, real gas [m3 at base]", "Corrected volume, ideal gas Z=1 [m3 at base]",
+                 "Base volume [m3 at base]", "Base volume, ideal gas (Z = 1) [m3 at base]",
                  "Ideal-gas error [%]", "Energy [GJ]", "Heating value, gross [MJ/m3]", "Flag: gap",
-                 "Site corrector volume [m3 at its base]", "Corrector ÷ ours [-]"):
+                 "Site corrector volume [m3 at its base]", "Site corrector ÷ ours [-]"):
         assert want in h, want
     assert ws.max_row == N + 1
     assert ws.freeze_panes == "B2"
@@ -90,7 +90,7 @@ def test_interval_headers_units_formats_and_values(book):
     assert [t for t, o in zip(temps, ok) if o] == pytest.approx(list(d["temperature_line"][ok] - 273.15), abs=1e-9)
     assert all(t is None for t, o in zip(temps, ok) if not o)  # the gap stays empty, not zero
     assert _floats(_column_values(ws, "Zb/Zf = Fpv² [-]")) == pytest.approx(list(d["factor_z"]), rel=1e-12, nan_ok=True)
-    vb = _column_values(ws, "Corrected volume, real gas [m3 at base]")
+    vb = _column_values(ws, "Base volume [m3 at base]")
     assert sum(v for v in vb if v is not None) == pytest.approx(RESULT.totals["base_volume_m3"], rel=1e-12)
     e = _column_values(ws, "Energy [GJ]")
     assert sum(v for v in e if v is not None) == pytest.approx(RESULT.totals["energy_MJ"] / 1e3, rel=1e-12)
@@ -117,17 +117,17 @@ def test_overview_totals_caution_method_inputs(book):
     val = lambda label: ws.cell(row=_label_row(ws, label), column=2).value  # noqa: E731
     unit = lambda label: ws.cell(row=_label_row(ws, label), column=3).value  # noqa: E731
     assert val("Uncorrected volume") == pytest.approx(t["uncorrected_volume_m3"], rel=1e-12)
-    assert val("Corrected volume, real gas") == pytest.approx(t["base_volume_m3"], rel=1e-12)
-    assert val("Corrected volume, ideal gas (Z = 1)") == pytest.approx(t["ideal_gas_base_volume_m3"], rel=1e-12)
+    assert val("Base volume") == pytest.approx(t["base_volume_m3"], rel=1e-12)
+    assert val("Base volume, ideal gas (Z = 1)") == pytest.approx(t["ideal_gas_base_volume_m3"], rel=1e-12)
     assert val("Difference, ideal − real") == pytest.approx(t["ideal_gas_base_volume_m3"] - t["base_volume_m3"],
                                                              rel=1e-12)
     assert val("Ideal-gas error") == pytest.approx(t["ideal_gas_error_pct"], rel=1e-12)
     assert val("Energy, gross") == pytest.approx(t["energy_MJ"] / 1e3, rel=1e-12) and unit("Energy, gross") == "GJ"
-    assert val("Expanded uncertainty, volume") == pytest.approx(RESULT.uncertainty.expanded_pct, rel=1e-12)
+    assert val("Expanded uncertainty, base volume") == pytest.approx(RESULT.uncertainty.expanded_pct, rel=1e-12)
     assert val("Expanded uncertainty, energy") == pytest.approx(RESULT.uncertainty.expanded_energy_pct, rel=1e-12)
     assert val("Intervals") == N
-    assert unit("Corrected volume, real gas") == "m3 at base"
-    assert ws.cell(row=_label_row(ws, "Corrected volume, real gas"), column=2).number_format == "#,##0.0"
+    assert unit("Base volume") == "m3 at base"
+    assert ws.cell(row=_label_row(ws, "Base volume"), column=2).number_format == "#,##0.0"
     # the caution of the summary, prominent near the top
     assert ws["A3"].value == "CAUTION" and ws["A4"].value == CAUTION
     assert "A4:D7" in {str(m) for m in ws.merged_cells.ranges}
@@ -153,7 +153,7 @@ def test_gas_days_and_month_row(book):
     n = len(g)
     assert ws.cell(row=2, column=1).value == dt.datetime(2026, 10, 1)  # a date cell, read back as midnight
     assert ws.cell(row=2, column=1).number_format == "yyyy-mm-dd"
-    h = "Corrected volume, real gas [m3 at base]"
+    h = "Base volume [m3 at base]"
     assert _column_values(ws, h, 2, n + 1) == pytest.approx(list(g["volume_base"]), rel=1e-12)
     assert _column_values(ws, "Ideal-gas error [%]", 2, n + 1) == pytest.approx(list(g["ideal_gas_error_pct"]),
                                                                                 rel=1e-12)
@@ -197,8 +197,8 @@ def test_charts_plot_the_right_cells(book):
     assert _series_refs(charts[1]) == [(local, _ref(iv, "Zb/Zf = Fpv² [-]", 2, N + 1))]
     days = f"'Gas days'!$A$2:$A${n_days + 1}"
     assert _series_refs(charts[2]) == [
-        (days, _ref(gd, "Corrected volume, real gas [m3 at base]", 2, n_days + 1)),
-        (days, _ref(gd, "Corrected volume, ideal gas Z=1 [m3 at base]", 2, n_days + 1))]
+        (days, _ref(gd, "Base volume [m3 at base]", 2, n_days + 1)),
+        (days, _ref(gd, "Base volume, ideal gas (Z = 1) [m3 at base]", 2, n_days + 1))]
     assert charts[2].grouping == "clustered"
     assert _series_refs(charts[3]) == [(days, _ref(gd, "Ideal-gas error [%]", 2, n_days + 1))]
     # every error is negative here (Z < 1 at 40 bar): the axis ends at zero so bars hang from it
@@ -276,7 +276,7 @@ def test_corrector_sheet_and_ratio_chart(book):
     iv = wb["Intervals"]
     local = _ref(iv, "Interval end [local, Europe/Berlin]", 2, N + 1)
     assert _series_refs(ch) == [(local, _ref(iv, "Fitted ratio, best explanation [-]", 2, N + 1)),
-                                (local, _ref(iv, "Corrector ÷ ours [-]", 2, N + 1))]
+                                (local, _ref(iv, "Site corrector ÷ ours [-]", 2, N + 1))]
 
 
 def test_uncertainty_budget_readable(book):
@@ -381,7 +381,7 @@ def test_analyses_sheet(book):
     r = _label_row(ws, "methane")
     assert ws.cell(row=r, column=3).value == pytest.approx(93.12)
     assert ws.cell(row=r, column=4).value == pytest.approx(91.05)
-    r = _label_row(ws, "In force from (local)")
+    r = _label_row(ws, "Effective from (local)")
     assert ws.cell(row=r, column=4).value == dt.datetime(2026, 10, 15, 6, 0)
     r = _label_row(ws, "Zb at base conditions")
     assert ws.cell(row=r, column=3).value == pytest.approx(RESULT.analyses[0].z_base, rel=1e-12)
@@ -410,9 +410,12 @@ def test_history_sheet_from_the_store(tmp_path):
     wb = load_workbook(W.write_workbook(r, tmp_path / "h.xlsx"))
     assert wb.sheetnames[-1] == "History"
     ws = wb["History"]
-    top = _label_row(ws, "month")
-    assert _headers(ws, top)[:6] == list(r.history.columns)  # headers as given
+    top = _label_row(ws, "Gas month")
+    # the vocabulary's words and the display units (GJ by default), as the rest of the workbook
+    assert _headers(ws, top)[:6] == ["Gas month", "Version", "Closed at (UTC)", "Base volume [m3 at base]",
+                                     "Energy [GJ]", "Ideal-gas error [%]"]
     assert ws.cell(row=top + 3, column=4).value == pytest.approx(1.31e6)
+    assert ws.cell(row=top + 3, column=5).value == pytest.approx(5.3e4)   # 5.3e7 MJ = 5.3e4 GJ
     assert ws.cell(row=top + 3, column=4).number_format == "#,##0.0"      # _m3
     assert ws.cell(row=top + 3, column=6).number_format == "0.000"        # _pct
     assert ws.cell(row=top + 3, column=3).value == dt.datetime(2026, 11, 2, 9, 30)  # UTC, as the note says

@@ -17,7 +17,7 @@ ones, in this order:
 5. ``heating value`` — the invoice's own stated heating value instead of the analysis' (energy only);
 6. ``estimated intervals`` — the remaining difference up to the volume (energy) of the intervals
    we estimated: the supplier may have estimated them differently. A bound, not a recomputation;
-7. ``unexplained`` — the rest (status ``rest``).
+7. ``not explained`` — the rest (status ``rest``).
 
 Steps 3–6 are hypotheses. One is **credited** (status ``credited``, applied) only with evidence:
 
@@ -30,7 +30,7 @@ Steps 3–6 are hypotheses. One is **credited** (status ``credited``, applied) o
   Assoc. 90 (1995) 773). A fit decisively worse (ΔBIC <= -10) rejects it.
 
 Otherwise it is listed as **tried** (status ``tried``, 0, not applied) with the reason. So a
-plain over-billing stays in ``unexplained``: no hypothesis with a fixed, physical assumption
+plain over-billing stays in ``not explained``: no hypothesis with a fixed, physical assumption
 reproduces a constant factor. U is the combined expanded uncertainty of the comparison (ours and
 the billing meter's, meterfix.checks.invoice.combined_uncertainty_pct); when the month ran
 without its uncertainty, FALLBACK_UNCERTAINTY_PCT stands in and the parameter text says so.
@@ -46,6 +46,7 @@ import numpy as np
 import pandas as pd
 
 from ..z import evaluate_z
+from ..z import IDEAL_METHOD
 
 #: billing periods from which the per-period (daily) criterion applies
 DAILY_MIN_PERIODS = 7
@@ -56,13 +57,13 @@ EVIDENCE_DELTA_BIC = 10.0
 FALLBACK_UNCERTAINTY_PCT = 0.1
 
 STEP_ORDER = ("base pressure", "base temperature", "ideal gas", "fixed atmospheric pressure", "heating value",
-              "estimated intervals", "unexplained")
+              "estimated intervals", "not explained")
 
 
 def _z(result, k, pressure, temperature):
     """Z of analysis k at points [-] (1 for the ideal method or without a gas)."""
     gas = result.analyses[k].gas
-    if gas is None or result.method["name"] == "ideal":
+    if gas is None or result.method["name"] == IDEAL_METHOD:
         return np.ones(np.broadcast(np.asarray(pressure), np.asarray(temperature)).shape)
     return np.asarray(evaluate_z(pressure, temperature, gas, result.method["name"]).z, float)
 
@@ -322,7 +323,7 @@ def attribute_difference(result, invoice: pd.DataFrame, chunks, *, assumed_press
               else f"the rest exceeds the {v_est:.6g} m3 of estimated intervals")
     else:
         tried("estimated intervals", "", "no estimated intervals")
-    rows.append(("unexplained", "step", "rest", True, v_billed - v_cur, e_billed - e_cur, "the rest",
+    rows.append(("not explained", "step", "rest", True, v_billed - v_cur, e_billed - e_cur, "the rest",
                  f"{_rel(v_billed, v_cur):+.3g} % of volume against ±{u_used:.3g} %" + u_note))
     rows.append(("invoice", "end", "end", True, v_billed, e_billed, "as billed, at the invoice's base", ""))
     out = pd.DataFrame(rows, columns=["step", "kind", "status", "applied", "volume_m3", "energy_J", "parameter",

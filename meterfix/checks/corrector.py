@@ -62,6 +62,7 @@ import numpy as np
 import pandas as pd
 
 from ..z import evaluate_z
+from ..z import IDEAL_METHOD
 from .corrector_models import (CAUSE_TEXT, COMMON_BASE_PRESSURES, COMMON_BASE_TEMPERATURES, OTHER_CAUSES,  # noqa: F401
                                Z_CAUSES, cause_text, causes as _causes, combinations, device_type, fit, plausibility)
 
@@ -148,7 +149,7 @@ def _log_derivatives(result, d):
     """β = ∂lnZ/∂lnp and γ = ∂lnZ/∂lnT at line conditions, by central differences [-]."""
     n = len(d)
     beta, gamma = np.zeros(n), np.zeros(n)
-    if result.method["name"] == "ideal":
+    if result.method["name"] == IDEAL_METHOD:
         return beta, gamma
     p = d["pressure_line"].to_numpy(float)
     t = d["temperature_line"].to_numpy(float)
@@ -176,7 +177,7 @@ def _z_function(result, d):
 
     def z_at(p, t):
         z = np.ones(len(k))
-        if meth == "ideal":
+        if meth == IDEAL_METHOD:
             return z
         for kk in np.unique(k):
             gas = result.analyses[int(kk)].gas
@@ -245,7 +246,7 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
         for kk in np.unique(d["analysis"]):
             gas = result.analyses[int(kk)].gas
             m = d["analysis"].to_numpy(int) == kk
-            if gas is not None and result.method["name"] != "ideal":
+            if gas is not None and result.method["name"] != IDEAL_METHOD:
                 zb_c[m] = float(np.asarray(evaluate_z(pb, tb, gas, result.method["name"]).z).reshape(-1)[0])
         ours = ours * (s.base_pressure / pb) * (tb / s.base_temperature) * (zb_c / d["z_base"].to_numpy(float))
     est = d["estimated"].to_numpy(bool)
@@ -299,7 +300,7 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     main = int(du.groupby("analysis")["volume_base"].sum().idxmax())
     ctx["z_base_main"] = float(result.analyses[main].z_base)
     gas_main = result.analyses[main].gas
-    ctx["z_base_at"] = (lambda p_, t_: 1.0) if (gas_main is None or result.method["name"] == "ideal") else (
+    ctx["z_base_at"] = (lambda p_, t_: 1.0) if (gas_main is None or result.method["name"] == IDEAL_METHOD) else (
         lambda p_, t_: float(np.asarray(evaluate_z(p_, t_, gas_main, result.method["name"]).z).reshape(-1)[0]))
     cause_sets = {zw: _causes(ctx, zw) for zw in (1.0, 0.5, 0.0)}
     real_gas = float(np.max(np.abs(ctx["L"]))) > 1e-6
@@ -346,7 +347,7 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
         return 100.0 * float(dv.sum()) / vk.sum(), float(dv.sum()), e
 
     none_score = n * np.log(ss0 + SIGMA_FLOOR**2)
-    candidates = [{"cause": "none", "causes": [], "score": float(none_score), "delta_bic": 0.0, "r2": 0.0,
+    candidates = [{"cause": "none", "description": "no misconfiguration", "causes": [], "score": float(none_score), "delta_bic": 0.0, "r2": 0.0,
                    "rms_residual_pct": 100.0 * np.sqrt(ss0), "size_pct": 0.0, "parameters": {},
                    "credited": False, "why_not": "the reference: no misconfiguration"}]
     fitted = {"none": np.zeros(len(y))}
@@ -355,7 +356,8 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     theta_c = float(np.sum(w * y))
     mse_c = float(np.sum(w * (y - theta_c) ** 2))
     constant_score = n * np.log(mse_c + SIGMA_FLOOR**2) + 2 * np.log(n)
-    candidates.append({"cause": "constant-ratio", "causes": [], "score": float(constant_score),
+    candidates.append({"cause": "constant-ratio", "description": "a constant ratio (a base condition, a pulse "
+                       "factor or a meter factor: the data cannot say which)", "causes": [], "score": float(constant_score),
                        "delta_bic": float(none_score - constant_score),
                        "r2": float(1.0 - mse_c / ss0) if ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse_c),
                        "size_pct": 100.0 * float(np.expm1(theta_c)), "parameters": {"ratio": float(np.exp(theta_c))},

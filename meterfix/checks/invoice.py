@@ -97,8 +97,8 @@ def combined_uncertainty_pct(result, meter_uncertainty_pct=None) -> tuple[float 
     -------
     (float or None, dict)   None when our own uncertainty is not known
     """
-    ours = getattr(result.uncertainty, "expanded_pct", None) if result.uncertainty is not None else None
-    table = dict(getattr(result.settings, "uncertainty", {}) or {})
+    ours = result.uncertainty.expanded_pct if result.uncertainty is not None else None
+    table = dict(result.settings.uncertainty)
     meter = meter_uncertainty_pct
     source = "argument"
     if meter is None:
@@ -197,8 +197,8 @@ def reconcile_frame(result, invoice: pd.DataFrame, *, meter_uncertainty_pct=None
     end = attribution[attribution["kind"] == "end"]
     start = attribution[attribution["kind"] == "start"]
     tot["difference_as_billed_m3"] = float(end["volume_m3"].iat[0] - start["volume_m3"].iat[0])
-    tot["unexplained_volume_m3"] = float(attribution.loc[attribution["step"] == "unexplained", "volume_m3"].iat[0])
-    tot["unexplained_energy_MJ"] = float(attribution.loc[attribution["step"] == "unexplained", "energy_MJ"].iat[0])
+    tot["not_explained_volume_m3"] = float(attribution.loc[attribution["step"] == "not explained", "volume_m3"].iat[0])
+    tot["not_explained_energy_MJ"] = float(attribution.loc[attribution["step"] == "not explained", "energy_MJ"].iat[0])
     return InvoiceReconciliation(periods=periods, attribution=attribution, totals=tot, uncertainty=parts,
                                  currency=currency or s.currency, file=file, warnings=warnings)
 

@@ -13,6 +13,7 @@ from typing import List, Optional
 
 import typer
 
+from ..constants import PSI, T0
 from ..errors import MeterfixError
 
 from .app import _fail, app  # noqa: F401  (the application; commands register on it)
@@ -140,8 +141,8 @@ def _z(gas, composition, method, pressure, temperature, volume, atmospheric_pres
         return
     rows = [
         ("Z", f"{out['z']:.6f}", ""),
-        ("pressure", f"{out['pressure_Pa'] / 1e3:.4f} kPa", f"{out['pressure_Pa'] / 6894.757293168361:.3f} psia"),
-        ("temperature", f"{out['temperature_K']:.3f} K", f"{out['temperature_K'] - 273.15:.3f} degC"),
+        ("pressure", f"{out['pressure_Pa'] / 1e3:.4f} kPa", f"{out['pressure_Pa'] / PSI:.3f} psia"),
+        ("temperature", f"{out['temperature_K']:.3f} K", f"{out['temperature_K'] - T0:.3f} degC"),
         ("specific volume", f"{out['specific_volume_m3_per_kg']:.6g} m3/kg", ""),
         ("density", f"{out['density_kg_per_m3']:.6g} kg/m3", ""),
         ("molar mass", f"{out['molar_mass_kg_per_mol'] * 1000:.4f} g/mol", ""),

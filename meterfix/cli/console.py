@@ -9,6 +9,9 @@ import sys
 import numpy as np
 import typer
 
+from .. import vocabulary as V
+from ..vocabulary import flags_breakdown
+
 
 @contextlib.contextmanager
 def progress_bar(enabled: bool = True):
@@ -28,6 +31,11 @@ def progress_bar(enabled: bool = True):
             bar.update(task, description=text, completed=fraction)
 
         yield update
+
+
+def _lc(label: str) -> str:
+    """A label of the vocabulary as the console writes it, first letter small."""
+    return label[:1].lower() + label[1:]
 
 
 def _finite(v) -> bool:
@@ -67,23 +75,29 @@ def _pct(v, u=None) -> str:
 
 
 class _Display:
-    """The user's display units (site file ``[display_units]``); SI in, text out."""
+    """The run's display units (the workbook's: site file ``[display_units]``, US units for a US
+    base); SI in, text out."""
 
-    DEFAULT = {"volume": "m3", "energy": "GJ", "pressure": "kPa", "temperature": "degC"}
+    KINDS = ("volume", "energy", "pressure", "temperature")
 
-    def __init__(self, table):
+    def __init__(self, settings):
+        from ..errors import SettingsError
         from ..units import parse_unit
+        from ..writers.xlsx_common import DisplayUnits
 
-        self.units, self.names = {}, {}
-        for kind, name in self.DEFAULT.items():
-            want = str((table or {}).get(kind, name)).strip()
-            try:
-                self.units[kind], self.names[kind] = parse_unit(want, kind), want
-            except Exception:  # noqa: BLE001 - a bad display unit is refused by the writers; fall back here
-                self.units[kind], self.names[kind] = parse_unit(name, kind), name
+        try:
+            du = DisplayUnits.for_settings(settings)
+        except SettingsError:  # a bad display unit is refused by the writers; fall back here
+            du = DisplayUnits(None)
+        self.units = {k: parse_unit(du.names[k], k) for k in self.KINDS}
+        self.names = {k: du.label(k) for k in self.KINDS}
 
     def value(self, kind, si):
         return float(self.units[kind].from_si(float(si))) if _finite(si) else float("nan")
+
+    def exact(self, kind, si):
+        """'14.73 psia': a stated value (a base condition) to six significant digits, no trailing zeros."""
+        return f"{self.value(kind, si):.6g} {self.names[kind]}"
 
     def text(self, kind, si, u_si=None):
         """'35,890,000 m3': the value in the display unit, rounded to its uncertainty [same SI unit]."""
@@ -96,13 +110,13 @@ class _Display:
 def _print_reading(result) -> None:
     """How the log was read: per file (and sheet) one line per column, header → quantity [unit]
     (canonical name); columns not used; what the reader decided (notes)."""
-    meta = getattr(result, "log_metadata", None)
+    meta = result.log_metadata
     if meta is None:
         return
     from ..writers.source_record import _file_columns
 
-    sources = {s.get("file"): s for s in (getattr(meta, "sources", None) or [])}
-    ignored = getattr(meta, "ignored_columns", {}) or {}
+    sources = {s.get("file"): s for s in (meta.sources or [])}
+    ignored = meta.ignored_columns or {}
     for key, cols in _file_columns(meta).items():
         src = sources.get(key.split(" (from row")[0], {})
         where = key + (f", sheet '{src['sheet']}'" if src.get("sheet") else "")
@@ -112,16 +126,16 @@ def _print_reading(result) -> None:
             typer.echo(f"    '{c['header']}' → {c['meaning']}{unit} ({name})")
         if ignored.get(key):
             typer.echo("    not used: " + ", ".join(f"'{h}'" for h in ignored[key]))
-    vf = getattr(meta, "volume_from", "")
+    vf = meta.volume_from
     if vf:
         typer.echo(f"  volume from          {vf}")
-    oi = getattr(meta, "opening_index", None)
+    oi = meta.opening_index
     if oi is not None and "index" in vf:
         typer.echo(f"  opening index        {oi:,.6g} m3 (the reading that opens the log; "
                    "--opening-index sets the one before the first row)")
-    for note in (getattr(meta, "notes", None) or [])[:12]:
+    for note in (meta.notes or [])[:12]:
         typer.echo(f"  reader: {note}")
-    extra = len(getattr(meta, "notes", None) or []) - 12
+    extra = len(meta.notes or []) - 12
     if extra > 0:
         typer.echo(f"  reader: ... {extra} more note(s) in the summary JSON and the Source data sheet")
 
@@ -138,13 +152,14 @@ def _print_without_result(result) -> None:
         return
     no_vol = none & ~np.isfinite(vl)
     no_res = none & np.isfinite(vl)
-    for mask, what in ((no_res, "with volume but no corrected result (pressure, temperature or Z unknown)"),
-                       (no_vol, "without a known volume (gap, unreadable, left out)")):
+    tz = result.settings.timezone
+    for mask, what in ((no_res, f"{V.INTERVALS_WITHOUT_RESULT}: volume but no base volume (pressure, "
+                                "temperature or Z unknown)"),
+                       (no_vol, "intervals without volume (gap, unreadable cell, row left out)")):
         k = int(mask.sum())
         if k:
-            first = ", ".join(ts.isoformat() for ts in iv.index[mask][:3])
-            typer.echo(f"  without result       {k} interval(s) {what}; first: {first}"
-                       + (" ..." if k > 3 else ""))
+            first = ", ".join(ts.tz_convert(tz).strftime("%Y-%m-%d %H:%M") for ts in iv.index[mask][:3])
+            typer.echo(f"  {what}: {k}; first interval ends {first} ({tz})" + (" ..." if k > 3 else ""))
 
 
 def _print_meter_kind(result) -> None:
@@ -169,28 +184,31 @@ def _print_meter_kind(result) -> None:
 def print_summary(result, written: dict) -> None:
     t = result.totals
     s = result.settings
-    du = _Display(getattr(s, "display_units", None))
+    du = _Display(s)
     unc = result.uncertainty
-    u_rel = getattr(unc, "expanded_pct", None) if unc is not None else None
+    u_rel = unc.expanded_pct if unc is not None else None
     u_rel = u_rel / 100.0 if _finite(u_rel) else None
-    u_erel = getattr(unc, "expanded_energy_pct", None) if unc is not None else None
+    u_erel = unc.expanded_energy_pct if unc is not None else None
     u_erel = u_erel / 100.0 if _finite(u_erel) else u_rel
 
     def vol(v):  # a month volume [m3] with the month's relative uncertainty
         return du.text("volume", v, abs(v) * u_rel if (u_rel and _finite(v)) else None)
 
     typer.echo(f"meterfix: {s.meter}  method {result.method['name']} ({result.method['edition']})")
-    typer.echo(f"  base conditions      {du.text('pressure', s.base_pressure)} (absolute), "
-               f"{du.text('temperature', s.base_temperature)}" + (f"   ({s.base})" if s.base else ""))
+    typer.echo(f"  base conditions      {du.exact('pressure', s.base_pressure)}, "
+               f"{du.exact('temperature', s.base_temperature)}" + (f"   (preset {s.base})" if s.base else ""))
     _print_reading(result)
-    typer.echo(f"  intervals            {t['intervals']}  (flagged: {int(result.intervals['flagged'].sum())})")
+    flagged = int(result.intervals["flagged"].sum())
+    kinds = flags_breakdown({k: v for k, v in result.flags.items() if k != "estimated"})
+    typer.echo(f"  intervals            {t['intervals']}  (flagged {flagged}" + (f": {kinds}" if kinds else "") + ")")
     _print_meter_kind(result)
-    kind = (getattr(result, "flow_meter", None) or {}).get("kind")
-    if kind in ("orifice", "coriolis"):  # measured as mass: the line volume is mass / density at line
-        typer.echo(f"  volume at line       {vol(t['uncorrected_volume_m3'])}   (mass / density at line)")
+    if (result.flow_meter or {}).get("kind") in ("orifice", "coriolis"):
+        # measured as mass: the volume at line conditions is mass / density at line
+        typer.echo(f"  {_lc(V.UNCORRECTED_VOLUME):<20} {vol(t['uncorrected_volume_m3'])} at line conditions "
+                   "(mass / density at line)")
     else:
-        typer.echo(f"  uncorrected volume   {vol(t['uncorrected_volume_m3'])}")
-    typer.echo(f"  base volume (real)   {vol(t['base_volume_m3'])}")
+        typer.echo(f"  {_lc(V.UNCORRECTED_VOLUME):<20} {vol(t['uncorrected_volume_m3'])} at line conditions")
+    typer.echo(f"  {_lc(V.BASE_VOLUME):<20} {vol(t['base_volume_m3'])} {V.AT_BASE}")
     # the ideal-gas error is the difference of two corrections of the same data: the Z method's own
     # uncertainty bounds its digits
     from ..z.registry import get_method
@@ -199,7 +217,8 @@ def print_summary(result, written: dict) -> None:
         u_z = (get_method(result.method["name"]).uncertainty_pct or {}).get(0) or 0.1
     except Exception:  # noqa: BLE001 - a method no longer registered: the common 0.1 %
         u_z = 0.1
-    typer.echo(f"  base volume (Z = 1)  {vol(t['ideal_gas_base_volume_m3'])}   ideal-gas error "
+    typer.echo(f"  {_lc(V.BASE_VOLUME_IDEAL)}\n  {'':<20} {vol(t['ideal_gas_base_volume_m3'])} {V.AT_BASE}   "
+               f"{_lc(V.IDEAL_GAS_ERROR)} "
                f"{_pct(t.get('ideal_gas_error_pct'), u_z)}")
     if t.get("energy_MJ") is not None:
         e = t["energy_MJ"] * 1e6
@@ -213,7 +232,7 @@ def print_summary(result, written: dict) -> None:
         rt = rec.totals or {}
         u = (rec.uncertainty or {}).get("combined_expanded_pct")
         u = u if _finite(u) else None
-        typer.echo(f"  invoice              {len(rec.periods)} period(s); billed − ours "
+        typer.echo(f"  invoice              {len(rec.periods)} period(s); {_lc(V.INVOICE_MINUS_OURS)} "
                    f"{_pct(rt.get('volume_difference_pct'), u)} of volume"
                    + (f", {_pct(rt.get('energy_difference_pct'), u)} of energy"
                       if _finite(rt.get("energy_difference_pct")) else ""))
@@ -240,13 +259,13 @@ def print_summary(result, written: dict) -> None:
             for (_, r), st in zip(att.iterrows(), status):
                 if r["kind"] != "step" or r["step"] in ("base pressure", "base temperature"):
                     continue
-                if r["step"] == "unexplained":
-                    label = "not explained"
+                if r["step"] == "not explained":
+                    label = V.NOT_EXPLAINED
                 elif st == "credited":
                     label = f"explained by {r['step']}"
                 else:
                     continue
-                if r["volume_m3"] == 0 and label == "not explained":
+                if r["volume_m3"] == 0 and label == V.NOT_EXPLAINED:
                     continue
                 typer.echo(f"    {label:<44} {'+' if r['volume_m3'] > 0 else ''}"
                            f"{du.text('volume', r['volume_m3'], u_v)}")

@@ -19,6 +19,7 @@ from __future__ import annotations
 import numpy as np
 import pandas as pd
 
+from ..constants import T0
 from ..gas import Composition
 
 ANALYSIS_1 = {"methane": 0.9312, "ethane": 0.0342, "propane": 0.0071, "isobutane": 0.0011, "n_butane": 0.0013,
@@ -35,7 +36,7 @@ def demo_month():
     rng = np.random.default_rng(2026)
     hours = np.arange(n)
     p_gauge = 39.5e5 + 1.2e5 * np.sin(hours / 24 * 2 * np.pi) + 0.2e5 * rng.standard_normal(n)
-    t = 273.15 + 12.0 + 4.0 * np.sin((hours - 8) / 24 * 2 * np.pi) + 0.3 * rng.standard_normal(n)
+    t = T0 + 12.0 + 4.0 * np.sin((hours - 8) / 24 * 2 * np.pi) + 0.3 * rng.standard_normal(n)
     v = 1150.0 + 250.0 * np.sin((hours - 10) / 24 * 2 * np.pi) + 30.0 * rng.standard_normal(n)
     frame = pd.DataFrame({"pressure_gauge": p_gauge, "temperature_line": t, "volume_line": v,
                           "duration": 3600.0}, index=idx)

@@ -8,6 +8,7 @@ from typing import Optional
 
 import typer
 
+from ..constants import T0
 from ..errors import MeterfixError
 from .app import _fail, app
 
@@ -87,8 +88,8 @@ def _properties(composition, gas, t1_text, t2_text, p2_text, edition, as_json):
         out = res.as_dict()
         typer.echo(json.dumps(out, indent=2, sort_keys=False))
         return
-    typer.echo(f"meterfix properties  {res.edition}: combustion {t1 - 273.15:g} degC, metering "
-               f"{t2 - 273.15:.4g} degC and {pq.value / 1000:.6g} kPa")
+    typer.echo(f"meterfix properties  {res.edition}: combustion {t1 - T0:g} degC, metering "
+               f"{t2 - T0:.4g} degC and {pq.value / 1000:.6g} kPa")
     typer.echo(f"  analysis total as given  {g.sum_as_given * 100:.6g} mol% (normalised to 100 %)")
     for n in g.notes:
         if "for Z" not in n and "energy only" not in n:  # the Z methods play no part here

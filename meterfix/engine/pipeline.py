@@ -16,20 +16,29 @@ their results to the same object.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TYPE_CHECKING
 
 import numpy as np
 import pandas as pd
 
-#: molar mass of dry air [kg/mol] (ISO 6976:2016, 28.96546 g/mol; from memory)
-MOLAR_MASS_AIR = 0.02896546
+from ..energy.month import AnalysisEnergy
 from ..errors import SettingsError
 from ..gas.composition import Composition
 from ..gas.gross import GrossCharacterization
-from ..z import evaluate_z
+from ..readers.logs import LogMetadata
+from ..z import IDEAL_METHOD, evaluate_z
 from ..z.base import OUTSIDE, RANGE_NAMES
 from ..z.registry import get_method
 from . import correct as K
 from .settings import Settings
+
+#: molar mass of dry air [kg/mol] (ISO 6976:2016, 28.96546 g/mol; from memory)
+MOLAR_MASS_AIR = 0.02896546
+
+if TYPE_CHECKING:  # the later steps' result types, for the annotations of MonthResult only (no import at run time)
+    from ..checks.corrector import CorrectorCheck
+    from ..checks.invoice import InvoiceReconciliation
+    from ..uncertainty import MonthUncertainty
 
 #: interval columns written by the pipeline, with their SI unit (for writers)
 INTERVAL_UNITS = {
@@ -43,6 +52,13 @@ INTERVAL_UNITS = {
     "discharge_coefficient": "-", "expansibility": "-", "reynolds_pipe": "-", "isentropic_exponent": "-",
     "viscosity": "Pa s", "volume_line_indicated": "m3", "meter_error_pct": "%", "speed_of_sound": "m/s",
     "speed_of_sound_computed": "m/s", "speed_of_sound_deviation_pct": "%",
+}
+#: SI unit of each gas-day (and month) column, for the CSV headers
+GAS_DAY_UNITS = {
+    "intervals": "-", "hours": "h", "volume_line": "m3", "volume_base": "m3", "volume_base_ideal": "m3",
+    "mass": "kg", "energy": "J", "pressure_line_mean": "Pa", "temperature_line_mean": "K",
+    "estimated_intervals": "-", "flagged_intervals": "-", "ideal_gas_error_pct": "%",
+    "estimated_volume_share_pct": "%",
 }
 
 
@@ -59,7 +75,7 @@ class AnalysisInForce:
     density_base: float = np.nan  # [kg/m3]
     relative_density: float = np.nan  # [-] real gas, at base conditions
     wobbe_index: float = np.nan  # [J/m3] gross, at base conditions
-    energy: object = None  # meterfix.energy.month.AnalysisEnergy: every ISO 6976 property, the edition
+    energy: AnalysisEnergy | None = None  # every ISO 6976 property, the edition
     heating_value_us: dict | None = None  # Btu/scf at 14.73 psia and 60 degF, dry and water-saturated
 
 
@@ -102,13 +118,15 @@ class MonthResult:
     flags: dict
     analyses: list
     method: dict
-    inputs: list = field(default_factory=list)
-    log_metadata: object = None
-    warnings: list = field(default_factory=list)
-    uncertainty: object = None
-    reconciliation: object = None
-    corrector_check: object = None
-    history: object = None
+    inputs: list[dict] = field(default_factory=list)
+    # the reader's record (meterfix.readers.logs.LogMetadata); None for a frame given in memory
+    log_metadata: LogMetadata | None = None
+    warnings: list[str] = field(default_factory=list)
+    # filled by the later steps (meterfix.uncertainty, meterfix.checks), None until they run
+    uncertainty: MonthUncertainty | None = None
+    reconciliation: InvoiceReconciliation | None = None
+    corrector_check: CorrectorCheck | None = None
+    history: pd.DataFrame | None = None
     flow_meter: dict | None = None  # the meter kind's record (engine.meter_kinds), None for a plain volume meter
     speed_of_sound_check: dict | None = None  # ultrasonic meters' speed of sound against the analysis'
 
@@ -145,8 +163,9 @@ def absolute_pressure(frame: pd.DataFrame, settings: Settings):
     return frame["pressure_gauge"].to_numpy(float) + atm, atm, atm_source
 
 
-def _heating_value(gas, settings: Settings, z_base: float = None):
-    """Gross real-gas volumetric heating value at base conditions [J/m3] and its source text."""
+def _heating_value(gas, settings: Settings):
+    """Gross real-gas volumetric heating value at base conditions [J/m3] and its source text: the
+    supplied value, or a gross characterisation's (an analysis' own comes from ISO 6976 in run_month)."""
     if settings.heating_value is not None:
         hv = settings.heating_value
         tref = settings.heating_value_reference_temperature
@@ -163,13 +182,6 @@ def _heating_value(gas, settings: Settings, z_base: float = None):
             hv, composition=comp, temperature_metering_from=tref, pressure_metering_from=pref,
             temperature_metering_to=settings.base_temperature, pressure_metering_to=settings.base_pressure)
         return float(hv2), "supplied, converted to the contract base conditions"
-    if isinstance(gas, Composition):
-        from ..energy.month import analysis_energy
-
-        res = analysis_energy(gas, temperature_combustion=settings.combustion_temperature,
-                              temperature_metering=settings.base_temperature, pressure_metering=settings.base_pressure,
-                              edition=getattr(settings, "energy_edition", "2016"), z_metering=z_base)
-        return float(res.gross_volumetric), res.source
     if isinstance(gas, GrossCharacterization) and gas.heating_value is not None:
         hv2 = E.convert_volumetric_heating_value(
             gas.heating_value, composition=None, temperature_metering_from=gas.temperature_reference_density,
@@ -413,7 +425,7 @@ def _average_correction(cols: dict, analyses, settings: Settings, method: str) -
             continue
         p = float(np.average(d["pressure_line"], weights=w))
         t = float(np.average(d["temperature_line"], weights=w))
-        zl = float(evaluate_z(p, t, gas, method).z) if method != "ideal" else 1.0
+        zl = float(evaluate_z(p, t, gas, method).z) if method != IDEAL_METHOD else 1.0
         vb = float(K.volume_at_base(vl, p, t, settings.base_pressure, settings.base_temperature, zl, zb))
         out[label] = {"pressure_Pa": p, "temperature_K": t, "z_line": zl, "base_volume_m3": vb,
                       "error_pct": 100.0 * (vb / real - 1.0) if real else None}
@@ -456,7 +468,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
                                 hint="map the source column with --column or the site file's [columns] table")
     analyses = list(analyses or [])
     if not analyses:
-        if method.name != "ideal":
+        if method.name != IDEAL_METHOD:
             raise SettingsError("no gas analysis is given",
                                 hint="give --composition FILE (an analysis) or --gas 'methane=0.95,...'")
         analyses = [(None, None)]
@@ -496,7 +508,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
             a.z_base = float(np.asarray(rb.z).reshape(-1)[0])
             a.molar_mass = _molar_mass(gas)
             if not (isinstance(gas, Composition) and settings.heating_value is None):
-                a.heating_value, a.heating_value_source = _heating_value(gas, settings, a.z_base)
+                a.heating_value, a.heating_value_source = _heating_value(gas, settings)
             a.density_base = float(K.density_at_base(settings.base_pressure, settings.base_temperature,
                                                      a.z_base, a.molar_mass))
             if isinstance(gas, Composition):
@@ -608,7 +620,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     totals = _totals(cols)
     flags = {c[5:]: int(np.count_nonzero(cols[c])) for c in all_flags}
     findings = _findings(cols, index, days, settings.ideal_gas_threshold)
-    avg = _average_correction(cols, in_force, settings, method.name) if in_force[0].gas is not None or method.name == "ideal" else {}
+    avg = _average_correction(cols, in_force, settings, method.name) if in_force[0].gas is not None or method.name == IDEAL_METHOD else {}
     warn = []
     if flags.get("z_outside_range"):
         warn.append(f"{flags['z_outside_range']} interval(s) outside the range of {method.name}: see the z_range column")
@@ -628,7 +640,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
                      "atmospheric_pressure_source": atm_source, "energy_standard": _energy_standard(in_force, settings)}
     if kind is not None and kind.density_source:
         method_record["density"] = kind.density_source
-    inputs = list(getattr(metadata, "sources", []) or []) if metadata is not None else []
+    inputs = list(metadata.sources or []) if metadata is not None else []
     return MonthResult(
         settings=settings, intervals=df, gas_days=days, months=months, analysis_periods=periods, totals=totals,
         findings=findings, average_correction=avg,

@@ -29,7 +29,7 @@ Flags (boolean ``flag_*`` columns; the reader's own flags are kept)
                             0.05 % of rows)
 ``flag_flow_zero_pressure`` volume through the meter while the pressure reads zero
 ``flag_rollover``, ``flag_meter_change``, ``flag_negative_delta``, ``flag_implausible_delta``,
-``flag_unparseable``, ``flag_missing``   (reader)
+``flag_unreadable``, ``flag_missing``   (reader)
 ``flag_estimated``          a value of the row was substituted
 =========================== ==================================================================
 
@@ -62,7 +62,7 @@ from ..errors import SettingsError
 POLICIES = ("none", "interpolate", "hold", "profile")
 QUALITY_FLAGS = ("flag_gap", "flag_duplicate", "flag_time_backwards", "flag_pressure_range",
                  "flag_temperature_range", "flag_stuck", "flag_spike", "flag_flow_zero_pressure", "flag_rollover",
-                 "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_unparseable",
+                 "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_unreadable",
                  "flag_missing", "flag_negative_volume", "flag_volume_mismatch", "flag_estimated")
 EDIT_COLUMNS = ["time", "what", "original", "new", "method", "reason"]
 
@@ -399,12 +399,12 @@ def _edit_rows(df, col, fill, original, new, policy, out_of_range, inserted) -> 
     idx = np.flatnonzero(fill)
     reason = np.full(len(idx), "missing value", dtype=object)
     gap = inserted[idx]
-    unp = df["flag_unparseable"].to_numpy(bool)[idx]
+    unp = df["flag_unreadable"].to_numpy(bool)[idx]
     mc = df["flag_meter_change"].to_numpy(bool)[idx]
     rng = out_of_range[idx]
     zero = df["flag_flow_zero_pressure"].to_numpy(bool)[idx] if col.startswith("pressure") else np.zeros(len(idx), bool)
     reason[mc] = "meter change: interval volume unknown"
-    reason[unp] = "unparseable cell"
+    reason[unp] = "unreadable cell"
     reason[rng] = "outside plausible limits"
     reason[zero] = "zero pressure while gas flows"
     reason[gap] = "missing interval (gap)"

@@ -73,13 +73,13 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
     frame, meta = read_log(
         paths, timezone=settings.timezone, interval_label=settings.interval_label,
         column_map=settings.columns or None, register_digits=settings.register_digits,
-        sheet=getattr(settings, "sheet", None), opening_index=getattr(settings, "opening_index", None),
+        sheet=settings.sheet, opening_index=settings.opening_index,
         timezone_given=(settings.sources or {}).get("timezone", "default") != "default",
     )
     step(f"checking data quality of {len(frame):,} intervals", 0.3)
     frame, edits = quality.apply_quality(frame, policy=settings.substitution,
                                          max_gap_intervals=settings.max_gap_intervals,
-                                         bidirectional=bool(getattr(settings, "bidirectional", False)))
+                                         bidirectional=settings.bidirectional)
     for b in (frame.attrs.get("quality") or {}).get("breaks", []):
         meta.notes.append(f"break in the log from {b['from']} to {b['to']} ({b['seconds'] / 86400:.3g} days, "
                           f"{b['intervals']} intervals): too long to fill with rows; nothing is counted for it")
@@ -88,14 +88,14 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
     if "flag_negative_volume" in frame and frame["flag_negative_volume"].any():
         neg = frame["flag_negative_volume"].to_numpy(bool)
         raw = frame["volume_line_raw"].to_numpy(float) if "volume_line_raw" in frame else frame["volume_line"].to_numpy(float)
-        if getattr(settings, "bidirectional", False):
+        if settings.bidirectional:
             result.warnings.append(f"{int(neg.sum())} interval(s) with negative volume (reverse flow, "
                                    f"{float(raw[neg].sum()):.6g} m3) counted: the meter is declared bidirectional")
         else:
             result.warnings.append(f"{int(neg.sum())} interval(s) with negative volume ({float(raw[neg].sum()):.6g} m3) "
                                    "left out of the totals (see the edit record); declare a bidirectional meter "
                                    "with --bidirectional if it is reverse flow")
-    inputs = [dict(s) if isinstance(s, dict) else s for s in (getattr(meta, "sources", None) or [])]
+    inputs = [dict(s) if isinstance(s, dict) else s for s in (meta.sources or [])]
     if composition is not None:
         inputs.append(file_record(composition, "analysis"))
     result.inputs = inputs

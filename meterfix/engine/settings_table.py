@@ -59,7 +59,6 @@ def base_presets_text() -> str:
 
 
 #: option strings used in several places
-METHOD_IDEAL = "ideal"
 DEFAULT_METHOD = "aga8-detail"
 INTERVAL_LABELS = ("end", "start")
 SUBSTITUTION_POLICIES = ("none", "interpolate", "hold", "profile")

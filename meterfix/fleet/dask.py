@@ -20,6 +20,8 @@ allows comes back ``failed``. Dask is imported only here, only when ``--schedule
 
 from __future__ import annotations
 
+import math
+import time
 import uuid
 from pathlib import Path
 
@@ -76,9 +78,11 @@ def run_fleet_dask(folder, out_dir, options: dict, *, scheduler: str, overwrite:
     try:
         workers = len(client.scheduler_info(n_workers=-1).get("workers", {}))
         futures = {}
+        started = math.floor(time.time())  # a meter run again after its worker died replaces this run's outputs
         for i, d in enumerate(dirs):
             fut = client.submit(run_meter, str(d), str(out), dict(options), overwrite=overwrite, workbooks=workbooks,
-                                uncertainty=uncertainty, closer=closer, key=task_key(d.name, token), pure=False)
+                                uncertainty=uncertainty, closer=closer, replace_since=started,
+                                key=task_key(d.name, token), pure=False)
             futures[fut] = i
         rows: list = [None] * len(dirs)
         failed = []

@@ -12,9 +12,11 @@ records which were retried; a meter still without a result after that is reporte
 
 from __future__ import annotations
 
+import math
 import multiprocessing
 from concurrent.futures import ProcessPoolExecutor, as_completed
 from concurrent.futures.process import BrokenProcessPool
+import time
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -102,6 +104,7 @@ def run_fleet(folder, out_dir, options: dict, *, workers: int = 1, overwrite: bo
         return FleetRun(rows, workers=1)
 
     warm()  # inherited by forked workers; the initializer does it under spawn
+    started = math.floor(time.time())  # outputs written since are this run's (file times may be whole seconds)
     retried: list = []
     pending = list(range(total))
     for attempt in range(1, max_attempts + 1):
@@ -111,7 +114,8 @@ def run_fleet(folder, out_dir, options: dict, *, workers: int = 1, overwrite: bo
             retried += [dirs[i].name for i in pending if dirs[i].name not in retried]
         with ProcessPoolExecutor(max_workers=min(workers, len(pending)), mp_context=_context(),
                                  initializer=warm) as ex:
-            futs = {ex.submit(run_meter, dirs[i], out_dir, options, **kwargs): i for i in pending}
+            futs = {ex.submit(run_meter, dirs[i], out_dir, options, **kwargs, replace_since=started): i
+                    for i in pending}
             lost = []
             for fut in as_completed(futs):
                 i = futs[fut]

@@ -91,8 +91,15 @@ def interrupted(target: Path, stem: str) -> bool:
             and any(Path(target).glob(f"{stem}*")))
 
 
+def written_since(target: Path, stem: str, since: float | None) -> bool:
+    """True when ``target`` holds this month's summary written at or after ``since`` [s, epoch]: the
+    outputs of this same fleet run, whose row was lost with its worker, which a re-run replaces."""
+    summary = Path(target) / f"{stem}_summary.json"
+    return since is not None and summary.exists() and summary.stat().st_mtime >= since
+
+
 def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, workbooks: bool = False,
-              uncertainty: bool | dict = True, closer=None) -> dict:
+              uncertainty: bool | dict = True, closer=None, replace_since: float | None = None) -> dict:
     """Run one meter folder and write its outputs; returns its fleet-table row.
 
     Parameters
@@ -105,6 +112,8 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
     uncertainty : bool or dict   as ``meterfix.month.run_files``
     closer : meterfix.store.job.Closer, optional   closes the month into a store (handed down by
                            the CLI: ``closer.run(settings, compute, write, base_dir=meter_dir)``)
+    replace_since : float, optional [s since the epoch]   a meter run again after its worker was
+                           lost replaces outputs written since then (by this fleet run), never older ones
 
     Outputs of a run of the same month that was killed while writing them (no summary yet) are
     replaced: a meter run again after its worker was lost writes its complete set.
@@ -126,8 +135,9 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
         target = output_folder(out_dir, settings)
 
         def write(result):
-            return write_outputs(result, target, overwrite=overwrite or interrupted(target, output_stem(result)),
-                                 run=run, workbook=workbooks)
+            stem = output_stem(result)
+            return write_outputs(result, target, overwrite=overwrite or interrupted(target, stem)
+                                 or written_since(target, stem, replace_since), run=run, workbook=workbooks)
 
         closing = None
         if closer is None:

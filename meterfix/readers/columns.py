@@ -301,7 +301,7 @@ def read_header(header: str, index: int, where: dict) -> ColumnSpec | None:
             family = "pressure_gauge" if ref == "gauge" else "pressure_line"
         if family == "pressure_atm" and unit.reference == "gauge":
             raise UnitError(f"column '{header}': a barometer reads absolute pressure, not '{unit_text}'", **where,
-                            column=header, hint="write e.g. 'Barometric pressure [kPa]' or '[mbar]'")
+                            column=header, hint="write e.g. 'Atmospheric pressure [kPa]' or '[mbar]'")
         if family in ("volume_line", "volume_index") and unit.basis == "base" and not hints.get("explicit"):
             family = "volume_corrected_site" if family == "volume_line" else "volume_corrected_site_index"
         if family in ("volume_line", "volume_index", "flow_rate") and unit.basis == "base":
@@ -315,7 +315,7 @@ def read_header(header: str, index: int, where: dict) -> ColumnSpec | None:
 
 
 def _example(family):
-    return {"pressure": "Line pressure [bar(g)]", "pressure_atm": "Barometric pressure [kPa]",
+    return {"pressure": "Line pressure [bar(g)]", "pressure_atm": "Atmospheric pressure [kPa]",
             "temperature_line": "Line temperature [degC]", "volume_line": "Uncorrected volume [m3]",
             "volume_index": "Meter index [m3]", "flow_rate": "Flow rate [m3/h]",
             "volume_corrected_site": "Site corrected volume [m3]",
@@ -409,7 +409,7 @@ def map_columns(header, column_map=None, *, where=None) -> ColumnMapping:
 _ROLE_WORDS = {"volume_line": "uncorrected volume per interval", "volume_index": "uncorrected meter index",
                "flow_rate": "flow rate", "pressure_gauge": "line pressure", "pressure_line": "line pressure",
                "temperature_line": "line temperature", "volume_corrected_site": "site corrected volume",
-               "volume_corrected_site_index": "site corrected index", "pressure_atm": "barometer",
+               "volume_corrected_site_index": "site corrected index", "pressure_atm": "atmospheric pressure",
                "pressure_differential": "differential pressure", "mass": "mass per interval",
                "mass_flow": "mass flow rate", "speed_of_sound": "speed of sound",
                "pressure_differential_root": "interval mean of sqrt(dp)"}

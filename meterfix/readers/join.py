@@ -19,7 +19,7 @@ NUMERIC = ("pressure_gauge", "pressure_line", "pressure_atm", "temperature_line"
            "flow_rate", "volume_corrected_site", "volume_corrected_site_index", "duration",
            "pressure_differential", "mass", "mass_flow", "speed_of_sound", "pressure_differential_root")
 #: flags the reader sets (always present in the frame)
-READER_FLAGS = ("flag_unparseable", "flag_missing", "flag_duplicate", "flag_time_backwards", "flag_rollover",
+READER_FLAGS = ("flag_unreadable", "flag_missing", "flag_duplicate", "flag_time_backwards", "flag_rollover",
                 "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_negative_volume",
                 "flag_volume_mismatch")
 #: interval volume against index difference: they disagree when they differ by more than this share

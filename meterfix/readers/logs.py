@@ -33,12 +33,12 @@ Quirks handled
 - **Several files** for one meter are joined in time order. Rows with the same interval end are
   reduced to the first (in the order the files were given, then row order): identical copies
   silently, differing ones flagged ``flag_duplicate`` and listed in the metadata.
-- **Bad cells**: a number that cannot be read is NaN with ``flag_unparseable`` and the cell (file,
+- **Bad cells**: a number that cannot be read is NaN with ``flag_unreadable`` and the cell (file,
   sheet, row, column, text) recorded in the metadata; an empty required cell is NaN with
   ``flag_missing``. A row whose time cannot be read (or does not exist on the clock) is placed
   between its neighbours when they leave exactly the right number of regular slots, and flagged
-  ``flag_unparseable``; otherwise it cannot be placed: it is left out, recorded in
-  ``metadata.dropped_rows``, and the next row of its file is flagged ``flag_unparseable`` (the
+  ``flag_unreadable``; otherwise it cannot be placed: it is left out, recorded in
+  ``metadata.dropped_rows``, and the next row of its file is flagged ``flag_unreadable`` (the
   quality step sees the missing interval). A required column in which no value can be read is
   an error naming the file, row and column.
   ``flag_time_backwards`` marks a row whose time is earlier than a row above it in its file.
@@ -81,8 +81,8 @@ class LogMetadata:
     volume_from : str           'interval volume', 'meter index' or 'flow rate'
     register_capacity : float or None [m3]  rollover capacity used for index differences
     opening_index : float or None [m3]      first index reading (opens the log)
-    unparseable : list of dict  cells that could not be read (first 1000): file, sheet, row, column, value
-    unparseable_count : int
+    unreadable : list of dict  cells that could not be read (first 1000): file, sheet, row, column, value
+    unreadable_count : int
     dropped_rows : list of dict rows left out (time unreadable or not existing): file, sheet, row, reason, value
     duplicates : list of dict   rows with the same interval end and different values
     identical_overlap_rows : int  identical copies dropped
@@ -101,8 +101,8 @@ class LogMetadata:
     volume_from: str = ""
     register_capacity: float | None = None
     opening_index: float | None = None
-    unparseable: list = field(default_factory=list)
-    unparseable_count: int = 0
+    unreadable: list = field(default_factory=list)
+    unreadable_count: int = 0
     dropped_rows: list = field(default_factory=list)
     duplicates: list = field(default_factory=list)
     identical_overlap_rows: int = 0
@@ -270,12 +270,12 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     utc, inferred = _infer_times(utc, drop)
     raw_t = t.cells[tcol.index]
     for i in np.flatnonzero(inferred)[:_MAX_RECORDED]:
-        meta.unparseable.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "column": tcol.header,
+        meta.unreadable.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "column": tcol.header,
                                  "value": str(raw_t.iat[i]),
                                  "note": ("the time is more than a day off the slot its neighbours leave; "
                                           if stray[i] else "the time cannot be read; ")
                                  + f"time placed between its neighbours at {pd.Timestamp(utc[i]).isoformat()}Z"})
-    meta.unparseable_count += int(inferred.sum())
+    meta.unreadable_count += int(inferred.sum())
     drop &= ~inferred
     part["time"] = utc
     for i in np.flatnonzero(drop)[:_MAX_RECORDED]:
@@ -292,7 +292,7 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
         after_dropped[kept[nxt]] = True
 
     # -- numbers
-    unparseable = np.zeros(n, bool)
+    unreadable = np.zeros(n, bool)
     missing = np.zeros(n, bool)
     empty_columns = []
     required = {"pressure_gauge", "pressure_line", "temperature_line", "volume_line", "volume_index", "flow_rate",
@@ -316,12 +316,12 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
         if name in ("volume_index", "volume_corrected_site_index"):
             part[name + "_scale"] = np.full(n, s.unit.scale)
         if bad.any():
-            unparseable |= bad
+            unreadable |= bad
             idx = np.flatnonzero(bad)
-            meta.unparseable_count += len(idx)
-            room = _MAX_RECORDED - len(meta.unparseable)
+            meta.unreadable_count += len(idx)
+            room = _MAX_RECORDED - len(meta.unreadable)
             for i in idx[:max(room, 0)]:
-                meta.unparseable.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "column": s.header,
+                meta.unreadable.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "column": s.header,
                                          "value": str(raw[i])})
         if name in required:
             missing |= empty
@@ -332,7 +332,7 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
                                  hint="write plain numbers in this column (the unit goes in the header), "
                                       "or map another column to it")
     _refuse_empty(empty_columns, c, t)
-    part["flag_unparseable"] = unparseable | inferred | after_dropped
+    part["flag_unreadable"] = unreadable | inferred | after_dropped
     part["flag_missing"] = missing
     if "status" in c:
         st = t.cells[c["status"].index].astype(str).str.strip()

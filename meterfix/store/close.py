@@ -73,15 +73,15 @@ def _metric(result):
     rec = result.reconciliation
     if rec is not None:
         for k in ("energy_difference_pct", "volume_difference_pct"):
-            v = (getattr(rec, "totals", None) or {}).get(k)
+            v = (rec.totals if rec is not None else {}).get(k)
             if isinstance(v, (int, float)) and math.isfinite(v):
                 out["invoice_difference_pct"] = float(v)
                 break
     cc = result.corrector_check
-    v = getattr(cc, "size_pct", None) if cc is not None else None
+    v = cc.size_pct if cc is not None else None
     if isinstance(v, (int, float)) and math.isfinite(v):
         out["corrector_deviation_pct"] = float(v)
-    v = getattr(result.uncertainty, "expanded_pct", None) if result.uncertainty is not None else None
+    v = result.uncertainty.expanded_pct if result.uncertainty is not None else None
     if isinstance(v, (int, float)) and math.isfinite(v):
         out["expanded_uncertainty_pct"] = float(v)
     return out

@@ -41,7 +41,7 @@ class Closer:
         site file's folder), else None."""
         if self.target:
             return open_store(self.target)
-        if getattr(settings, "store", None):
+        if settings.store:
             return open_store(settings.store, base_dir=base_dir)
         return None
 

@@ -133,7 +133,7 @@ def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress
     ------
     SettingsError   an uncertainty setting that cannot be read (naming the setting)
     """
-    parsed = parse_uncertainty_settings(getattr(result.settings, "uncertainty", None) or {})
+    parsed = parse_uncertainty_settings(result.settings.uncertainty)
     model = build_model(result, parsed)
     index = result.intervals.index
     has_e = model.energy is not None

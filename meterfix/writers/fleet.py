@@ -27,6 +27,7 @@ import json
 import math
 from pathlib import Path
 
+from ..vocabulary import flags_breakdown
 from .atomic import check_target, neutralise_cell, write_bytes, write_text
 from .summary import CAUTION, _clean
 
@@ -72,7 +73,7 @@ def invoice_explanation(invoice: dict) -> str:
     steps.sort(key=lambda s: -abs(s[key]))
     parts = []
     for s in steps:
-        name = "not explained" if s.get("step") == "unexplained" else str(s.get("step"))
+        name = str(s.get("step"))
         if s.get("status") == "restatement":
             name = f"restated to the invoice's {name}"
         parts.append(f"{name} {100.0 * s[key] / ours:+.3g} %")
@@ -84,14 +85,14 @@ def corrector_finding(check: dict) -> str:
     findings = check.get("findings") or []
     if findings:
         best = findings[0]
-        causes = best.get("cause") or check.get("best") or "?"
+        causes = best.get("description") or best.get("cause") or check.get("best") or "?"
         below = ", below the threshold" if best.get("material") is False else ""
         return f"{causes} ({_pct_text(best.get('size_pct'))} of the month{below})"
     return "tried, none found above the threshold" if check else ""
 
 
 def _flags_text(flags: dict) -> str:
-    return ", ".join(f"{k.replace('_', ' ')} {v}" for k, v in sorted(flags.items()) if v)
+    return flags_breakdown(flags)
 
 
 def fleet_row(meter_folder: str, summary: dict, written: dict | None = None, out_dir=None) -> dict:
@@ -293,9 +294,9 @@ def _columns(units) -> list:
         ("Intervals", "intervals", "num", "#,##0", 10),
         ("Intervals without result", "intervals_without_result", "num", "#,##0", 12),
         ("Estimated share of volume [%]", "estimated_volume_share_pct", "num", "0.00", 12),
-        (f"Uncorrected volume [{vol}]", conv("volume", "uncorrected_volume_m3"), "num", "#,##0", 16),
-        (f"Base volume, real gas [{vol}]", conv("volume", "base_volume_m3"), "num", "#,##0", 16),
-        (f"Base volume, ideal gas [{vol}]", conv("volume", "ideal_gas_base_volume_m3"), "num", "#,##0", 16),
+        (f"Uncorrected volume [{vol} at line conditions]", conv("volume", "uncorrected_volume_m3"), "num", "#,##0", 16),
+        (f"Base volume [{vol} at base]", conv("volume", "base_volume_m3"), "num", "#,##0", 16),
+        (f"Base volume, ideal gas (Z = 1) [{vol} at base]", conv("volume", "ideal_gas_base_volume_m3"), "num", "#,##0", 16),
         ("Ideal-gas error [%]", "ideal_gas_error_pct", "num", "0.000", 11),
         (f"Energy [{en}]", conv("energy", "energy_MJ", 1e6), "num", "#,##0.0", 16),
         ("Expanded uncertainty, volume, k = 2 [%]", "expanded_uncertainty_pct", "num", "0.000", 13),
@@ -406,7 +407,7 @@ def fleet_workbook_bytes(rows, run: dict | None = None) -> bytes:
                "meter gives the same, else these defaults). fleet_summary.csv holds the same rows in SI, the "
                "unit in each column name.", wrap),
               ("", None), ("Columns", bold),
-              ("Base volume, real gas: the month at the contract's base conditions with the meter's Z method; "
+              ("Base volume: the month at the contract's base conditions with the meter's Z method; "
                "ideal gas: the same with Z = 1; ideal-gas error = ideal / real − 1.", wrap),
               ("Expanded uncertainty: GUM (JCGM 100:2008) with k = 2, checked by a Monte Carlo propagation "
                "(JCGM 101:2008 §8); 'agrees' when the two 95 % intervals agree within the numerical tolerance.", wrap),

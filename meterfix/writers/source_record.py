@@ -125,11 +125,11 @@ def problem_entries(meta) -> dict:
     columns = _get(meta, "columns", {}) or {}
     key = _order(meta)
     unreadable = []
-    for u in _get(meta, "unparseable", []) or []:
+    for u in _get(meta, "unreadable", []) or []:
         f = u.get("file")
         note = u.get("note")
         problem = (note if note and note.startswith("the time") else f"the time cannot be read; {note}" if note else
-                   "cannot be read as a number: read as empty and the interval flagged 'unparseable'")
+                   "cannot be read as a number: read as empty and the interval flagged 'unreadable'")
         unreadable.append({"file": _text(f), "sheet": _text(u.get("sheet", sheets.get(f))), "row": u.get("row"),
                            "column": _text(u.get("column")), "text": _text(u.get("value")), "problem": problem})
     dropped = []
@@ -184,7 +184,7 @@ def log_record(meta, limit: int | None = LISTED) -> dict | None:
               "rows": s.get("rows"), "encoding": _text(s.get("encoding")), "delimiter": _text(s.get("delimiter")),
               "decimal": _text(s.get("decimal"))} for s in _get(meta, "sources", []) or []]
     problems = problem_entries(meta)
-    counts = {"unreadable_cells": int(_get(meta, "unparseable_count", 0) or 0)}
+    counts = {"unreadable_cells": int(_get(meta, "unreadable_count", 0) or 0)}
     counts["unreadable_cells"] = max(counts["unreadable_cells"], len(problems["unreadable_cells"]))
     statuses = status_summary(meta)
     out = {

@@ -38,21 +38,34 @@ def _clean(obj):
 
 def _energy_record(a):
     """Every ISO 6976 property of an analysis in SI, the edition and reference conditions (or None)."""
-    e = getattr(a, "energy", None)
-    p = getattr(e, "properties", None)
+    p = a.energy.properties if a.energy is not None else None
     if p is None:
         return None
     out = {"standard": p.edition, "combustion_temperature_K": p.temperature_combustion,
            "metering_temperature_K": p.temperature_metering, "metering_pressure_Pa": p.pressure_metering,
            **p.as_dict()}
+    out["units"] = {k: u for k, u in ENERGY_UNITS.items() if k in out}
     gas = getattr(a, "gas", None)
     if getattr(gas, "sum_as_given", None) is not None:
         out["analysis_total_as_given"] = gas.sum_as_given
     if getattr(gas, "detail", None):
         out["components"] = dict(gas.detail)
-    if getattr(a, "heating_value_us", None):
+    if a.heating_value_us:
         out["us_practice"] = a.heating_value_us
     return out
+
+
+#: gas-day column -> its JSON key with the SI unit
+_GAS_DAY_KEYS = {"volume_line": "volume_line_m3", "volume_base": "volume_base_m3",
+                 "volume_base_ideal": "volume_base_ideal_m3", "energy": "energy_J",
+                 "ideal_gas_error_pct": "ideal_gas_error_pct"}
+
+#: SI units of the ISO 6976 properties of an analysis (keys of Iso6976Result.as_dict)
+ENERGY_UNITS = {"gross_heating_value_molar": "J/mol", "net_heating_value_molar": "J/mol",
+                "gross_heating_value_mass": "J/kg", "net_heating_value_mass": "J/kg",
+                "gross_heating_value_volumetric": "J/m3", "net_heating_value_volumetric": "J/m3",
+                "wobbe_index_gross": "J/m3", "wobbe_index_net": "J/m3", "density": "kg/m3", "molar_mass": "kg/mol",
+                "relative_density": "-", "compression_factor": "-"}
 
 
 def build_summary(result) -> dict:
@@ -60,47 +73,46 @@ def build_summary(result) -> dict:
     s = result.settings
     t = dict(result.totals)
     unc = result.uncertainty
-    t["expanded_uncertainty_pct"] = None if unc is None else getattr(unc, "expanded_pct", None)
+    t["expanded_uncertainty_pct"] = None if unc is None else unc.expanded_pct
     summary = {
         "tool": {"name": "meterfix", "version": __version__},
         "caution": CAUTION,
         "meter": s.meter,
-        "site": s.site_name,
+        "site_name": s.site_name,
         "method": dict(result.method),
         "base_conditions": {"pressure_Pa": s.base_pressure, "temperature_K": s.base_temperature,
                             "preset": s.base},
         "combustion_reference_temperature_K": s.combustion_temperature,
         "totals": t,
         "average_correction": result.average_correction,
-        "analyses": [{"effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,
+        "analyses": [{"number": i + 1, "effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,
                       "heating_value_J_per_m3": a.heating_value, "heating_value_source": a.heating_value_source,
-                      "relative_density": getattr(a, "relative_density", None),
-                      "wobbe_index_J_per_m3": getattr(a, "wobbe_index", None),
+                      "relative_density": a.relative_density,
+                      "wobbe_index_J_per_m3": a.wobbe_index,
                       "energy": _energy_record(a),
                       "gas": (a.gas.as_dict() if hasattr(a.gas, "as_dict") else
                               (a.gas.__dict__ if a.gas is not None else None))}
-                     for a in result.analyses],
+                     for i, a in enumerate(result.analyses)],
         "flags": dict(sorted(result.flags.items())),
         "findings": result.findings.to_dict(orient="records"),
-        "gas_days": [{"gas_day": str(k), **{c: v for c, v in r.items()}} for k, r in
-                     result.gas_days[["volume_line", "volume_base", "volume_base_ideal", "energy",
-                                      "ideal_gas_error_pct"]].iterrows()],
+        "gas_days": [{"gas_day": str(k), **{_GAS_DAY_KEYS[c]: v for c, v in r.items()}} for k, r in
+                     result.gas_days[list(_GAS_DAY_KEYS)].iterrows()],
         "edits": int(len(result.edits)),
         "warnings": list(result.warnings),
         "inputs": list(result.inputs),
         "settings_sources": {k: v for k, v in sorted(s.sources.items()) if v != "default"},
         # what the log reader found: files, column mapping and units, every problem cell with where it is
-        "log": log_record(getattr(result, "log_metadata", None)),
+        "log": log_record(result.log_metadata),
     }
-    if getattr(result, "flow_meter", None):
+    if result.flow_meter:
         summary["flow_meter"] = result.flow_meter  # the meter kind: orifice, Coriolis, calibrated volume meter
-    if getattr(result, "speed_of_sound_check", None):
+    if result.speed_of_sound_check:
         summary["speed_of_sound_check"] = result.speed_of_sound_check
-    if unc is not None and hasattr(unc, "to_summary"):
+    if unc is not None:
         summary["uncertainty"] = unc.to_summary()
-    if result.reconciliation is not None and hasattr(result.reconciliation, "to_summary"):
+    if result.reconciliation is not None:
         summary["invoice"] = result.reconciliation.to_summary()
-    if result.corrector_check is not None and hasattr(result.corrector_check, "to_summary"):
+    if result.corrector_check is not None:
         summary["corrector_check"] = result.corrector_check.to_summary()
     return _clean(summary)
 

@@ -37,6 +37,8 @@ def interval_table(result, *, times_as_text: bool = True) -> pd.DataFrame:
         col = df[c]
         if c == "gas_day":
             col = col.astype(str)
+        elif c == "analysis":
+            col = col + 1  # analyses are numbered from 1, as in the workbook and the summary
         out[name] = col.to_numpy()
     return out
 
@@ -98,9 +100,18 @@ def write_interval_parquet(result, path, *, overwrite: bool = False):
     return write_bytes(path, interval_parquet_bytes(result), overwrite=overwrite)
 
 
-def write_gas_day_csv(result, path, *, overwrite: bool = False):
+def gas_day_table(result) -> pd.DataFrame:
+    """The gas-day table with the SI unit in each header (``volume_base [m3]``, ``energy [J]``)."""
+    from ..engine.pipeline import GAS_DAY_UNITS
+
     df = result.gas_days.copy()
+    df.columns = [f"{c} [{GAS_DAY_UNITS[c]}]" if GAS_DAY_UNITS.get(c, "-") != "-" else c for c in df.columns]
     df.insert(0, "gas_day", [str(d) for d in df.index])
+    return df
+
+
+def write_gas_day_csv(result, path, *, overwrite: bool = False):
+    df = gas_day_table(result)
     df = df.replace([np.inf, -np.inf], np.nan)
     return write_bytes(path, _csv_bytes(df.reset_index(drop=True)), overwrite=overwrite)
 

@@ -26,6 +26,7 @@ import numpy as np
 import pandas as pd
 
 from .. import __version__
+from .. import vocabulary as V
 from . import workbook_charts as C
 from . import workbook_checks as K
 from . import workbook_history as H
@@ -165,9 +166,9 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     lines = [
         ("Uncorrected volume", du.scalar("volume", t.get("uncorrected_volume_m3")), f"{vl} at line conditions",
          X.FMT_VOLUME, "sum of the meter's interval volumes"),
-        ("Corrected volume, real gas", du.scalar("volume", vb), f"{vl} at base", X.FMT_VOLUME,
+        (V.BASE_VOLUME, du.scalar("volume", vb), f"{vl} at base", X.FMT_VOLUME,
          f"Z at line and base from {result.method.get('name')}"),
-        ("Corrected volume, ideal gas (Z = 1)", du.scalar("volume", vi), f"{vl} at base", X.FMT_VOLUME,
+        (V.BASE_VOLUME_IDEAL, du.scalar("volume", vi), f"{vl} at base", X.FMT_VOLUME,
          "what a corrector set to ideal gas gives"),
         ("Difference, ideal − real", du.scalar("volume", (vi - vb) if vb is not None and vi is not None else None),
          f"{vl} at base", X.FMT_VOLUME, ""),
@@ -176,18 +177,18 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         ("Energy, gross", du.scalar("energy", None if e_mj is None else e_mj * 1e6), el, X.FMT_ENERGY,
          f"combustion reference {s.combustion_temperature - 273.15:g} °C"),
         ("Mean heating value, gross", du.scalar("heating_value", e_mj * 1e6 / vb) if (e_mj and vb) else None,
-         f"{hl} at base", X.FMT_HV, "energy / corrected volume"),
-        ("Expanded uncertainty, volume", getattr(unc, "expanded_pct", None) if unc is not None else None, "%",
-         X.FMT_PCT, f"k = {getattr(unc, 'coverage_factor', 2):g}" if unc is not None else "not computed"),
-        ("Expanded uncertainty, energy", getattr(unc, "expanded_energy_pct", None) if unc is not None else None, "%",
+         f"{hl} at base", X.FMT_HV, "energy / base volume"),
+        ("Expanded uncertainty, base volume", unc.expanded_pct if unc is not None else None, "%",
+         X.FMT_PCT, f"k = {unc.coverage_factor:g}" if unc is not None else "not computed"),
+        ("Expanded uncertainty, energy", unc.expanded_energy_pct if unc is not None else None, "%",
          X.FMT_PCT, "" if unc is not None else "not computed"),
         ("Intervals", t.get("intervals"), "", X.FMT_INT, ""),
         ("Flagged intervals", int(result.intervals["flagged"].sum()) if "flagged" in result.intervals else None, "",
          X.FMT_INT, "see Findings"),
-        ("Intervals with volume but no result", t.get("intervals_without_result"), "", X.FMT_INT, ""),
-        ("Uncorrected volume without result", du.scalar("volume", t.get("uncorrected_volume_without_result_m3")),
+        ("Intervals without result (volume but no base volume)", t.get("intervals_without_result"), "", X.FMT_INT, ""),
+        ("Uncorrected volume of the intervals without result", du.scalar("volume", t.get("uncorrected_volume_without_result_m3")),
          f"{vl} at line conditions", X.FMT_VOLUME, "not in the corrected totals"),
-        ("Estimated share of corrected volume", t.get("estimated_volume_share_pct"), "%", X.FMT_PCT2, "see Edits"),
+        ("Estimated share of base volume", t.get("estimated_volume_share_pct"), "%", X.FMT_PCT2, "see Edits"),
     ]
     for label, value, unit, fmt, note in lines:
         at[label] = r
@@ -200,7 +201,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
             if key in avg:
                 a = avg[key]
                 at[f"average {key}"] = r
-                r = _row(ws, r, f"Corrected volume, {text} averages", du.scalar("volume", a.get("base_volume_m3")),
+                r = _row(ws, r, f"{V.BASE_VOLUME}, {text} averages", du.scalar("volume", a.get("base_volume_m3")),
                          f"{vl} at base", X.FMT_VOLUME,
                          f"error {a.get('error_pct', float('nan')):+.3f} % against interval by interval")
 
@@ -222,7 +223,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     if result.reconciliation is not None:
         rt = result.reconciliation.totals
         pct = rt.get("energy_difference_pct") if rt.get("compared_on") == "energy" else rt.get("volume_difference_pct")
-        r = _row(ws, r, "Invoice − ours", pct, "%", X.FMT_PCT, f"on {rt.get('compared_on')}; see Invoice check")
+        r = _row(ws, r, V.INVOICE_MINUS_OURS, pct, "%", X.FMT_PCT, f"on {rt.get('compared_on')}; see Invoice check")
     if result.corrector_check is not None:
         cc = result.corrector_check
         best = cc.best
@@ -266,7 +267,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         first_input = None
 
     r = X.section(ws, r + 1, "Settings of this run (site-file names, display units; the manifest keeps SI)")
-    rows = setting_rows(s, X.DisplayUnits(s.display_units))
+    rows = setting_rows(s, X.DisplayUnits.for_settings(s))
     at["settings"] = r + 1
     r = X.write_table(ws, r, 1, ["Setting", "Value", "Unit", "Source"], rows)
     settings_rows = (at["settings"], r - 1)
@@ -304,7 +305,7 @@ def time_span(result, daily=False):
 def build_workbook(result, *, interval_csv=None, max_rows=None, interval_parquet=None, edits_csv=None):
     """The month workbook laid out as an :class:`~.xlsx_common.Book` (not saved), and where things are."""
     max_rows = MAX_INTERVAL_ROWS if max_rows is None else max_rows
-    du = X.DisplayUnits(result.settings.display_units)
+    du = X.DisplayUnits.for_settings(result.settings)
     wb = X.Book(title=f"meterfix month report {result.settings.meter} {_month_label(result)}",
                 subject="gas volumes and energy at contract base conditions")
     ov = wb.create_sheet("Overview")
@@ -330,7 +331,7 @@ def build_workbook(result, *, interval_csv=None, max_rows=None, interval_parquet
         K.write_corrector(wb.create_sheet("Corrector check"), result, du, iv_ws, iv_block,
                           span=time_span(result))
     layout["source"] = R.write_source_data(wb.create_sheet("Source data"), result)
-    history = getattr(result, "history", None)
+    history = result.history
     if history is not None and len(history):
         layout["history"] = H.write_history(wb.create_sheet("History"), result, history)
     layout["overview"] = write_overview(ov, result, du, interval_csv=interval_csv,
@@ -342,12 +343,12 @@ def build_workbook(result, *, interval_csv=None, max_rows=None, interval_parquet
     daily = iv_block is None
     src_ws, src_block = (gd_ws, gd_block) if daily else (iv_ws, iv_block)
     span = time_span(result, daily=daily)
-    x_title = f"Gas day ({_month_label(result)})"
+    x_title = f"Gas day ({_month_label(result)}, starting {result.settings.gas_day_start:02d}:00 local time, {result.settings.timezone})"
     step = 16
     if gd_block.rows:
         days_err = list(result.gas_days["ideal_gas_error_pct"].astype(float))
-        made = [C.pressure_temperature_chart(src_ws, src_block, du, daily=daily, span=span),
-                C.z_ratio_chart(src_ws, src_block, daily=daily, span=span),
+        made = [C.pressure_temperature_chart(src_ws, src_block, du, daily=daily, span=span, clock=result.settings.timezone),
+                C.z_ratio_chart(src_ws, src_block, daily=daily, span=span, clock=result.settings.timezone),
                 C.daily_volume_chart(gd_ws, gd_block, du, x_title),
                 C.daily_error_chart(gd_ws, gd_block, days_err, x_title)]
         for i, ch in enumerate(made):

@@ -2,7 +2,7 @@
 
 - line pressure and temperature over the month (temperature on a secondary axis);
 - Zb/Zf over the month;
-- daily corrected volume, real gas beside ideal gas (clustered columns, the axis from zero);
+- daily base volume, real gas beside ideal gas (clustered columns, the axis from zero);
 - daily ideal-gas error [%] (bars hang from zero);
 - the invoice attribution as a waterfall of the difference, from zero (our figure) to the
   invoice: a stacked column chart whose first series, the invisible base (no fill, no line, no
@@ -20,6 +20,7 @@ import datetime as _dt
 import math
 from dataclasses import dataclass, field
 
+from .. import vocabulary as V
 from . import xlsx_common as X
 
 WIDTH_CM = 25.0
@@ -131,9 +132,10 @@ def _axis_title(text):
     return {"name": text, "name_font": {"size": 10, "bold": False}}
 
 
-def _time_chart(title, y_title, span=None, y_format="General"):
-    """A scatter chart with lines over time; ``span`` = (first, last) datetime of the x axis."""
-    x = {"num_format": "dd mmm", "major_gridlines": {"visible": False}, "label_position": "low"}
+def _time_chart(title, y_title, span=None, y_format="General", clock=""):
+    """A scatter chart with lines over time; ``span`` = (first, last) datetime of the x axis; ``clock``
+    names the time axis' clock (the site's zone)."""
+    x = {**_axis_title(f"Interval end, local time ({clock})" if clock else "Interval end"), "num_format": "dd mmm", "major_gridlines": {"visible": False}, "label_position": "low"}
     if span is not None:
         lo, hi = (_serial(v) for v in span)
         x.update({"min": math.floor(lo), "max": math.ceil(hi), "major_unit": 7 if hi - lo > 20 else 1})
@@ -146,13 +148,13 @@ def _series(name, x, y, colour, width=1.5, **kw):
     return {"name": name, "x": x, "y": y, "colour": colour, "width": width, **kw}
 
 
-def pressure_temperature_chart(data_ws, block, du, *, daily=False, span=None):
+def pressure_temperature_chart(data_ws, block, du, *, daily=False, span=None, clock=""):
     """Line pressure (left axis) and temperature (right axis) over the month."""
     xcol = block.columns["local"] if not daily else block.columns["Gas day"]
     pcol = block.columns["pressure"] if not daily else block.columns[f"Mean line pressure [{du.label('pressure')}]"]
     tcol = block.columns["temperature"] if not daily else block.columns[f"Mean line temperature [{du.label('temperature')}]"]
     ch = _time_chart("Line pressure and temperature" + (" (gas-day means)" if daily else ""),
-                     f"Line pressure [{du.label('pressure')}]", span, "#,##0")
+                     f"Line pressure [{du.label('pressure')}]", span, "#,##0", clock=clock)
     ref = lambda c: Ref(data_ws.title, c, block.first_row, block.last_row)  # noqa: E731
     ch.series.append(_series("Line pressure", ref(xcol), ref(pcol), X.PRESSURE))
     ch.series.append(_series("Line temperature", ref(xcol), ref(tcol), X.TEMPERATURE, y2=True))
@@ -161,12 +163,12 @@ def pressure_temperature_chart(data_ws, block, du, *, daily=False, span=None):
     return ch
 
 
-def z_ratio_chart(data_ws, block, *, daily=False, span=None):
+def z_ratio_chart(data_ws, block, *, daily=False, span=None, clock=""):
     """Zb/Zf (= Fpv²) over the month."""
     xcol = block.columns["local"] if not daily else block.columns["Gas day"]
     ycol = block.columns["factor_z"] if not daily else block.columns["Zb/Zf, volume-weighted [-]"]
     ch = _time_chart("Zb/Zf over the month" + (" (gas-day volume-weighted)" if daily else ""), "Zb/Zf [-]", span,
-                     "0.000")
+                     "0.000", clock=clock)
     ref = lambda c: Ref(data_ws.title, c, block.first_row, block.last_row)  # noqa: E731
     ch.series.append(_series("Zb/Zf", ref(xcol), ref(ycol), X.ZRATIO))
     ch.legend = None
@@ -181,13 +183,13 @@ def _bar_chart(title, y_title, x_title="Gas day"):
 
 
 def daily_volume_chart(gd_ws, block, du, x_title="Gas day"):
-    """Daily corrected volume, real gas beside ideal gas; sizes compared, so the axis starts at zero."""
+    """Daily base volume, real gas beside ideal gas; sizes compared, so the axis starts at zero."""
     vl = du.label("volume")
-    ch = _bar_chart("Corrected volume by gas day, real gas and Z = 1", f"Volume [{vl} at base]", x_title)
+    ch = _bar_chart("Base volume by gas day, real gas and ideal gas (Z = 1)", f"Volume [{vl} at base]", x_title)
     ch.y_axis.update({"num_format": "#,##0", "min": 0})
     cats = Ref(gd_ws.title, block.columns["Gas day"], block.first_row, block.last_row)
-    for key, colour, name in ((f"Corrected volume, real gas [{vl} at base]", X.REAL_GAS, "Real gas"),
-                              (f"Corrected volume, ideal gas Z=1 [{vl} at base]", X.IDEAL_GAS, "Ideal gas (Z = 1)")):
+    for key, colour, name in ((f"{V.BASE_VOLUME} [{vl} at base]", X.REAL_GAS, "Real gas"),
+                              (f"{V.BASE_VOLUME_IDEAL} [{vl} at base]", X.IDEAL_GAS, "Ideal gas (Z = 1)")):
         ch.series.append(_series(name, cats, Ref(gd_ws.title, block.columns[key], block.first_row, block.last_row),
                                  colour))
     ch.gap = 60
@@ -289,9 +291,9 @@ def share_chart(ws, first_row, last_row, label_col, share_col):
     return ch
 
 
-def corrector_ratio_chart(data_ws, block, span=None):
+def corrector_ratio_chart(data_ws, block, span=None, clock=""):
     """The site corrector's volume over ours, interval by interval, and the best explanation."""
-    ch = _time_chart("Site corrector ÷ ours, and the best explanation", "Ratio [-]", span, "0.000")
+    ch = _time_chart("Site corrector ÷ ours, and the best explanation", "Ratio [-]", span, "0.000", clock=clock)
     ref = lambda c: Ref(data_ws.title, c, block.first_row, block.last_row)  # noqa: E731
     # the explanation underneath, broad and light; the observed ratio on top, thin
     ch.series.append(_series("Best explanation", ref(block.columns["local"]), ref(block.columns["fitted_ratio"]),

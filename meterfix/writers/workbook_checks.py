@@ -50,22 +50,22 @@ def _yes_no(v):
 def write_uncertainty(ws, result) -> dict:
     """The month's expanded uncertainty and its budget, readable input by input."""
     unc = result.uncertainty
-    r = X.section(ws, 1, "Uncertainty of the month's corrected volume and energy")
+    r = X.section(ws, 1, "Uncertainty of the month's base volume and energy")
     if unc is None:
         X.note(ws, r, "No uncertainty was computed for this run.", span=6)
         X.set_widths(ws, {1: 34})
         return {}
-    k = getattr(unc, "coverage_factor", 2.0)
+    k = unc.coverage_factor
     r = X.note(ws, r, f"Expanded uncertainties with coverage factor k = {k:g} (about 95 % coverage for a normal "
                       "distribution), following the GUM. Each input's sensitivity coefficient multiplies its standard "
                       "uncertainty; the contributions combine in quadrature (systematic inputs do not average out "
                       "over the month).", span=8)
     r += 1
-    r = _kv(ws, r, "Expanded uncertainty, base volume", getattr(unc, "expanded_pct", None), "%", "0.000")
-    r = _kv(ws, r, "Expanded uncertainty, energy", getattr(unc, "expanded_energy_pct", None), "%", "0.000")
+    r = _kv(ws, r, "Expanded uncertainty, base volume", unc.expanded_pct, "%", "0.000")
+    r = _kv(ws, r, "Expanded uncertainty, energy", unc.expanded_energy_pct, "%", "0.000")
     r = _kv(ws, r, "Coverage factor k", k, "", "0.00")
-    du = X.DisplayUnits(result.settings.display_units)
-    mc = getattr(unc, "monte_carlo", None) or {}
+    du = X.DisplayUnits.for_settings(result.settings)
+    mc = unc.monte_carlo or {}
     if mc:
         r = _kv(ws, r, "Monte Carlo check: draws", mc.get("draws"), "", X.FMT_INT)
         r = _kv(ws, r, "Monte Carlo expanded uncertainty", mc.get("expanded_pct"), "%", "0.000")
@@ -78,7 +78,7 @@ def write_uncertainty(ws, result) -> dict:
         r = _kv(ws, r, "Monte Carlo agrees with the GUM budget", _yes_no(mc.get("gum_agrees")),
                 f"within {mc.get('tolerance_pct'):g} %" if mc.get("tolerance_pct") is not None else "")
     r = X.section(ws, r + 1, "Budget of the month's base volume")
-    b = getattr(unc, "budget", None)
+    b = unc.budget
     where = {}
     if b is not None and len(b):
         cols = [h for h in BUDGET_HEADERS if h[0] in b.columns]
@@ -86,7 +86,7 @@ def write_uncertainty(ws, result) -> dict:
         headers = [h[1] for h in cols] + extra
         fmts = [h[2] for h in cols] + [None] * len(extra)
         rows = []
-        du = X.DisplayUnits(result.settings.display_units)
+        du = X.DisplayUnits.for_settings(result.settings)
         keys = [h[0] for h in cols] + extra
         for _, x in b.iterrows():
             rec = {k: x[k] for k in keys}
@@ -122,13 +122,13 @@ def write_invoice(ws, result, du) -> dict:
     cur = rec.currency or "currency"
     r = X.section(ws, 1, "Invoice against our month")
     r = X.note(ws, r, "Billed volumes are re-stated at our contract base conditions with the real-gas Z of the gas in "
-                      "force before comparing. Difference = billed − ours. The waterfall explains the difference one "
-                      "assumption at a time; 'unexplained' is the rest.", span=8)
+                      "force before comparing. Difference = invoice − ours. The waterfall explains the difference one "
+                      "assumption at a time; 'not explained' is the rest.", span=8)
     r += 1
     r = _kv(ws, r, "Invoice file", rec.file or "")
     r = _kv(ws, r, "Compared on", t.get("compared_on"))
     r = _kv(ws, r, "Billed volume, at our base", du.scalar("volume", t.get("volume_billed_m3")), vl, X.FMT_VOLUME)
-    r = _kv(ws, r, "Our volume", du.scalar("volume", t.get("volume_ours_m3")), vl, X.FMT_VOLUME)
+    r = _kv(ws, r, "Base volume, ours", du.scalar("volume", t.get("volume_ours_m3")), f"{vl} at base", X.FMT_VOLUME)
     r = _kv(ws, r, "Volume difference", du.scalar("volume", t.get("volume_difference_m3")), vl, X.FMT_VOLUME)
     r = _kv(ws, r, "Volume difference", t.get("volume_difference_pct"), "%", X.FMT_PCT)
     r = _kv(ws, r, "Billed energy", du.scalar("energy", _mj(t.get("energy_billed_MJ"))), el, X.FMT_ENERGY)
@@ -149,7 +149,7 @@ def write_invoice(ws, result, du) -> dict:
     r = X.section(ws, r + 1, "Billing periods")
     p = rec.periods
     headers = ["Period start", "Period end", "Our intervals", "Coverage [%]", f"Billed as stated [{vl} at invoice base]",
-               f"Billed [{vl} at our base]", f"Ours [{vl}]", f"Difference [{vl}]", "Difference [%]",
+               f"Invoice [{vl} at our base]", f"Ours [{vl} at base]", f"Difference [{vl}]", "Difference [%]",
                f"Billed energy [{el}]", f"Our energy [{el}]", "Energy difference [%]", f"Amount billed [{cur}]",
                f"Amount ours [{cur}]", "Exceeds uncertainty", "Exceeds tolerance"]
     rows = [[x["period_start"], x["period_end"], x["intervals"], x["coverage_pct"],
@@ -240,7 +240,7 @@ def write_corrector(ws, result, du, data_ws=None, interval_block=None, span=None
     tot = cc.totals or {}
     r = _kv(ws, r, "Intervals compared", tot.get("intervals_compared"), "", X.FMT_INT)
     r = _kv(ws, r, "Corrector volume", du.scalar("volume", tot.get("volume_corrector_m3")), vl, X.FMT_VOLUME)
-    r = _kv(ws, r, "Our volume", du.scalar("volume", tot.get("volume_ours_m3")), vl, X.FMT_VOLUME)
+    r = _kv(ws, r, "Base volume, ours", du.scalar("volume", tot.get("volume_ours_m3")), f"{vl} at base", X.FMT_VOLUME)
     r = _kv(ws, r, "Corrector − ours", du.scalar("volume", tot.get("volume_difference_m3")), vl, X.FMT_VOLUME)
     r = _kv(ws, r, "Corrector − ours", cc.size_pct, "%", X.FMT_PCT)
     r = _kv(ws, r, "Energy difference", du.scalar("energy", _mj(tot.get("energy_difference_MJ"))), el, X.FMT_ENERGY)
@@ -263,12 +263,12 @@ def write_corrector(ws, result, du, data_ws=None, interval_block=None, span=None
         ws.cell(row=r, column=1, value="No misconfiguration explains a difference above the threshold.").font = X.NOTE_FONT
         r += 1
     r = X.section(ws, r + 1, "Every explanation tried (lower score is better)")
-    head = ["Explanation", "Cause code", "Month effect [%]", "Score", "", "R²", "RMS residual [%]", "Fitted settings"]
+    head = ["Explanation", "Cause code", "Month effect [%]", "BIC (lower is better)", "", "R²", "RMS residual [%]", "Fitted settings"]
     rows = [[_cause_text(c["cause"]) if c["cause"] != "none" else "no misconfiguration", c["cause"], c["size_pct"],
              c["score"], None, c["r2"], c["rms_residual_pct"], _params_text(c.get("parameters"))] for c in cc.candidates]
     r = X.write_table(ws, r, 1, head, rows, [None, None, X.FMT_PCT, "0.0", None, "0.0000", "0.0000", None])
     if data_ws is not None and interval_block is not None and "ratio" in interval_block.columns:
-        C.place(ws, C.corrector_ratio_chart(data_ws, interval_block, span), f"A{r + 2}")
+        C.place(ws, C.corrector_ratio_chart(data_ws, interval_block, span, clock=result.settings.timezone), f"A{r + 2}")
     X.set_widths(ws, {1: 48, 2: 30, 3: 14, 4: 16, 5: 16, 6: 9, 7: 13, 8: 70})
     X.wrap_rows(ws, 3, r - 1, [1, 2, 8])
     return r

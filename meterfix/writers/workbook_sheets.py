@@ -11,6 +11,8 @@ from datetime import date as _date, datetime as _datetime
 import numpy as np
 import pandas as pd
 
+from .. import vocabulary as V
+from ..vocabulary import flag_label, flag_meaning
 from . import xlsx_common as X
 from .xlsx_bulk import BulkColumn, BulkTable, serial_days
 
@@ -91,9 +93,9 @@ def interval_columns(result, du: X.DisplayUnits) -> dict:
         "Ft = Tb/Tf [-]": _col(f("factor_temperature"), X.FMT_FACTOR, 10),
         "Zb/Zf = Fpv² [-]": _col(f("factor_z"), X.FMT_FACTOR, 10, "factor_z"),
         "Fpv [-]": _col(np.sqrt(f("factor_z")), X.FMT_FACTOR, 10),
-        f"Corrected volume, real gas [{vl} at base]": _col(_f(du.convert("volume", f("volume_base"))),
+        f"{V.BASE_VOLUME} [{vl} at base]": _col(_f(du.convert("volume", f("volume_base"))),
                                                            X.FMT_VOLUME_FINE, 15, "volume_base"),
-        f"Corrected volume, ideal gas Z=1 [{vl} at base]": _col(_f(du.convert("volume", f("volume_base_ideal"))),
+        f"{V.BASE_VOLUME_IDEAL} [{vl} at base]": _col(_f(du.convert("volume", f("volume_base_ideal"))),
                                                                 X.FMT_VOLUME_FINE, 15, "volume_base_ideal"),
         "Ideal-gas error [%]": _col(f("ideal_gas_error_pct"), X.FMT_PCT, 10, "error"),
         f"Mass [{ml}]": _col(_f(du.convert("mass", f("mass"))), X.FMT_VOLUME_FINE, 13),
@@ -107,11 +109,11 @@ def interval_columns(result, du: X.DisplayUnits) -> dict:
     for c in [c for c in d.columns if c.startswith("flag_")]:
         cols[_flag_label(c)] = _col(_yes(d[c].to_numpy(bool)), None, 10, c, kind="text")
     cc = result.corrector_check
-    if cc is not None and getattr(cc, "intervals", None) is not None and len(cc.intervals) == len(d):
+    if cc is not None and cc.intervals is not None and len(cc.intervals) == len(d):
         iv = cc.intervals
         cols[f"Site corrector volume [{vl} at its base]"] = _col(
             _f(du.convert("volume", iv["theirs"].to_numpy(float))), X.FMT_VOLUME_FINE, 15, "corrector")
-        cols["Corrector ÷ ours [-]"] = _col(iv["ratio"].to_numpy(float), X.FMT_FACTOR, 10, "ratio")
+        cols["Site corrector ÷ ours [-]"] = _col(iv["ratio"].to_numpy(float), X.FMT_FACTOR, 10, "ratio")
         cols["Fitted ratio, best explanation [-]"] = _col(iv["fitted_ratio"].to_numpy(float), X.FMT_FACTOR,
                                                           12, "fitted_ratio")
     return cols
@@ -187,8 +189,8 @@ def gas_day_table(result, du) -> pd.DataFrame:
     t["Intervals"] = g["intervals"].to_numpy(int)
     t["Hours"] = g["hours"].to_numpy(float)
     t[f"Uncorrected volume [{vl}]"] = du.convert("volume", g["volume_line"].to_numpy(float))
-    t[f"Corrected volume, real gas [{vl} at base]"] = du.convert("volume", g["volume_base"].to_numpy(float))
-    t[f"Corrected volume, ideal gas Z=1 [{vl} at base]"] = du.convert("volume", g["volume_base_ideal"].to_numpy(float))
+    t[f"{V.BASE_VOLUME} [{vl} at base]"] = du.convert("volume", g["volume_base"].to_numpy(float))
+    t[f"{V.BASE_VOLUME_IDEAL} [{vl} at base]"] = du.convert("volume", g["volume_base_ideal"].to_numpy(float))
     t[f"Ideal − real [{vl}]"] = du.convert("volume", (g["volume_base_ideal"] - g["volume_base"]).to_numpy(float))
     t["Ideal-gas error [%]"] = g["ideal_gas_error_pct"].to_numpy(float)
     t[f"Mass [{ml}]"] = du.convert("mass", g["mass"].to_numpy(float))
@@ -201,7 +203,7 @@ def gas_day_table(result, du) -> pd.DataFrame:
     t["Flagged intervals"] = g["flagged_intervals"].to_numpy(int)
     t["Estimated volume share [%]"] = g["estimated_volume_share_pct"].to_numpy(float)
     unc = result.uncertainty
-    gd = getattr(unc, "gas_days", None) if unc is not None else None
+    gd = unc.gas_days if unc is not None else None
     if gd is not None and len(gd):
         gd = gd.copy()
         gd.index = [pd.Timestamp(x).date() for x in gd.index]
@@ -288,7 +290,7 @@ def write_analyses(ws, result, du) -> None:
             return "start of log"
         return pd.Timestamp(a.effective_from).tz_convert(s.timezone).tz_localize(None).to_pydatetime()
 
-    rows.append(["In force from (local)", s.timezone] + [when(a) for a in an])
+    rows.append([f"{V.EFFECTIVE_FROM} (local)", s.timezone] + [when(a) for a in an])
     for c in comps:
         rows.append([c.replace("_", "-"), "mol %"] + [
             100.0 * float(a.gas.as_dict().get(c, 0.0)) if (a.gas is not None and hasattr(a.gas, "as_dict")) else None
@@ -303,7 +305,7 @@ def write_analyses(ws, result, du) -> None:
     if len(per):
         vl, el = du.label("volume"), du.label("energy")
         rows.append(["Intervals in force", "-"] + [per["intervals"].get(i) for i in range(len(an))])
-        rows.append(["Corrected volume, real gas", f"{vl} at base"] +
+        rows.append([V.BASE_VOLUME, f"{vl} at base"] +
                     [du.scalar("volume", per["volume_base"].get(i)) for i in range(len(an))])
         rows.append(["Energy", el] + [du.scalar("energy", per["energy"].get(i)) for i in range(len(an))])
         rows.append(["Ideal-gas error", "%"] + [per["ideal_gas_error_pct"].get(i) for i in range(len(an))])
@@ -333,19 +335,11 @@ def flag_periods(result) -> pd.DataFrame:
             continue
         edges = np.diff(np.concatenate([[0], on.astype(np.int8), [0]]))
         for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)):
-            rows.append({"kind": c[5:].replace("_", " ") if c.startswith("flag_") else "estimated",
+            rows.append({"kind": flag_label(c),
                          "first": d.index[a], "last": d.index[b - 1], "intervals": int(b - a)})
     return pd.DataFrame(rows, columns=["kind", "first", "last", "intervals"])
 
 
-FLAG_TEXT = {
-    "gap": "no reading for the interval", "duplicate": "the same time stamp more than once",
-    "stuck": "a value that did not change for too long", "spike": "a jump beyond the plausible",
-    "out_of_range": "a value outside its plausible range", "rollover": "the meter index rolled over",
-    "meter_change": "the meter index jumped back (meter exchange)", "z_outside_range": "line state outside the Z method's range",
-    "no_result": "volume but no corrected result (missing pressure or temperature, or no Z)",
-    "estimated": "a value substituted by the chosen policy",
-}
 
 
 def _when(text, tz, end=False):
@@ -387,9 +381,9 @@ def write_findings(ws, result, du) -> int:
         r += 1
     r = X.section(ws, r + 1, "Quality flags: intervals by kind")
     fl = result.flags
-    rows = [[k.replace("_", " "), v, FLAG_TEXT.get(k, "")] for k, v in sorted(fl.items())]
+    rows = [[flag_label(k), v, flag_meaning(k)] for k, v in sorted(fl.items()) if k != "estimated"]
     n_est = int(result.intervals["estimated"].sum()) if "estimated" in result.intervals else 0
-    rows.append(["estimated", n_est, FLAG_TEXT["estimated"]])
+    rows.append([flag_label("estimated"), n_est, flag_meaning("estimated")])
     r0 = r
     r = X.write_table(ws, r, 1, ["Flag", "Intervals", "Meaning"], rows, [None, X.FMT_INT, None])
     for rr in range(r0, r):
@@ -439,7 +433,7 @@ def _edit_unit(du, kind):
 
 
 def write_edits(ws, result, du=None) -> int:
-    du = du or X.DisplayUnits(result.settings.display_units)
+    du = du or X.DisplayUnits.for_settings(result.settings)
     r = X.section(ws, 1, "Edits: values substituted by the run")
     r = X.note(ws, r, f"Substitution policy: {result.settings.substitution}. Raw values are never overwritten; "
                       "every substituted value is listed here with its original (empty: there was none). Times are "

@@ -10,13 +10,14 @@ from __future__ import annotations
 
 
 import pandas as pd
+from ..vocabulary import flag_label, flag_meaning
 from . import xlsx_common as X
 from .source_record import log_record
 
 #: problem kind → (label, what the run did)
 PROBLEM_KINDS = (
     ("unreadable_cells", "unreadable cell",
-     "a number that cannot be read counts as empty and its interval is flagged 'unparseable'; a time that "
+     "a number that cannot be read counts as empty and its interval is flagged 'unreadable cell'; a time that "
      "cannot be read is placed between its neighbours when they leave exactly that slot, else its row is left out"),
     ("dropped_rows", "row left out",
      "the row is not used: its time cannot be read, or it does not exist on the local clock (spring change)"),
@@ -25,17 +26,6 @@ PROBLEM_KINDS = (
      "flagged 'duplicate'"),
 )
 
-#: reader flag → meaning (the flags the reader sets before the quality checks)
-READER_FLAG_TEXT = {
-    "unparseable": "a cell of the row could not be read (or the row follows a row left out)",
-    "missing": "an empty cell in a required column",
-    "duplicate": "the same interval end more than once with different values; this row was kept",
-    "time_backwards": "the time goes back against the row above in the same file",
-    "rollover": "the meter index rolled over; the difference was taken across the rollover",
-    "meter_change": "the meter index dropped too far for a rollover (meter exchange?); no volume taken",
-    "negative_delta": "the meter index went back a little; the negative difference is kept and flagged",
-    "implausible_delta": "an index difference beyond ten times the usual rate",
-}
 
 _WIDTHS = {1: 38, 2: 24, 3: 11, 4: 32, 5: 20, 6: 18, 7: 62}
 
@@ -82,7 +72,7 @@ def write_source_data(ws, result) -> dict:
     tz = s.timezone
     at = {}
     r = X.section(ws, 1, "Source data: what was read from the log and what the reader found")
-    rec = log_record(getattr(result, "log_metadata", None), limit=None)
+    rec = log_record(result.log_metadata, limit=None)
     X.set_widths(ws, _WIDTHS)
     if rec is None:
         X.note(ws, r, "This month was handed to meterfix in memory, not read from a log file: there is no record "
@@ -167,7 +157,7 @@ def write_source_data(ws, result) -> dict:
     # -- reader flags
     r = X.section(ws, r + 1, "Rows flagged by the reader")
     at["flags"] = r
-    rows = [[k.replace("_", " "), v, READER_FLAG_TEXT.get(k, "")] for k, v in rec["reader_flags"].items()]
+    rows = [[flag_label(k), v, flag_meaning(k)] for k, v in rec["reader_flags"].items()]
     first = r + 1
     r = X.write_table(ws, r, 1, ["Flag", "Rows", "Meaning"], rows, [None, X.FMT_INT, None])
     for rr in range(first - 1, r):

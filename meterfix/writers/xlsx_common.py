@@ -91,7 +91,17 @@ MAX_WIDTH = 70.0
 _LABELS = {"degC": "°C", "degF": "°F", "degR": "°R"}
 DEFAULT_DISPLAY = {"pressure": "kPa", "temperature": "degC", "volume": "m3", "energy": "GJ",
                    "heating_value": "MJ/m3", "mass": "kg"}
+#: a US base (14.65-14.73 psia or 1 atm, 60 degF) is shown in US units unless [display_units] says otherwise
+US_DISPLAY = {"pressure": "psia", "temperature": "degF", "volume": "Mcf", "energy": "MMBtu",
+              "heating_value": "Btu/ft3", "mass": "lb"}
 _MASS = {"kg": 1.0, "t": 1000.0, "lb": 0.45359237}
+
+
+def is_us_base(pressure_base, temperature_base) -> bool:
+    """A base of US contracts: 60 degF and 14.65 to 14.73 psia (common practice)."""
+    if pressure_base is None or temperature_base is None:
+        return False
+    return abs(temperature_base - 288.705556) < 0.01 and 14.60 * 6894.757 <= pressure_base <= 14.75 * 6894.757
 
 
 class DisplayUnits:
@@ -102,8 +112,8 @@ class DisplayUnits:
     (MJ/m3, Btu/ft3 ...), ``mass`` (kg, t, lb).
     """
 
-    def __init__(self, table: dict | None = None):
-        want = dict(DEFAULT_DISPLAY)
+    def __init__(self, table: dict | None = None, defaults: dict | None = None):
+        want = dict(defaults or DEFAULT_DISPLAY)
         for k, v in (table or {}).items():
             if k not in DEFAULT_DISPLAY:
                 raise SettingsError(f"display_units: unknown kind '{k}'",
@@ -123,6 +133,12 @@ class DisplayUnits:
             if kind == "pressure" and u.reference == "gauge":
                 raise SettingsError("display_units: pressures are shown absolute; give e.g. 'kPa' or 'bar'")
             self._units[kind] = u
+
+    @classmethod
+    def for_settings(cls, settings) -> "DisplayUnits":
+        """The run's display units: its [display_units], the rest in US units for a US base."""
+        us = is_us_base(settings.base_pressure, settings.base_temperature)
+        return cls(settings.display_units, US_DISPLAY if us else DEFAULT_DISPLAY)
 
     def label(self, kind: str) -> str:
         """Header label of a kind's unit, e.g. 'kPa abs', '°C', 'm3'."""

@@ -13,6 +13,7 @@ import numpy as np
 from ..errors import RangeWarning
 from ..gas.composition import as_composition
 from ..gas.gross import GrossCharacterization
+from .ideal import IDEAL_METHOD
 from .phase import REASON_NOT_GAS, mark_not_gas
 from .base import EXTENDED, NORMAL, OUTSIDE, RANGE_NAMES, ZResult
 from .registry import ZMethod, get_method, method_names, register, z_methods
@@ -27,7 +28,7 @@ def _gas(gas, method: ZMethod):
             raise SettingsError(f"method '{method.name}' needs a composition, not a gross characterisation",
                                 hint="use aga8-gross1 or aga8-gross2 with heating value and relative density")
         return gas
-    if gas is None and method.name == "ideal":
+    if gas is None and method.name == IDEAL_METHOD:
         return None
     return as_composition(gas)
 
@@ -104,5 +105,5 @@ def compressibility(pressure, temperature, composition=None, method: str = DEFAU
     return z
 
 
-__all__ = ["compressibility", "evaluate_z", "ZResult", "ZMethod", "register", "get_method",
+__all__ = ["IDEAL_METHOD", "compressibility", "evaluate_z", "ZResult", "ZMethod", "register", "get_method",
            "method_names", "z_methods", "REASON_NOT_GAS", "NORMAL", "EXTENDED", "OUTSIDE", "RANGE_NAMES", "DEFAULT_METHOD"]

@@ -10,6 +10,8 @@ import numpy as np
 
 from .base import NORMAL, REASON_INVALID_INPUT, ZResult, invalid_points
 
+#: the method name of the ideal gas law (Z = 1), named wherever a step treats it apart
+IDEAL_METHOD = "ideal"
 EDITION = "ideal gas law, Z = 1"
 
 
@@ -35,5 +37,5 @@ def z_ideal(pressure, temperature, composition=None) -> ZResult:
     with np.errstate(divide="ignore", invalid="ignore"):
         rho = p / (R * t)
     molar_mass = None if composition is None else composition.molar_mass
-    return ZResult(z, rng, reason, "ideal", EDITION, molar_density=np.where(bad, np.nan, rho),
+    return ZResult(z, rng, reason, IDEAL_METHOD, EDITION, molar_density=np.where(bad, np.nan, rho),
                    molar_mass=molar_mass)

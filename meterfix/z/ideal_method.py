@@ -1,6 +1,6 @@
 """Registry entry for the ideal gas."""
 
-from .ideal import EDITION, z_ideal
+from .ideal import EDITION, IDEAL_METHOD, z_ideal
 from .registry import ZMethod
 
 
@@ -9,6 +9,6 @@ def _evaluate(pressure, temperature, gas=None, **_):
     return z_ideal(pressure, temperature, gas if isinstance(gas, Composition) else None)
 
 
-METHODS = [ZMethod("ideal", EDITION, _evaluate, family="ideal",
+METHODS = [ZMethod(IDEAL_METHOD, EDITION, _evaluate, family="ideal",
                    range_text="any pressure and temperature (exact only as p -> 0)",
                    uncertainty_pct={}, uncertainty_source="not a real-gas method: its error is the ideal-gas error")]

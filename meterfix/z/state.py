@@ -19,6 +19,7 @@ from ..gas.composition import Composition, as_composition
 from ..gas.gross import GrossCharacterization
 from .base import (OUTSIDE, REASON_INVALID_INPUT, REASON_NO_CONVERGENCE, REASON_NO_GAS_ROOT)
 from .registry import ZMethod, get_method
+from .ideal import IDEAL_METHOD
 
 _RTOL = 1e-13       # relative residual in molar volume that counts as solved
 _ACCEPT = 1e-10     # largest relative residual still accepted after the iteration limit
@@ -234,7 +235,7 @@ def solve_state(gas, method, pressure=None, temperature=None, molar_volume=None,
                             hint=f"got {sum(given)}: pressure, temperature and molar volume are linked "
                                  "by p v = Z R T, so two fix the third")
     m = method if isinstance(method, ZMethod) else get_method(method)
-    if not isinstance(gas, (GrossCharacterization, Composition)) and not (gas is None and m.name == "ideal"):
+    if not isinstance(gas, (GrossCharacterization, Composition)) and not (gas is None and m.name == IDEAL_METHOD):
         gas = as_composition(gas)
     if isinstance(gas, GrossCharacterization) and m.gas_input != "gross" and m.family != "natural-gas correlation":
         raise SettingsError(f"method '{m.name}' needs a composition, not a gross characterisation",
