@@ -33,7 +33,7 @@ QUANTITY_LABELS = {
     "energy": ENERGY, "mass": MASS, "pressure_line": LINE_PRESSURE, "pressure_atm": ATMOSPHERIC_PRESSURE,
     "temperature_line": LINE_TEMPERATURE, "heating_value": HEATING_VALUE, "ideal_gas_error_pct": IDEAL_GAS_ERROR,
     "pressure_differential": "Differential pressure", "speed_of_sound": "Speed of sound",
-    "meter_error_pct": "Meter error",
+    "meter_error": "Meter error",
 }
 
 # --- flags: key (column flag_<key>) -> (plain words, what it means and what the run did) ------------

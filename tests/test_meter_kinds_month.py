@@ -138,7 +138,7 @@ def test_error_curve_month_by_hand():
     r = run_month(f, [(None, GAS)], build_settings(None, {"base": "101.325kPa-15C", "method": "ideal"}), flow_meter=fm)
     want = [100 / 1.008, 225 / 1.001, 20 / 1.012, 400 / 0.998]
     np.testing.assert_allclose(r.intervals["volume_base"].to_numpy(), want, rtol=1e-13)
-    np.testing.assert_allclose(r.intervals["meter_error_pct"].to_numpy(), [0.8, 0.1, 1.2, -0.2], rtol=1e-13)
+    np.testing.assert_allclose(r.intervals["meter_error"].to_numpy(), [0.8, 0.1, 1.2, -0.2], rtol=1e-13)
     assert r.intervals["flag_outside_error_curve"].tolist() == [False, False, True, True]
     effect = 100 * (sum(want) / 745.0 - 1)
     assert r.flow_meter["meter_error_correction_pct"] == pytest.approx(effect, rel=1e-12)

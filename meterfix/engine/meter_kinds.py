@@ -218,7 +218,7 @@ def calibrated_volume(frame, vl, duration, fm: FlowMeter) -> KindResult:
     rec = {"kind": "volume", "calibration": how, "error_curve": fm.error_curve, "meter_factor": fm.meter_factor,
            "uncorrected_volume_indicated_m3": ind, "uncorrected_volume_after_meter_error_m3": cor,
            "meter_error_correction_pct": effect, "intervals_outside_curve": int(np.count_nonzero(outside))}
-    return KindResult(corrected, None, None, {"volume_line_indicated": vl, "meter_error_pct": err},
+    return KindResult(corrected, None, None, {"volume_line_indicated": vl, "meter_error": err},
                       {"outside_error_curve": outside}, rec)
 
 

@@ -50,7 +50,7 @@ INTERVAL_UNITS = {
     # meter kinds (engine.meter_kinds): orifice, Coriolis, calibrated volume meters, speed of sound
     "pressure_differential": "Pa", "pressure_upstream": "Pa", "density_line": "kg/m3",
     "discharge_coefficient": "-", "expansibility": "-", "reynolds_pipe": "-", "isentropic_exponent": "-",
-    "viscosity": "Pa s", "volume_line_indicated": "m3", "meter_error_pct": "%", "speed_of_sound": "m/s",
+    "viscosity": "Pa s", "volume_line_indicated": "m3", "meter_error": "%", "speed_of_sound": "m/s",
     "speed_of_sound_computed": "m/s", "speed_of_sound_deviation_pct": "%",
 }
 #: SI unit of each gas-day (and month) column, for the CSV headers

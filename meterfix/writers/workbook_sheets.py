@@ -121,9 +121,10 @@ def interval_columns(result, du: X.DisplayUnits) -> dict:
 
 def _meter_kind_columns(d, du) -> dict:
     """The meter kinds' interval columns that are present (orifice, calibration, speed of sound)."""
+    Q = V.QUANTITY_LABELS
     pl, vl = du.label("pressure"), du.label("volume")
     spec = [
-        ("pressure_differential", "Differential pressure [mbar]", None, X.FMT_PRESSURE),
+        ("pressure_differential", f"{Q['pressure_differential']} [mbar]", None, X.FMT_PRESSURE),
         ("pressure_upstream", f"Upstream pressure [{pl}]", "pressure", X.FMT_PRESSURE),
         ("density_line", "Density at line [kg/m3]", None, X.FMT_FACTOR),
         ("discharge_coefficient", "Discharge coefficient C [-]", None, X.FMT_FACTOR),
@@ -132,8 +133,8 @@ def _meter_kind_columns(d, du) -> dict:
         ("isentropic_exponent", "Isentropic exponent κ [-]", None, X.FMT_FACTOR),
         ("viscosity", "Viscosity [µPa s]", None, X.FMT_FACTOR),
         ("volume_line_indicated", f"Indicated volume [{vl}]", "volume", X.FMT_VOLUME_FINE),
-        ("meter_error_pct", "Meter error [%]", None, X.FMT_PCT),
-        ("speed_of_sound", "Speed of sound, meter [m/s]", None, X.FMT_FACTOR),
+        ("meter_error", f"{Q['meter_error']} [%]", None, X.FMT_PCT),
+        ("speed_of_sound", f"{Q['speed_of_sound']}, meter [m/s]", None, X.FMT_FACTOR),
         ("speed_of_sound_computed", "Speed of sound, equation of state [m/s]", None, X.FMT_FACTOR),
         ("speed_of_sound_deviation_pct", "Speed of sound deviation [%]", None, X.FMT_PCT),
     ]
