@@ -26,7 +26,7 @@ STAGE = {
     "uncertainty": 6, "checks": 6,
     "month": 7,                    # the month job: engine + uncertainty + checks
     "writers": 8,
-    "fleet": 9, "store": 9,
+    "fleet": 9, "store": 9, "balance": 9,
     "cli": 10, "__main__": 11,
 }
 

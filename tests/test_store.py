@@ -26,7 +26,7 @@ from meterfix.cli import app
 from meterfix.engine.settings import build_settings
 from meterfix.month import run_files
 from meterfix.store import close as C
-from meterfix.store import open_store
+from meterfix.store import SCHEMA_VERSION, open_store
 from meterfix.store.history import entries, trend
 from meterfix.store.verify import verify_closing
 
@@ -101,7 +101,7 @@ def test_a_closing_recomputes_within_50_ppm_and_keeps_everything(store_url, mont
         edits = c.rows("SELECT what, original_value, new_value, rule, edited_by FROM mf_edits ORDER BY seq")
         payloads = [json.loads(p) for (p,) in c.rows("SELECT payload FROM mf_records ORDER BY seq")]
         version = c.rows("SELECT MAX(version) FROM mf_schema")[0][0]
-    assert version == 1
+    assert version == SCHEMA_VERSION == 2  # every migration applied at the first closing
     assert len(edits) == len(result.edits) > 0
     assert all(e[3] == "interpolate" and e[4] == "R. Okafor" for e in edits)
     raw = np.array([np.nan if p["in"]["volume_line"] is None else p["in"]["volume_line"] for p in payloads])

@@ -239,6 +239,7 @@ from . import correct  # noqa: E402,F401  (registers 'correct' and the commands 
 from . import fleet  # noqa: E402,F401  (registers 'fleet')
 from . import properties  # noqa: E402,F401  (registers 'properties')
 from . import store  # noqa: E402,F401  (registers 'history' and 'verify')
+from . import balance  # noqa: E402,F401  (registers 'balance')
 
 if __name__ == "__main__":  # pragma: no cover
     sys.exit(main())

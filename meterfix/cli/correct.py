@@ -184,11 +184,21 @@ def _exit_code(result, fail_on) -> int:
 def demo_command(
     folder: Path = typer.Argument(Path("meterfix-demo"), help="Folder for the demo outputs."),
     overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
+    zone: bool = typer.Option(False, "--zone", help="Instead: the balance of an invented distribution zone (two receipts, five deliveries, a linepack section, one meter drifting high)."),
 ):
     """Run an invented month (a 40-bar industrial meter) and print where the outputs are."""
     try:
         from .console import print_summary
         from .demo import demo_folder, run_demo
+
+        if zone:
+            from .balance import run_balance
+            from .demo import zone_folder
+
+            code = run_balance(zone_folder() / "balance.toml", folder, overwrite=overwrite, quiet=True,
+                               workers=2)
+            typer.echo(f"  inputs (invented)  {zone_folder()}")
+            raise typer.Exit(code)
 
         result, written = run_demo(folder, overwrite=overwrite)
         print_summary(result, written)

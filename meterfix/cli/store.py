@@ -50,9 +50,18 @@ def _history(target, meter, as_json):
         raise StoreError(f"meter '{meter}' has no closed month in the store", file=st.name,
                          hint="meters in the store: " + (", ".join(known) or "none"))
     meters = list(dict.fromkeys(df["meter"]))
+    from ..store.balances import balance_entries
+
+    bal = balance_entries(st) if meter is None else None
     if as_json:
         out = {"store": st.name, "meters": [{"meter": m, "trend": trend(df[df["meter"] == m])} for m in meters],
                "entries": [entry_json(r) for _, r in df.iterrows()]}
+        if bal is not None:
+            out["balances"] = [{"name": r["name"], "month": r["month"], "version": int(r["version"]),
+                                "closed_at": r["closed_at"], "closed_by": r["closed_by"], "reason": r["reason"],
+                                "latest": bool(r["latest"]), "figures": json.loads(r["figures_json"]),
+                                "meters": json.loads(r["parts_json"]), "closing_hash": r["closing_hash"]}
+                               for _, r in bal.iterrows()]
         if meter is not None:
             out["configuration_log"] = df.attrs.get("config_log", [])
         typer.echo(json.dumps(out, indent=2, sort_keys=True, allow_nan=False))
@@ -65,8 +74,26 @@ def _history(target, meter, as_json):
          "a later version never replaces an earlier one")
     if meter is None:
         _fleet_view(df, meters)
+        if bal is not None and len(bal):
+            _balance_view(bal)
     else:
         _meter_view(df, meter)
+
+
+def _balance_view(bal):
+    """Closed balances: every version with its UFG, uncertainty, verdict and the meter credited."""
+    echo = typer.echo
+    echo(f"  balances ({bal['name'].nunique()}): base volumes [m3]; UFG ± U (k = 2)")
+    for _, r in bal.iterrows():
+        f = json.loads(r["figures_json"])
+        verdict = "consistent" if f.get("consistent") else "NOT consistent"
+        credited = f.get("credited")
+        who = f", by {r['closed_by']}" if r["closed_by"] else ""
+        why = f": {r['reason']}" if r["reason"] else ""
+        echo(f"    {r['name']} {r['month']} v{int(r['version'])}{'' if r['latest'] else ' (superseded)'}  "
+             f"UFG {_num(f.get('ufg_m3'), ',.0f')} ± {_num(f.get('ufg_expanded_uncertainty_m3'), ',.0f')} m3 "
+             f"({_num(f.get('ufg_pct'), '+.3f')} % of receipts), {verdict}"
+             + (f", {credited} credited" if credited else "") + f"; closed {r['closed_at']}{who}{why}")
 
 
 def _fleet_view(df, meters):

@@ -326,6 +326,8 @@ def help_text(s: Setting) -> str:
         d = s.default
         if s.kind == "hour":
             d = f"{int(d):02d}:00"
+        elif isinstance(d, bool):
+            d = "true" if d else "false"
         bits.append(f"default {d}{(' ' + s.unit) if s.unit in ('%',) else ''}")
     if s.range_text or (s.low is not None and s.high is not None and s.kind in ("number", "int")):
         bits.append("range " + (s.range_text or f"{s.low:g}-{s.high:g} {s.unit}"))
@@ -342,6 +344,8 @@ def readme_table() -> str:
         d = s.default
         if s.kind == "hour" and d is not None:
             d = f"{int(d):02d}:00"
+        elif isinstance(d, bool):
+            d = "true" if d else "false"
         default = "" if d in (None, "") else f"{d}{' %' if s.unit == '%' else ''}"
         what = s.help + (f" (one of {', '.join(s.choices)})" if s.choices else "")
         if s.range_text or (s.kind in ("number", "int") and s.low is not None and s.high is not None):

@@ -70,7 +70,7 @@ def run_fleet_dask(folder, out_dir, options: dict, *, scheduler: str, overwrite:
 
     from ..writers.fleet import error_row
 
-    dirs = [d.resolve() for d in meter_folders(folder)]
+    dirs = [Path(d).resolve() for d in (meter_folders(folder) if isinstance(folder, (str, Path)) else folder)]
     check_meter_names(dirs, options)
     out = Path(out_dir).resolve()
     client = _client(scheduler, connect_timeout)

@@ -80,6 +80,8 @@ def run_fleet(folder, out_dir, options: dict, *, workers: int = 1, overwrite: bo
 
     Parameters
     ----------
+    folder : path, or list of paths   a fleet folder (its sub-folders with a site.toml), or the meter
+                           folders themselves (a balance's meters)
     workers : int          processes (1: in this process, one meter after the other)
     workbooks : bool       also write each meter's month workbook
     uncertainty : bool or dict   as ``meterfix.month.run_files``
@@ -87,7 +89,7 @@ def run_fleet(folder, out_dir, options: dict, *, workers: int = 1, overwrite: bo
     max_attempts : int     runs of a meter whose worker process died, in all
     closer : meterfix.store.job.Closer, optional   closes each month into a store (see run_meter)
     """
-    dirs = meter_folders(folder)
+    dirs = meter_folders(folder) if isinstance(folder, (str, Path)) else [Path(d) for d in folder]
     check_meter_names(dirs, options)
     kwargs = {"overwrite": overwrite, "workbooks": workbooks, "uncertainty": uncertainty, "closer": closer}
     total = len(dirs)

@@ -356,8 +356,37 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
                            header_row=hi + 1, timezone=timezone,
                            notes=[" ".join(str(c) for c in r if c is not None) for r in rows[:hi]
                                   if any(c is not None for c in r)])
-    scales = {}
-    for canon, (j, header, unit_text) in list(cols.items()):
+    cols = _units_from_header_words(rows, hi, cols, loc)
+    scales = _column_scales(cols, meta, hi, loc)
+    _require_base_conditions(cols, pressure_base, temperature_base, hi, loc)
+    combined = cols["period_start"][0] == cols["period_end"][0]
+    order = _date_order(rows, hi, cols, combined, loc)
+    out = []
+    for i in range(hi + 1, len(rows)):
+        r = rows[i]
+        if r is None or all(c is None or str(c).strip() == "" for c in r):
+            continue
+        first = next((c for c in r if c is not None and str(c).strip() != ""), None)
+        if isinstance(first, str) and first.strip().lower().startswith(("total", "sum")):
+            meta.skipped_rows.append(i + 1)
+            continue
+        rec = _read_period(r, i, cols, scales, combined, order, timezone, loc)
+        _complete_and_check_period(rec, i, cols, pressure_base, temperature_base, loc)
+        out.append(rec)
+    if not out:
+        raise InputError("the invoice has no billing period below its header", **loc, row=hi + 1,
+                         hint="one row per billing period under the header row")
+    df = pd.DataFrame(out, columns=["period_start", "period_end", "volume_billed", "pressure_base", "temperature_base",
+                                    "heating_value", "energy_billed", "price", "amount", "row"])
+    _check_overlaps(df, p, sheet, cols["period_start"][1])
+    return df, meta
+
+
+def _units_from_header_words(rows, hi, cols, loc) -> dict:
+    """A header without a bracketed unit whose words name one ('Volume Mcf'), or a factor column
+    whose unit stands in the row below: the unit text of each column."""
+    out = dict(cols)
+    for canon, (j, header, unit_text) in cols.items():
         if canon == "period":
             continue
         name = _split_header(header)[0]
@@ -365,7 +394,14 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
             unit_text = _UNIT_HEADERS[name.replace("billed ", "").replace("quantity ", "")]
         elif not unit_text and canon == "heating_value" and name in _FACTOR_HEADERS:
             unit_text = _factor_unit(rows, hi, j, header, loc)
-        cols[canon] = (j, header, unit_text)
+        out[canon] = (j, header, unit_text)
+    return out
+
+
+def _column_scales(cols, meta, hi, loc) -> dict:
+    """Each column's unit → SI: a Unit, a float factor (prices, amounts) or None (the unit is in
+    each cell); a quantity column without a unit is refused."""
+    scales = {}
     for canon, (j, header, unit_text) in cols.items():
         if canon == "period":
             continue
@@ -375,8 +411,9 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
         where = {**loc, "row": hi + 1, "column": header}
         if kind is None or not unit_text:
             if kind in ("volume", "energy") or (kind == "heating_value"):
+                example = {'volume': 'Sm3', 'energy': 'GJ', 'heating_value': 'MJ/m3'}[kind]
                 raise UnitError(f"column '{header}' has no unit", **where,
-                                hint=f"write the unit in brackets, e.g. '{header} [{ {'volume': 'Sm3', 'energy': 'GJ', 'heating_value': 'MJ/m3'}[kind]}]'")
+                                hint=f"write the unit in brackets, e.g. '{header} [{example}]'")
             if kind == "price":
                 raise UnitError(f"column '{header}' has no unit", **where, hint="write e.g. 'Price [USD/MMBtu]'")
             scales[canon] = None
@@ -394,6 +431,11 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
                 raise UnitError(f"a base pressure is absolute; '{unit_text}' is a gauge unit", **where,
                                 hint="write e.g. 'Base pressure [psia]' or 'Base pressure [kPa]'")
             scales[canon] = u
+    return scales
+
+
+def _require_base_conditions(cols, pressure_base, temperature_base, hi, loc) -> None:
+    """The invoice's base: a column of it, or the settings invoice_base_* when it has none."""
     for canon in ("pressure_base", "temperature_base"):
         given = pressure_base if canon == "pressure_base" else temperature_base
         if canon not in cols and given is None:
@@ -401,10 +443,12 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
             opt = "invoice_base_pressure" if canon == "pressure_base" else "invoice_base_temperature"
             raise InputError(f"the invoice has no '{label.split(' [')[0]}' column", **loc, row=hi + 1,
                              hint=f"add a column '{label}', or give the base the invoice's volumes are stated at: "
-                                  f"--invoice-base (e.g. us-14.73-60f) or --{opt.replace('_', '-')}, or "
+                                  f"--invoice-base (e.g. 14.73psia-60F) or --{opt.replace('_', '-')}, or "
                                   f"invoice_base / {opt} in the site file")
 
-    combined = cols["period_start"][0] == cols["period_end"][0]
+
+def _date_order(rows, hi, cols, combined, loc):
+    """The day/month order of slash dates, by evidence over every date of the file; a mix is refused."""
     if combined:
         date_cells = []
         for r in rows[hi + 1:]:
@@ -418,92 +462,82 @@ def read_invoice(path, *, timezone: str = "UTC", pressure_base=None, temperature
     if order == "mixed":
         raise InputError("the dates mix day/month/year and month/day/year", **loc, column=cols["period_start"][1],
                          hint="write dates as YYYY-MM-DD (e.g. 2026-03-01)")
-    out = []
-    seen_totals = []
-    for i in range(hi + 1, len(rows)):
-        r = rows[i]
-        if r is None or all(c is None or str(c).strip() == "" for c in r):
-            continue
-        first = next((c for c in r if c is not None and str(c).strip() != ""), None)
-        if isinstance(first, str) and first.strip().lower().startswith(("total", "sum")):
-            seen_totals.append(i + 1)
-            continue
+    return order
 
-        def cell(canon):
-            j = cols[canon][0]
-            return r[j] if j < len(r) else None
 
-        rec = {"row": i + 1}
-        pair = None
-        if combined:
-            where = {**loc, "row": i + 1, "column": cols["period_start"][1]}
-            pair = dict(zip(("period_start", "period_end"), _split_period(cell("period_start"), where)))
-        for canon in ("period_start", "period_end"):
-            where = {**loc, "row": i + 1, "column": cols[canon][1]}
-            v = pair[canon] if pair else cell(canon)
-            if v is None or str(v).strip() == "":
-                raise InputError("empty date", **where, hint="every billing period needs its start and end gas day")
-            rec[canon] = _date(v, timezone, where, order)
-        for canon in ("volume_billed", "pressure_base", "temperature_base", "heating_value", "energy_billed",
-                      "price", "amount"):
-            if canon not in cols:
-                rec[canon] = np.nan
-                continue
-            where = {**loc, "row": i + 1, "column": cols[canon][1]}
-            v = cell(canon)
-            s = scales[canon]
-            kind = INVOICE_COLUMNS[canon][0]
-            if s is None:
-                if v is None or str(v).strip() == "":
-                    rec[canon] = np.nan
-                    continue
-                if isinstance(v, str) and re.search(r"[A-Za-z°]", v):
-                    try:
-                        q = parse_quantity(v, kind)
-                    except UnitError as exc:
-                        raise UnitError(exc.message, **where, hint=exc.hint) from None
-                    if kind == "pressure" and q.is_gauge:
-                        raise UnitError(f"a base pressure is absolute; '{v}' is gauge", **where)
-                    rec[canon] = q.value
-                    continue
-                raise UnitError(f"'{v}' has no unit and the header gives none", **where,
-                                hint=f"write the unit in the header, e.g. '{cols[canon][1]} [kPa]'")
-            x = _number(v, where)
-            if isinstance(s, float):
-                rec[canon] = x * s
-            else:
-                rec[canon] = float(s.to_si(x)) if np.isfinite(x) else np.nan
-        if not np.isfinite(rec["volume_billed"]):
-            raise InputError("billed volume is empty", **loc, row=i + 1, column=cols["volume_billed"][1],
-                             hint="every billing period needs its billed volume")
-        if not np.isfinite(rec["pressure_base"]):
-            if pressure_base is None:
-                raise InputError("base pressure is empty", **loc, row=i + 1, column=cols["pressure_base"][1],
-                                 hint="fill it in, or give --invoice-base / --invoice-base-pressure")
-            rec["pressure_base"] = float(pressure_base)
-        if not np.isfinite(rec["temperature_base"]):
-            if temperature_base is None:
-                raise InputError("base temperature is empty", **loc, row=i + 1, column=cols["temperature_base"][1],
-                                 hint="fill it in, or give --invoice-base / --invoice-base-temperature")
-            rec["temperature_base"] = float(temperature_base)
-        if not (50e3 <= rec["pressure_base"] <= 200e3):
-            raise InputError(f"base pressure {rec['pressure_base']:.0f} Pa is not plausible (50-200 kPa absolute)",
-                             **loc, row=i + 1, column=cols.get("pressure_base", (0, None))[1], hint="check the unit")
-        if not (250.0 <= rec["temperature_base"] <= 310.0):
-            raise InputError(f"base temperature {rec['temperature_base']:.2f} K is not plausible", **loc, row=i + 1,
-                             column=cols.get("temperature_base", (0, None))[1], hint="check the unit (degC, degF, K)")
-        if rec["period_end"] < rec["period_start"]:
-            raise InputError(f"period ends ({rec['period_end']}) before it starts ({rec['period_start']})",
-                             **loc, row=i + 1, column=cols["period_end"][1], hint="the end gas day is inclusive")
-        out.append(rec)
-    meta.skipped_rows = seen_totals
-    if not out:
-        raise InputError("the invoice has no billing period below its header", **loc, row=hi + 1,
-                         hint="one row per billing period under the header row")
-    df = pd.DataFrame(out, columns=["period_start", "period_end", "volume_billed", "pressure_base", "temperature_base",
-                                    "heating_value", "energy_billed", "price", "amount", "row"])
-    _check_overlaps(df, p, sheet, cols["period_start"][1])
-    return df, meta
+def _read_period(r, i, cols, scales, combined, order, timezone, loc) -> dict:
+    """One billing period's row → its values in SI (NaN where a column is absent or empty)."""
+    def cell(canon):
+        j = cols[canon][0]
+        return r[j] if j < len(r) else None
+
+    rec = {"row": i + 1}
+    pair = None
+    if combined:
+        where = {**loc, "row": i + 1, "column": cols["period_start"][1]}
+        pair = dict(zip(("period_start", "period_end"), _split_period(cell("period_start"), where)))
+    for canon in ("period_start", "period_end"):
+        where = {**loc, "row": i + 1, "column": cols[canon][1]}
+        v = pair[canon] if pair else cell(canon)
+        if v is None or str(v).strip() == "":
+            raise InputError("empty date", **where, hint="every billing period needs its start and end gas day")
+        rec[canon] = _date(v, timezone, where, order)
+    for canon in ("volume_billed", "pressure_base", "temperature_base", "heating_value", "energy_billed",
+                  "price", "amount"):
+        if canon not in cols:
+            rec[canon] = np.nan
+            continue
+        where = {**loc, "row": i + 1, "column": cols[canon][1]}
+        rec[canon] = _cell_value(cell(canon), scales[canon], INVOICE_COLUMNS[canon][0], cols[canon][1], where)
+    return rec
+
+
+def _cell_value(v, s, kind, header, where) -> float:
+    """A cell in SI: by its column's unit, or by the unit written in the cell when the header has none."""
+    if s is None:
+        if v is None or str(v).strip() == "":
+            return np.nan
+        if isinstance(v, str) and re.search(r"[A-Za-z°]", v):
+            try:
+                q = parse_quantity(v, kind)
+            except UnitError as exc:
+                raise UnitError(exc.message, **where, hint=exc.hint) from None
+            if kind == "pressure" and q.is_gauge:
+                raise UnitError(f"a base pressure is absolute; '{v}' is gauge", **where)
+            return q.value
+        raise UnitError(f"'{v}' has no unit and the header gives none", **where,
+                        hint=f"write the unit in the header, e.g. '{header} [kPa]'")
+    x = _number(v, where)
+    if isinstance(s, float):
+        return x * s
+    return float(s.to_si(x)) if np.isfinite(x) else np.nan
+
+
+def _complete_and_check_period(rec, i, cols, pressure_base, temperature_base, loc) -> None:
+    """The billed volume present, the base filled from the settings where the cell is empty, the
+    base plausible and the period the right way round; else refused naming the cell."""
+    if not np.isfinite(rec["volume_billed"]):
+        raise InputError("billed volume is empty", **loc, row=i + 1, column=cols["volume_billed"][1],
+                         hint="every billing period needs its billed volume")
+    if not np.isfinite(rec["pressure_base"]):
+        if pressure_base is None:
+            raise InputError("base pressure is empty", **loc, row=i + 1, column=cols["pressure_base"][1],
+                             hint="fill it in, or give --invoice-base / --invoice-base-pressure")
+        rec["pressure_base"] = float(pressure_base)
+    if not np.isfinite(rec["temperature_base"]):
+        if temperature_base is None:
+            raise InputError("base temperature is empty", **loc, row=i + 1, column=cols["temperature_base"][1],
+                             hint="fill it in, or give --invoice-base / --invoice-base-temperature")
+        rec["temperature_base"] = float(temperature_base)
+    if not (50e3 <= rec["pressure_base"] <= 200e3):
+        raise InputError(f"base pressure {rec['pressure_base']:.0f} Pa is not plausible (50-200 kPa absolute)",
+                         **loc, row=i + 1, column=cols.get("pressure_base", (0, None))[1], hint="check the unit")
+    if not (250.0 <= rec["temperature_base"] <= 310.0):
+        raise InputError(f"base temperature {rec['temperature_base']:.2f} K is not plausible", **loc, row=i + 1,
+                         column=cols.get("temperature_base", (0, None))[1], hint="check the unit (degC, degF, K)")
+    if rec["period_end"] < rec["period_start"]:
+        raise InputError(f"period ends ({rec['period_end']}) before it starts ({rec['period_start']})",
+                         **loc, row=i + 1, column=cols["period_end"][1], hint="the end gas day is inclusive")
 
 
 def _check_overlaps(df: pd.DataFrame, path, sheet, column):

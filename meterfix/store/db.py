@@ -27,7 +27,7 @@ from pathlib import Path
 from ..errors import MeterfixError
 
 #: this meterfix's schema version (the number of the last migration)
-SCHEMA_VERSION = 1
+SCHEMA_VERSION = 2
 
 #: ordered migrations: (version, what it does, statements)
 MIGRATIONS = [
@@ -112,6 +112,25 @@ MIGRATIONS = [
         )""",
         "CREATE INDEX mf_closings_meter_month ON mf_closings (meter, month)",
         "CREATE INDEX mf_config_log_meter ON mf_config_log (meter, month)",
+    ]),
+    (2, "closed balances of systems (versions, who and why, the meter closings they used)", [
+        """CREATE TABLE mf_balances (
+            id TEXT PRIMARY KEY,
+            name TEXT NOT NULL,
+            month TEXT NOT NULL,
+            version INTEGER NOT NULL,
+            closed_at TEXT NOT NULL,
+            closed_by TEXT,
+            reason TEXT,
+            tool_version TEXT NOT NULL,
+            figures_json TEXT NOT NULL,
+            parts_json TEXT NOT NULL,
+            summary_json TEXT NOT NULL,
+            previous_hash TEXT NOT NULL,
+            closing_hash TEXT NOT NULL,
+            UNIQUE (name, month, version)
+        )""",
+        "CREATE INDEX mf_balances_name_month ON mf_balances (name, month)",
     ]),
 ]
 

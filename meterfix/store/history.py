@@ -99,7 +99,7 @@ def entry_json(row) -> dict:
         return None if v is None or (isinstance(v, float) and not np.isfinite(v)) else v
 
     return {"meter": row["meter"], "month": row["month"], "version": int(row["version"]),
-            "closed_at": row["closed_at"], "closed_by": row["closed_by"], "reason": row["reason"],
+            "closed_at": row["closed_at"], "closed_by": num(row["closed_by"]), "reason": num(row["reason"]),
             "latest_version": bool(row["latest"]), "method": row["method"], "totals": totals,
             "ideal_gas_error_pct": num(row["ideal_gas_error_pct"]),
             "invoice_difference_pct": num(row["invoice_difference_pct"]),

@@ -30,7 +30,7 @@ import numpy as np
 import pandas as pd
 
 from .budget import (BUDGET_COLUMNS, IntervalModel, build_model, budget_frame, combined_relative,
-                                 interval_variance)
+                                 interval_variance, term_variance)
 from .inputs import (DEFAULTS, INPUT_KEYS, InputSpec, UncertaintySettings, parse_uncertainty,
                                  parse_uncertainty_settings)
 from .monte_carlo import monte_carlo, numerical_tolerance
@@ -58,7 +58,15 @@ class MonthUncertainty:
                                     the input applies to; for the composition (independent components)
                                     the sensitivity is the effective one, contribution / u
     energy_budget : DataFrame or None   the same for the month's energy
-    gas_days : DataFrame            index gas_day; volume_base [m3], expanded_pct, expanded_energy_pct [%]
+    gas_days : DataFrame            index gas_day; volume_base [m3], expanded_pct, expanded_energy_pct [%],
+                                    random_standard_uncertainty_m3 [m3], random_standard_uncertainty_J [J]
+                                    (k = 1: the inputs independent from interval to interval, which are
+                                    also independent from gas day to gas day)
+    systematic_pct : float          month base volume: the part shared by every interval (the budget's
+                                    correlated rows: systematic inputs, one error per analysis), relative
+                                    standard uncertainty, k = 1 [%]; a gas day's share of it is its
+                                    volume times this figure (what a system balance adds across days)
+    systematic_energy_pct : float or None   the same for the energy, k = 1 [%]
     intervals : DataFrame           index as result.intervals; u_volume_base_pct, u_energy_pct (k = 1)
                                     [%], sensitivity_pressure, sensitivity_temperature [-]
     monte_carlo : dict              draws, seed, expanded_pct (half-width of the 95 % probabilistically
@@ -81,6 +89,8 @@ class MonthUncertainty:
     monte_carlo: dict
     standard_uncertainty_m3: float = float("nan")
     notes: list = field(default_factory=list)
+    systematic_pct: float = float("nan")
+    systematic_energy_pct: float | None = None
 
     def to_summary(self) -> dict:
         """JSON-ready dict: budget rows, month figures, Monte Carlo check, gas days."""
@@ -97,6 +107,8 @@ class MonthUncertainty:
             "expanded_pct": self.expanded_pct,
             "expanded_energy_pct": self.expanded_energy_pct,
             "standard_uncertainty_m3": self.standard_uncertainty_m3,
+            "systematic_standard_uncertainty_pct": self.systematic_pct,
+            "systematic_standard_uncertainty_energy_pct": self.systematic_energy_pct,
             "budget": rows(self.budget),
             "energy_budget": rows(self.energy_budget),
             "monte_carlo_expanded_pct": mc.get("expanded_pct"),
@@ -155,6 +167,14 @@ def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress
     else:
         gd["expanded_pct"] = []
         gd["expanded_energy_pct"] = []
+    rnd_v, sys_v = _random_systematic(model, codes, len(days))
+    gd["random_standard_uncertainty_m3"] = rnd_v
+    if has_e:
+        rnd_e, sys_e = _random_systematic(model, codes, len(days), energy=True)
+        gd["random_standard_uncertainty_J"] = rnd_e
+    else:
+        gd["random_standard_uncertainty_J"] = np.nan
+        sys_e = None
 
     # per interval (k = 1)
     iv = pd.DataFrame(index=index)
@@ -192,7 +212,28 @@ def month_uncertainty(result, *, draws: int = 10_000, seed: int = 2026, progress
         expanded_pct=100.0 * COVERAGE_FACTOR * u_v,
         expanded_energy_pct=100.0 * COVERAGE_FACTOR * u_e if has_e else None,
         coverage_factor=COVERAGE_FACTOR, budget=budget, energy_budget=ebudget, gas_days=gd, intervals=iv,
-        monte_carlo=mc, standard_uncertainty_m3=u_v * total_v, notes=notes)
+        monte_carlo=mc, standard_uncertainty_m3=u_v * total_v, notes=notes,
+        systematic_pct=100.0 * sys_v, systematic_energy_pct=None if sys_e is None else 100.0 * sys_e)
+
+
+def _random_systematic(model, codes, n_days: int, energy: bool = False):
+    """(random standard uncertainty per gas day [m3 or J], systematic relative standard uncertainty of
+    the month [-]), k = 1: the budget's independent rows by gas day, and its correlated rows over the
+    month (a system balance adds these across meters and days; JCGM 100:2008 §5.1, §5.2)."""
+    w = model.energy if energy else model.volume
+    rnd = np.zeros(n_days)
+    sys = 0.0
+    for t in model.terms:
+        c = t.c_energy if energy else t.c_volume
+        if c is None or (not energy and not t.in_volume):
+            continue
+        if t.mode == "independent":
+            if n_days:
+                rnd = rnd + term_variance(t, w, c, codes)
+        else:
+            sys += term_variance(t, w, c)
+    tot = float(np.sum(w)) if w is not None else 0.0
+    return np.sqrt(rnd), (np.sqrt(sys) / tot if tot else float("nan"))
 
 
 __all__ = ["MonthUncertainty", "month_uncertainty", "parse_uncertainty_settings", "parse_uncertainty",

@@ -83,6 +83,7 @@ def build_summary(result) -> dict:
         "base_conditions": {"pressure_Pa": s.base_pressure, "temperature_K": s.base_temperature,
                             "preset": s.base},
         "combustion_reference_temperature_K": s.combustion_temperature,
+        "gas_day": {"start_hour": s.gas_day_start, "timezone": s.timezone},
         "totals": t,
         "average_correction": result.average_correction,
         "analyses": [{"number": i + 1, "effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,

@@ -1,0 +1,227 @@
+"""The balance's outputs: ``<name>_<month>_balance.json`` (SI), ``<name>_<month>_balance_days.csv``
+and the balance workbook ``<name>_<month>_balance.xlsx`` (Balance, Daily with a chart of the daily
+UFG and its ±U band, Meters, Findings), written as a complete set or nothing
+(:class:`meterfix.writers.outset.OutputSet`).
+"""
+
+from __future__ import annotations
+
+import csv
+import json
+from pathlib import Path
+
+from .. import __version__
+from ..writers.summary import CAUTION, _clean
+from .compute import BalanceResult
+from .ufg import COVERAGE_FACTOR
+
+#: daily CSV columns (SI: m3 at the balance's base, J)
+DAY_COLUMNS = ["gas_day", "receipts_m3", "deliveries_m3", "own_use_m3", "fixed_m3", "linepack_change_m3", "ufg_m3",
+               "ufg_pct", "ufg_expanded_uncertainty_m3", "ufg_energy_J", "ufg_energy_expanded_uncertainty_J"]
+
+
+def stem(result: BalanceResult) -> str:
+    from ..writers.atomic import safe_name
+
+    return f"{safe_name(result.name, 'balance')}_{result.month}"
+
+
+def _pct(a, b):
+    return 100.0 * a / b if b else None
+
+
+def balance_summary(result: BalanceResult, *, closing: dict | None = None) -> dict:
+    """The balance as a JSON-ready dict in SI (m3 at the balance's base, J, K, Pa)."""
+    v = result.volume
+    e = result.energy
+    m = v.month
+    rec = result.reconciliation
+    days = []
+    for i, g in enumerate(result.gas_days):
+        d = {"gas_day": g, "receipts_m3": v.receipts[i], "deliveries_m3": v.deliveries[i], "own_use_m3": v.own_use[i],
+             "fixed_m3": v.fixed[i], "linepack_change_m3": v.linepack_change[i], "ufg_m3": v.ufg[i],
+             "ufg_pct": _pct(v.ufg[i], v.receipts[i]), "ufg_expanded_uncertainty_m3": COVERAGE_FACTOR * v.u_ufg[i]}
+        if e is not None:
+            d["ufg_energy_J"] = e.ufg[i]
+            d["ufg_energy_expanded_uncertainty_J"] = COVERAGE_FACTOR * e.u_ufg[i]
+        days.append(d)
+    out = {
+        "tool": {"name": "meterfix", "version": __version__},
+        "caution": CAUTION,
+        "name": result.name, "month": result.month,
+        "gas_day": {"start_hour": result.gas_day_start_hour, "timezone": result.timezone},
+        "base_conditions": {"pressure_Pa": result.pressure_base, "temperature_K": result.temperature_base},
+        "combustion_reference_temperature_K": result.temperature_combustion,
+        "receipts_m3": m["receipts"], "deliveries_m3": m["deliveries"], "own_use_m3": m["own_use"],
+        "fixed_m3": m["fixed"], "linepack_change_m3": m["linepack_change"], "ufg_m3": m["ufg"],
+        "fixed_standard_uncertainty_m3": m["u_fixed"], "linepack_change_standard_uncertainty_m3": m["u_linepack"],
+        "ufg_pct": v.ufg_pct, "ufg_standard_uncertainty_m3": m["u_ufg"], "ufg_expanded_uncertainty_m3": v.expanded,
+        "coverage_factor": COVERAGE_FACTOR, "consistent": v.consistent, "ufg_standard_uncertainties": v.sigmas,
+        "energy": None if e is None else {
+            "receipts_J": e.month["receipts"], "deliveries_J": e.month["deliveries"], "own_use_J": e.month["own_use"],
+            "fixed_J": e.month["fixed"], "linepack_change_J": e.month["linepack_change"], "ufg_J": e.month["ufg"],
+            "ufg_pct": e.ufg_pct, "ufg_expanded_uncertainty_J": e.expanded, "consistent": e.consistent},
+        "days": days,
+        "meters": result.meter_rows(),
+        "linepack": [{"name": p.name, "opening_m3": float(p.volume_base[0]), "closing_m3": float(p.volume_base[-1]),
+                      "change_m3": float(p.volume_base[-1] - p.volume_base[0]),
+                      "opening_mol": float(p.amount_mol[0]), "closing_mol": float(p.amount_mol[-1]),
+                      "z_opening": float(p.z[0]), "z_closing": float(p.z[-1]), "z_base": p.z_base,
+                      "pressure_opening_Pa": float(p.pressure[0]), "pressure_closing_Pa": float(p.pressure[-1]),
+                      "temperature_opening_K": float(p.temperature[0]), "temperature_closing_K": float(p.temperature[-1])}
+                     for p in result.linepacks],
+        "fixed": [{"name": f.name, "volume_m3": f.volume, "standard_uncertainty_pct": 100.0 * f.u_rel,
+                   "gas_day": f.gas_day} for f in result.fixed],
+        "findings": [{"meter": f.meter, "role": f.role, "bias_pct": f.bias_pct, "from_gas_day": f.from_gas_day,
+                      "evidence": f.evidence, "credited": f.credited, "delta_bic": f.delta_bic,
+                      "effect_m3": f.effect_m3} for f in result.findings],
+        "search": result.search_text,
+        "reconciliation": None if rec is None else {
+            "method": "VDI 2048 Blatt 1 (2000): weighted least squares under the balance constraint, full covariance",
+            "chi2": rec.chi2, "chi2_limit": rec.chi2_limit, "degrees_of_freedom": rec.dof, "passed": rec.passed,
+            "meters": [{"name": n, "measured_m3": float(rec.measured[i]), "reconciled_m3": float(rec.reconciled[i]),
+                        "measured_expanded_uncertainty_m3": COVERAGE_FACTOR * float(rec.standard_uncertainty[i]),
+                        "reconciled_expanded_uncertainty_m3": COVERAGE_FACTOR * float(rec.reconciled_uncertainty[i]),
+                        "normalized_adjustment": float(rec.normalized_adjustment[i])} for i, n in enumerate(rec.names)]},
+        "notes": list(result.notes),
+    }
+    if closing is not None:
+        out["closing"] = dict(closing)
+    return _clean(out)
+
+
+def balance_json(summary: dict) -> str:
+    return json.dumps(_clean(summary), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+
+
+def write_days_csv(summary: dict, path) -> None:
+    with open(path, "w", newline="", encoding="utf-8") as fh:
+        w = csv.writer(fh)
+        w.writerow(DAY_COLUMNS)
+        for d in summary["days"]:
+            w.writerow(["" if d.get(c) is None else (d[c] if c == "gas_day" else repr(float(d[c]))) for c in DAY_COLUMNS])
+
+
+# --------------------------------------------------------------------------- workbook
+def build_workbook(summary: dict):
+    """The balance workbook as a :class:`meterfix.writers.xlsx_common.Book`."""
+    from ..writers import xlsx_common as X
+    from ..writers.workbook_charts import ChartSpec, Ref
+
+    book = X.Book(title=f"{summary['name']} balance {summary['month']}", subject="system balance (meterfix)")
+    ws = book.create_sheet("Balance")
+    r = X.section(ws, 1, f"{summary['name']}: balance of gas month {summary['month']}")
+    bc = summary["base_conditions"]
+    r = X.note(ws, r, f"Base volumes at {bc['pressure_Pa'] / 1000:.3f} kPa and {bc['temperature_K'] - 273.15:.2f} °C; "
+               f"gas day from {summary['gas_day']['start_hour']:02d}:00 {summary['gas_day']['timezone']}. "
+               "Uncertainties are expanded (k = 2) from each meter's GUM budget.", span=4)
+    r += 1
+    e = summary.get("energy") or {}
+    rows = [("Receipts", summary["receipts_m3"], e.get("receipts_J")),
+            ("Deliveries", summary["deliveries_m3"], e.get("deliveries_J")),
+            ("Own use", summary["own_use_m3"], e.get("own_use_J")),
+            ("Fixed quantities", summary["fixed_m3"], e.get("fixed_J")),
+            ("Linepack change", summary["linepack_change_m3"], e.get("linepack_change_J")),
+            ("Unaccounted-for gas (UFG)", summary["ufg_m3"], e.get("ufg_J")),
+            ("UFG expanded uncertainty (k = 2)", summary["ufg_expanded_uncertainty_m3"], e.get("ufg_expanded_uncertainty_J"))]
+    r = X.write_table(ws, r, 1, ["Quantity", "Base volume [m3]", "Energy [GJ]"],
+                      [(a, b, None if c is None else c / 1e9) for a, b, c in rows], [None, X.FMT_VOLUME, X.FMT_ENERGY])
+    r += 1
+    verdict = ("consistent: the UFG lies within its expanded uncertainty" if summary["consistent"] else
+               "not consistent: the UFG lies outside its expanded uncertainty")
+    r = X.write_table(ws, r, 1, ["Result", "Value"], [
+        ("UFG as % of receipts", summary["ufg_pct"]),
+        ("UFG in standard uncertainties", summary["ufg_standard_uncertainties"]),
+        ("Verdict", verdict),
+        ("Which meter", summary["search"]),
+        ("Reconciliation χ² (limit)", None if not summary["reconciliation"] else
+         f"{summary['reconciliation']['chi2']:.3g} ({summary['reconciliation']['chi2_limit']:.3g})")],
+        [None, X.FMT_PCT2])
+    r += 1
+    for n in summary["notes"]:
+        r = X.note(ws, r, n, span=4)
+    X.note(ws, r + 1, summary["caution"], span=4)
+    X.set_widths(ws, {"A": 34, "B": 22, "C": 18, "D": 18})
+
+    dws = book.create_sheet("Daily")
+    headers = ["Gas day", "Receipts [m3]", "Deliveries [m3]", "Own use [m3]", "Fixed [m3]", "Linepack change [m3]",
+               "UFG [m3]", "UFG [% of receipts]", "UFG − U [m3]", "UFG + U [m3]", "U (k = 2) [m3]"]
+    import datetime as _dt
+
+    drows = [(_dt.date.fromisoformat(d["gas_day"]), d["receipts_m3"], d["deliveries_m3"], d["own_use_m3"], d["fixed_m3"], d["linepack_change_m3"],
+              d["ufg_m3"], d["ufg_pct"], d["ufg_m3"] - d["ufg_expanded_uncertainty_m3"],
+              d["ufg_m3"] + d["ufg_expanded_uncertainty_m3"], d["ufg_expanded_uncertainty_m3"]) for d in summary["days"]]
+    last = X.write_table(dws, 1, 1, headers, drows, [X.FMT_DATE] + [X.FMT_VOLUME] * 6 + [X.FMT_PCT2] + [X.FMT_VOLUME] * 3) - 1
+    dws.freeze = (2, 2)
+    if last >= 2:
+        ch = ChartSpec("scatter", "straight", "Daily UFG and its expanded uncertainty (k = 2)",
+                       x_axis={"name": "Gas day", "num_format": "dd mmm", "major_gridlines": {"visible": False},
+                               "label_position": "low"},
+                       y_axis={"name": "Base volume [m3]", "major_gridlines": {"visible": True}})
+        x = Ref("Daily", "A", 2, last)
+        ch.series = [{"name": "UFG", "x": x, "y": Ref("Daily", "G", 2, last), "colour": "1F4E79", "width": 2.25},
+                     {"name": "UFG − U", "x": x, "y": Ref("Daily", "I", 2, last), "colour": "A6A6A6", "width": 1.0},
+                     {"name": "UFG + U", "x": x, "y": Ref("Daily", "J", 2, last), "colour": "A6A6A6", "width": 1.0}]
+        dws.add_chart(ch, "M2")
+
+    mws = book.create_sheet("Meters")
+    mrows = [(m["name"], m["role"].replace("_", " "), m.get("correlation_group") or "", m["volume_m3"],
+              None if m.get("energy_J") is None else m["energy_J"] / 1e9, m["expanded_uncertainty_m3"], m["share_pct"],
+              m.get("reconciled_m3"), m.get("reconciled_expanded_uncertainty_m3"), m.get("normalized_adjustment"),
+              m["source"]) for m in summary["meters"]]
+    X.write_table(mws, 1, 1, ["Meter", "Role", "Correlation group", "Month base volume [m3]", "Energy [GJ]",
+                              "U (k = 2) [m3]", "Share of the UFG variance [%]", "Reconciled [m3]",
+                              "Reconciled U (k = 2) [m3]", "Normalized adjustment [-]", "Month from"],
+                  mrows, [None, None, None, X.FMT_VOLUME, X.FMT_ENERGY, X.FMT_VOLUME, X.FMT_PCT2, X.FMT_VOLUME,
+                          X.FMT_VOLUME, X.FMT_FACTOR, None])
+    mws.freeze = (2, 2)
+
+    fws = book.create_sheet("Findings")
+    r = X.section(fws, 1, "Which meter: the daily UFG fitted to one meter reading high or low from a gas day")
+    r = X.note(fws, r, summary["search"], span=6)
+    r += 1
+    frows = [(f["meter"], f["role"].replace("_", " "), f["bias_pct"], f["from_gas_day"], f["delta_bic"],
+              "credited" if f["credited"] else "tried, not credited", f["evidence"]) for f in summary["findings"]]
+    X.write_table(fws, r, 1, ["Meter", "Role", "Reads high by [%]", "From gas day", "ΔBIC against no meter [-]",
+                              "Status", "Evidence"], frows, [None, None, X.FMT_PCT2, None, "0.0", None, None])
+    X.wrap_rows(fws, r + 1, r + len(frows), [7])
+    X.set_widths(fws, {"G": 70})
+    return book
+
+
+def write_balance_outputs(summary: dict, out_dir, *, overwrite: bool = False, workbook: bool = True) -> dict:
+    """Write the balance's JSON, daily CSV and workbook as one set; returns {kind: path}."""
+    from ..writers.outset import OutputSet, check_output_folder
+
+    out = Path(out_dir)
+    check_output_folder(out)
+    st = f"{_safe(summary['name'])}_{summary['month']}"
+    names = {"balance": f"{st}_balance.json", "days": f"{st}_balance_days.csv"}
+    if workbook:
+        names["workbook"] = f"{st}_balance.xlsx"
+    book = build_workbook(summary) if workbook else None
+    text = balance_json(summary)
+    with OutputSet(out, overwrite=overwrite) as outs:
+        outs.check_finals(names.values())
+        tmp = {k: outs.path(n) for k, n in names.items()}
+        write_days_csv(summary, tmp["days"])
+        if book is not None:
+            book.save(tmp["workbook"])
+        tmp["balance"].write_text(text, encoding="utf-8")
+        outs.commit()
+    return {k: out / n for k, n in names.items()}
+
+
+def _safe(name):
+    from ..writers.atomic import safe_name
+
+    return safe_name(name, "balance")
+
+
+def read_days(path) -> list:
+    """The daily CSV back as dicts (tests, and users' scripts)."""
+    with open(path, newline="", encoding="utf-8") as fh:
+        return [{k: (v if k == "gas_day" or v == "" else float(v)) for k, v in row.items()} for row in csv.DictReader(fh)]
+
+
+__all__ = ["balance_summary", "balance_json", "write_balance_outputs", "build_workbook", "DAY_COLUMNS", "read_days"]
