@@ -27,6 +27,8 @@ INTERVALS_WITHOUT_RESULT = "intervals without result"  # volume logged, no base 
 AT_BASE = "at base"                                  # every base volume says at which base
 AT_INVOICE_BASE = "at the invoice's base"
 AT_CORRECTOR_BASE = "at the corrector's base"
+GAS_MONTH = "Gas month"                              # gas days of one calendar month, from the gas-day start
+ROWS_LEFT_OUT = "rows left out"                      # rows of a log not used (time unreadable, not on the clock)
 
 QUANTITY_LABELS = {
     "volume_line": UNCORRECTED_VOLUME, "volume_base": BASE_VOLUME, "volume_base_ideal": BASE_VOLUME_IDEAL,
@@ -57,7 +59,8 @@ FLAGS = {
     "pressure_range": ("pressure out of range", "line pressure outside its plausible range"),
     "temperature_range": ("temperature out of range", "line temperature outside its plausible range"),
     "stuck": ("stuck value", "a value that did not change for too long"),
-    "spike": ("spike", "a value far from its neighbours (modified z-score above 3.5, Iglewicz & Hoaglin 1993)"),
+    "spike": ("spike", "a value far from its neighbours on both sides (modified z-score above 3.5, Iglewicz & "
+              "Hoaglin 1993; the log's first and last rows and the rows beside a gap are not tested)"),
     "flow_zero_pressure": ("flow at zero pressure", "volume counted while the line pressure reads zero or less"),
     "estimated": ("estimated", "a value substituted by the chosen policy (recorded in the edits)"),
     "z_outside_range": ("Z outside method range", "line state outside the Z method's range"),

@@ -446,7 +446,8 @@ CASES = [
 
 def mistyped_year(d):
     """A mistyped year in one row (2062 for 2026) and one beyond the datetime range (2500): each
-    time is placed in the one slot its neighbours leave, flagged, and no volume is lost."""
+    row is left out and recorded (never placed by guess), the next row flagged; exit 0, the two
+    intervals without a result."""
     body = rows()
     body[7][0] = body[7][0].replace("2026", "2062")
     body[15][0] = body[15][0].replace("2026", "2500")

@@ -586,6 +586,56 @@ def index_with_opening_option(d):
     return Case([p], [str(p), *RUN, *UTC, "--opening-index", "7000 m3"], expect=expect_of(rows))
 
 
+
+# ------------------------------------------------------------------------ 13. the time axis
+def midnight_written_24_00(d):
+    """A gas-day export that writes midnight as '24:00' of the day ending (common practice): all 48
+    rows of two days count, none is lost."""
+    ts = [f"2026-06-0{day} {h:02d}:00" for day in (1, 2) for h in range(1, 25)]
+    vals = values(len(ts))
+    p = write(d, "gas_day_24.csv", csv(HEADER, [[t, *v] for t, v in zip(ts, vals)]))
+    return Case([p], [str(p), *RUN, *UTC], expect={**expect_of(metric_rows(vals)), "intervals": 48})
+
+
+def us_hour_ending_columns(d):
+    """Copper Flats, US gas-day layout: Date + HE 1..24, psig, degF, Mcf; the Chicago clock."""
+    body, rows = [], []
+    for day in ("2026-06-01", "2026-06-02"):
+        for he in range(1, 25):
+            pg, tf, mcf = 300 + he % 5, 50 + he % 3, 1.0 + 0.1 * (he % 4)
+            body.append([day, he, pg, tf, f"{mcf:.1f}"])
+            rows.append((float(f"{mcf:.1f}") * 1000 * FT3, pg * PSI, (tf - 32) * 5 / 9 + 273.15))
+    p = write(d, "copper_flats_he.csv", csv(["Date", "HE", "Pressure (psig)", "Temperature (degF)", "Volume (Mcf)"],
+                                            body))
+    return Case([p], [str(p), *RUN, "--timezone", "America/Chicago"], expect=expect_of(rows))
+
+
+def bare_hour_column(d):
+    """A 'Hour' column of numbers 0..23 beside the date: start or end is not said, refused with the fix."""
+    body = [["2026-06-01", h, "4.00", "8.0", "120.0"] for h in range(24)]
+    p = write(d, "hours.csv", csv(["Date", "Hour", *HEADER[1:]], body))
+    return Case([p], [str(p), *RUN, *UTC], exit_code=2, must_say=["hours.csv", "Hour", "hour_ending",
+                                                                   "hour_beginning"])
+
+
+def re_export_overlaps_with_other_values(d):
+    """A re-export with corrected volumes overlapping the first export: refused unless --overlap."""
+    ts = hourly(24)
+    vals = values(24)
+    first = write(d, "export_1.csv", csv(HEADER, [[t, *v] for t, v in zip(ts[:16], vals[:16])]))
+    fixed = [(p_, t_, f"{float(v_) + 1:.1f}") if i < 4 else (p_, t_, v_) for i, (p_, t_, v_) in enumerate(vals[12:])]
+    second = write(d, "export_2.csv", csv(HEADER, [[t, *v] for t, v in zip(ts[12:], fixed)]))
+    return Case([first, second], [str(first), str(second), *RUN, *UTC], exit_code=2,
+                must_say=["export_1.csv row 14", "export_2.csv row 2", "--overlap later", "--overlap earlier"])
+
+
+def re_export_overlaps_later_wins(d):
+    c = re_export_overlaps_with_other_values(d)
+    vals = values(24)
+    rows = metric_rows(vals[:12]) + [(float(v) + 1, float(p_) * 1e5, float(t_) + 273.15) for p_, t_, v in vals[12:16]] \
+        + metric_rows(vals[16:])
+    return Case(c.files, c.args + ["--overlap", "later"], expect=expect_of(rows))
+
 CASES = [
     us_corr_uncorr_mcf, us_index_cf_corr_mcf, vm_vb_columns, cor_unc_columns, standard_volume_only,
     two_volume_candidates, two_volume_candidates_picked, weak_volume_evidence,
@@ -602,6 +652,8 @@ CASES = [
     sparse_second_blocks,
     encrypted_workbook, utf16_without_bom, hidden_log_sheet, hidden_log_sheet_named, two_log_sheets,
     index_opening_reading, index_with_opening_option,
+    midnight_written_24_00, us_hour_ending_columns, bare_hour_column, re_export_overlaps_with_other_values,
+    re_export_overlaps_later_wins,
 ]
 
 

@@ -152,8 +152,16 @@ def test_fleet_table_says_what_each_meters_summary_says(tmp_path):
     assert ws.cell(row=i, column=vcol).value == pytest.approx(rows["heron-fen-m4"]["base_volume_m3"], rel=1e-15)
     assert ws.cell(row=i, column=ecol).value == pytest.approx(rows["heron-fen-m4"]["energy_MJ"] / 1e3, rel=1e-15)
     assert ws.cell(row=by_meter["broken-m9"], column=head.index("Status") + 1).value == "error"
-    total = ws.cell(row=9, column=vcol).value  # the fleet total of the corrected meters
-    assert total == pytest.approx(rows["fv-m1"]["base_volume_m3"] + rows["heron-fen-m4"]["base_volume_m3"], rel=1e-15)
+    # two bases (101.325 kPa / 0 degC and 14.73 psia / 60 degF) and two gas months: never one sum of
+    # them, but one total per group, each naming its base and month, and a line saying so
+    labels = {i: ws.cell(row=i, column=1).value for i in range(8, 14) if ws.cell(row=i, column=1).value}
+    assert "different base conditions" in labels[9] and "2 totals" in labels[9]
+    totals = {v: ws.cell(row=i, column=vcol).value for i, v in labels.items() if str(v).startswith("Total of")}
+    assert len(totals) == 2
+    fv = next(v for k, v in totals.items() if "101.325 kPa abs, 0 °C, gas month 2026-10" in k)
+    assert fv == pytest.approx(rows["fv-m1"]["base_volume_m3"], rel=1e-15)
+    hf = next(v for k, v in totals.items() if "101.56 kPa abs, 15.5556 °C" in k)  # 14.73 psia x 6.894757 kPa/psi (NIST SP 811), 60 degF
+    assert hf == pytest.approx(rows["heron-fen-m4"]["base_volume_m3"], rel=1e-15)
     # every label fits its column: no cut headers or '###' numbers when printed
     for j, h in enumerate(head, start=1):
         width = ws.column_dimensions[openpyxl.utils.get_column_letter(j)].width
@@ -234,3 +242,37 @@ def test_meters_of_a_lost_local_worker_are_run_again(tmp_path):
     rows = {r["meter_folder"]: r for r in json.loads((out / "fleet_summary.json").read_text())}
     assert rows["slow-m5"]["status"] == "ok" and rows["slow-m5"]["attempts"] == 2
     assert rows["lark-hollow-1"]["attempts"] == 1
+
+
+def test_fleet_totals_group_by_base_month_and_energy_reference():
+    from meterfix.writers.fleet import fleet_totals
+
+    def row(folder, pb, tb, month, vb, tc=298.15, status="ok"):
+        return {"meter_folder": folder, "status": status, "base_pressure_Pa": pb, "base_temperature_K": tb,
+                "gas_month": month, "combustion_temperature_K": tc, "uncorrected_volume_m3": 1.0,
+                "base_volume_m3": vb, "ideal_gas_base_volume_m3": vb, "energy_MJ": 10.0}
+
+    rows = [row("a", 101325.0, 273.15, "2026-10", 100.0), row("b", 101325.0, 273.15, "2026-10", 50.0),
+            row("c", 101559.77, 288.7056, "2026-10", 7.0), row("d", 101325.0, 273.15, "2026-11", 3.0),
+            row("e", 101325.0, 273.15, "2026-10", 1.0, tc=288.15), row("f", 101325.0, 273.15, "2026-10", 9e9,
+                                                                      status="error")]
+    g = fleet_totals(rows)
+    # a + b share base, month and combustion reference: 150; the others are each their own group; the
+    # meter without a result is in none
+    assert [(x["meter_folders"], x["base_volume_m3"]) for x in g] == [
+        (["a", "b"], 150.0), (["c"], 7.0), (["d"], 3.0), (["e"], 1.0)]
+    assert g[0]["energy_MJ"] == 20.0 and g[0]["gas_month"] == "2026-10"
+
+
+def test_fleet_month_option_closes_that_gas_month_for_every_meter(tmp_path):
+    root = _fleet(tmp_path, with_bad=False)
+    out = tmp_path / "out"
+    r = CliRunner().invoke(app, ["fleet", str(root), "--out", str(out), "--month", "2026-10", "--quiet"])
+    assert r.exit_code == 0, r.output
+    rows = {row["meter_folder"]: row for row in json.loads((out / "fleet_summary.json").read_text())}
+    assert {k: v["gas_month"] for k, v in rows.items()} == {"fv-m1": "2026-10", "heron-fen-m4": "2026-10"}
+    fv = json.loads(next((out / "FV-M1").glob("*_summary.json")).read_text())
+    # the demo month: 1 Oct 06:00 CEST to 1 Nov 06:00 CET on the Berlin clock, 745 hours; the logger lost
+    # six of them (13 Oct, fixtures/make_demo.py), which substitution fills: 739 hours logged
+    assert fv["gas_month"]["hours_in_month"] == 745 and fv["gas_month"]["hours_logged"] == 739
+    assert any("covers 739 of the 745 hours" in w for w in fv["warnings"])

@@ -147,7 +147,7 @@ def test_edits_csv_holds_the_result_edit_record(faults):
 
 def test_joined_files_report_the_differing_duplicate_where_it_is(tmp_path):
     parts = [LOGS / f"fv_m1_part{k}.csv" for k in (1, 2, 3)]
-    _, written, d = _run(parts, tmp_path)
+    _, written, d = _run(parts, tmp_path, overlap="earlier")
     rows = {}  # time → [(file, line, values)] from the files themselves
     for p in parts:
         lines = _lines(p)

@@ -77,8 +77,9 @@ def test_fpv_squared_versus_fpv():
 
 def test_gas_days_across_both_dst_changes():
     # Europe/Berlin 2026: clocks go forward 29 March (23-hour day), back 25 October (25-hour day)
-    # (IANA tz database). Gas day starts 06:00 local (EU practice, REFERENCES.md §5).
-    for day, hours in (("2026-03-29", 23), ("2026-10-25", 25)):
+    # (IANA tz database). Gas day starts 06:00 local (EU practice, common practice): the gas day
+    # holding the change is the one that began at 06:00 the day before (28 March, 24 October).
+    for day, hours in (("2026-03-28", 23), ("2026-10-24", 25)):
         start = pd.Timestamp(f"{day} 06:00", tz="Europe/Berlin") - pd.Timedelta(days=1)
         idx = pd.date_range(start.tz_convert("UTC") + pd.Timedelta(hours=1), periods=72, freq="h", tz="UTC")
         f = pd.DataFrame({"pressure_line": 5e5, "temperature_line": 288.15, "volume_line": 1.0,

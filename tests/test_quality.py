@@ -142,3 +142,36 @@ def test_spike_rate_on_white_noise_and_microsecond_index():
     q, _ = apply_quality(frame)
     assert q["flag_spike"].mean() < 0.005 and q["flag_spike"].iat[500]
     assert q["flag_gap"].sum() == 2 and len(q) == n  # gaps found whatever the index unit
+
+
+def _sine_log(days=20, gap=(200, 206), phase=0.0):
+    # a smooth log: daily sines in pressure, temperature and flow (no noise), one six-hour hole
+    n = 24 * days
+    h = np.arange(n)
+    idx = pd.date_range("2026-06-01 01:00", periods=n, freq="h", tz="UTC")
+    w = 2 * np.pi * (h / 24.0) + phase
+    frame = pd.DataFrame({"pressure_gauge": 30e5 + 2e5 * np.sin(w), "temperature_line": 285.0 + 3.0 * np.sin(w + 1.0),
+                          "volume_line": 1000.0 + 400.0 * np.sin(w + 2.0), "duration": 3600.0}, index=idx)
+    return frame.drop(frame.index[gap[0]:gap[1]]) if gap else frame
+
+
+@pytest.mark.parametrize("phase", [0.0, 0.7, 1.9, 3.1, 4.4])
+def test_no_spike_flags_on_a_smooth_log_at_its_ends_or_beside_a_gap(phase):
+    # the rule tests only points with two present neighbours on each side in evenly spaced rows
+    # (engine/quality.py _spikes): the first two and last two rows and the rows beside the hole are
+    # not tested, and the interior of a sine has residuals of the same order everywhere
+    q, _ = apply_quality(_sine_log(phase=phase))
+    assert q["flag_gap"].sum() == 6 and len(q) == 480  # the six missing hours inserted
+    assert not q["flag_spike"].any()
+    # a break (no rows inserted) splits the log the same way
+    big = _sine_log(days=30, gap=(200, 200 + 24 * 8), phase=phase)
+    q, _ = apply_quality(big)
+    assert not q["flag_spike"].any()
+
+
+def test_a_spike_inside_a_smooth_log_is_still_flagged():
+    f = _sine_log()
+    f.iloc[100, 1] += 8.0  # 8 K on a 3 K daily swing
+    f.iloc[300, 2] *= 1.5
+    q, _ = apply_quality(f)
+    assert list(np.flatnonzero(q["flag_spike"].to_numpy())) == [100, 306]  # 300 moves by the 6 inserted rows

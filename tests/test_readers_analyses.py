@@ -117,7 +117,7 @@ def test_analysis_periods_cover_the_right_intervals():
     from meterfix.readers import read_log
 
     logs = Path(__file__).resolve().parent.parent / "fixtures" / "logs"
-    frame, _ = read_log([logs / f"fv_m1_part{k}.csv" for k in (1, 2, 3)], timezone="Europe/Berlin")
+    frame, _ = read_log([logs / f"fv_m1_part{k}.csv" for k in (1, 2, 3)], timezone="Europe/Berlin", overlap="earlier")
     text = ("Effective from;methane [mol%];ethane [mol%];nitrogen [mol%]\n01.10.2026 06:00;95;3;2\n"
             "02.10.2026 06:00;94;4;2\n")
     analyses = parse_analyses(io.BytesIO(text.encode()), name="a.csv", timezone="Europe/Berlin")

@@ -183,7 +183,11 @@ def test_header_label_wins_over_setting():
 
 def test_month_in_three_files_with_overlaps():
     files = [FIX / f"fv_m1_part{k}.csv" for k in (1, 2, 3)]
-    f, m = read_log(files, timezone="Europe/Berlin")
+    # part2 and part3 differ in one shared hour: refused unless the user says which export wins
+    with pytest.raises(InputError, match="fv_m1_part2.csv row 26 and fv_m1_part3.csv row 2") as e:
+        read_log(files, timezone="Europe/Berlin")
+    assert "--overlap later" in e.value.hint
+    f, m = read_log(files, timezone="Europe/Berlin", overlap="earlier")
     assert len(f) == 72 and (np.diff(f.index.asi8) == 3600 * 10**9).all()
     assert f.index[0] == utc("2026-10-01 05:00") and f.index[-1] == utc("2026-10-04 04:00")
     assert m.identical_overlap_rows == 1  # part1/part2 repeat hour 24 exactly
@@ -194,9 +198,13 @@ def test_month_in_three_files_with_overlaps():
     # volumes 500 + hour for hours 0..71
     assert f["volume_line"].sum() == pytest.approx(sum(500 + h for h in range(72)))
     assert [s["file"] for s in m.sources] == ["fv_m1_part1.csv", "fv_m1_part2.csv", "fv_m1_part3.csv"]
-    # the file order given does not matter for the result
-    g, _ = read_log(files[::-1], timezone="Europe/Berlin")
-    assert g.index.equals(f.index)
+    # the later file's row: 555 m3 (fixture part3 row 2), one more interval of 7 m3
+    g, _ = read_log(files, timezone="Europe/Berlin", overlap="later")
+    assert g.index.equals(f.index) and g["volume_line"].iat[i] == 555.0
+    assert g["volume_line"].sum() == pytest.approx(f["volume_line"].sum() + 7.0)
+    # 'earlier' and 'later' go by the order the files are given
+    h, _ = read_log(files[::-1], timezone="Europe/Berlin", overlap="earlier")
+    assert h.index.equals(f.index) and h["volume_line"].iat[i] == 555.0
 
 
 def test_time_going_backwards_and_unreadable_time():
@@ -212,13 +220,17 @@ def test_time_going_backwards_and_unreadable_time():
     assert f["flag_unreadable"].tolist() == [False, False, False, True]
 
 
-def test_unreadable_time_placed_between_regular_neighbours():
+def test_unreadable_time_never_placed_by_guess():
+    # a row whose time cannot be read is left out and recorded (never placed between its neighbours:
+    # a value enters a total only when its interval is known); the next row carries the flag and the
+    # quality step sees the missing 08:00 interval (no result there, counted)
     text = ("Interval end,P [bar(g)],T [degC],Volume [m3]\n2026-10-01 06:00,1,10,5\n2026-10-01 07:00,1,10,5\n"
             "31/02/2026 25:61,1,10,6\n2026-10-01 09:00,1,10,5\n2026-10-01 10:00,1,10,5\n")
     f, m = parse_log(io.BytesIO(text.encode()), name="b.csv")
-    assert list(f.index.hour) == [6, 7, 8, 9, 10] and f["volume_line"].tolist() == [5, 5, 6, 5, 5]
-    assert f["flag_unreadable"].tolist() == [False, False, True, False, False] and m.dropped_rows == []
-    assert m.unreadable[0]["row"] == 4 and m.unreadable[0]["column"] == "Interval end"
+    assert list(f.index.hour) == [6, 7, 9, 10] and f["volume_line"].tolist() == [5, 5, 5, 5]
+    assert f["flag_unreadable"].tolist() == [False, False, True, False]
+    assert m.dropped_rows == [{"file": "b.csv", "sheet": None, "row": 4, "reason": "the time cannot be read",
+                               "value": "31/02/2026 25:61"}]
 
 
 def test_nonexistent_spring_hour_dropped_with_reason():

@@ -205,6 +205,31 @@ def _close_drafts(url, drafts, barrier):
         C.commit(open_store(url), d)
 
 
+def _no_nan(text):
+    def refuse(c):
+        raise AssertionError(f"{c} in JSON output")
+    return json.loads(text, parse_constant=refuse)
+
+
+def test_history_json_with_one_and_two_months_has_no_nan(store_url, months):
+    # JSON has no NaN or Infinity (RFC 8259 §6): a trend of fewer than three months is null with its reason
+    meter = "OW-North"
+    for k, month in enumerate(S.MONTHS[:2], start=1):
+        _close(store_url, months, meter, month)
+        r = CliRunner().invoke(app, ["history", "--store", store_url, "--meter", meter, "--json"])
+        assert r.exit_code == 0, r.output
+        data = _no_nan(r.output)
+        tr = data["meters"][0]["trend"]
+        assert tr["months"] == k and tr["base_volume_pct_per_month"] is None
+        assert tr["note"] == f"a trend needs three or more months; {k} stored"
+        first = data["entries"][0]
+        assert first["base_volume_change_from_previous_month_pct"] is None and "base_volume_change_note" in first
+        if k == 2:
+            second = data["entries"][1]
+            vb = [months[(meter, m)][0].totals["base_volume_m3"] for m in S.MONTHS[:2]]
+            assert second["base_volume_change_from_previous_month_pct"] == pytest.approx(100 * (vb[1] / vb[0] - 1))
+
+
 def test_history_json_and_trend_for_three_months(store_url, months):
     for month in S.MONTHS:
         for meter in S.METERS:

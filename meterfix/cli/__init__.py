@@ -137,7 +137,9 @@ def _z(gas, composition, method, pressure, temperature, volume, atmospheric_pres
         "in_range": bool(int(np.asarray(st.range_class).reshape(-1)[0]) <= 1),
     }
     if as_json:
-        typer.echo(json.dumps(out, indent=2))
+        from ..writers.summary import json_safe
+
+        typer.echo(json.dumps(json_safe(out), indent=2, allow_nan=False))
         return
     rows = [
         ("Z", f"{out['z']:.6f}", ""),
@@ -219,9 +221,14 @@ def write_templates(folder, *, overwrite: bool = False) -> list:
 
 # ---------------------------------------------------------------------------------------------
 def main(argv: Optional[List[str]] = None) -> int:
-    """Console entry point; never lets a traceback reach the user for our own errors."""
+    """Console entry point; never lets a traceback reach the user for our own errors, nor a
+    library's warning (what the user must know is in the run's own notes and flags)."""
+    import warnings
+
     try:
-        app(args=argv, standalone_mode=True)
+        with warnings.catch_warnings():
+            warnings.simplefilter("ignore")
+            app(args=argv, standalone_mode=True)
     except SystemExit as exc:
         return int(exc.code or 0) if isinstance(exc.code, int) else (0 if exc.code is None else 2)
     except MeterfixError as exc:

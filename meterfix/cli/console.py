@@ -133,6 +133,11 @@ def _print_reading(result) -> None:
     if oi is not None and "index" in vf:
         typer.echo(f"  opening index        {oi:,.6g} m3 (the reading that opens the log; "
                    "--opening-index sets the one before the first row)")
+    dropped = getattr(meta, "dropped_rows", None) or []
+    if dropped:
+        first = "; ".join(f"{d.get('file')} row {d.get('row')} '{d.get('value')}' ({d.get('reason')})" for d in dropped[:3])
+        typer.echo(f"  {V.ROWS_LEFT_OUT:<20} {len(dropped)} (their intervals have no result): {first}"
+                   + (" ..." if len(dropped) > 3 else ""))
     for note in (meta.notes or [])[:12]:
         typer.echo(f"  reader: {note}")
     extra = len(meta.notes or []) - 12
@@ -198,6 +203,13 @@ def print_summary(result, written: dict) -> None:
     typer.echo(f"  base conditions      {du.exact('pressure', s.base_pressure)}, "
                f"{du.exact('temperature', s.base_temperature)}" + (f"   (preset {s.base})" if s.base else ""))
     _print_reading(result)
+    gm = getattr(result, "gas_month", None)
+    if gm:
+        typer.echo(f"  {_lc(V.GAS_MONTH):<20} {gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
+                   f"logged ({gm['coverage_pct']:.4g} %)"
+                   + (f"; left out: {gm['intervals_before_month']} interval(s) before, "
+                      f"{gm['intervals_after_month']} after" if gm['intervals_before_month'] or gm['intervals_after_month']
+                      else ""))
     flagged = int(result.intervals["flagged"].sum())
     kinds = flags_breakdown({k: v for k, v in result.flags.items() if k != "estimated"})
     typer.echo(f"  intervals            {t['intervals']}  (flagged {flagged}" + (f": {kinds}" if kinds else "") + ")")

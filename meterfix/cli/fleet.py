@@ -118,6 +118,12 @@ def _fleet(folder, out, *, workers, scheduler, workbooks, overwrite, quiet, opti
     ok = sum(r["status"] == "ok" for r in rows)
     typer.echo(f"meterfix fleet: {ok} of {len(rows)} meters corrected in {seconds:.1f} s ({run.runner}); "
                f"fleet table {written['workbook']} (also .csv, .json)")
+    from ..writers.fleet import fleet_totals
+
+    groups = fleet_totals(rows)
+    if len(groups) > 1:
+        typer.echo(f"  totals: the corrected meters are at {len(groups)} different base conditions, gas months or "
+                   "energy references: the fleet table shows one total per group, never their sum")
     if run.retried:
         typer.echo(f"  run again after their worker was lost: {', '.join(run.retried)}")
     bad = [r for r in rows if r["status"] != "ok"]

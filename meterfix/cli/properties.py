@@ -86,7 +86,9 @@ def _properties(composition, gas, t1_text, t2_text, p2_text, edition, as_json):
                                                             "states none for its component values",))
     if as_json:
         out = res.as_dict()
-        typer.echo(json.dumps(out, indent=2, sort_keys=False))
+        from ..writers.summary import json_safe
+
+        typer.echo(json.dumps(json_safe(out), indent=2, sort_keys=False, allow_nan=False))
         return
     typer.echo(f"meterfix properties  {res.edition}: combustion {t1 - T0:g} degC, metering "
                f"{t2 - T0:.4g} degC and {pq.value / 1000:.6g} kPa")

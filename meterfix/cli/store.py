@@ -64,7 +64,9 @@ def _history(target, meter, as_json):
                                for _, r in bal.iterrows()]
         if meter is not None:
             out["configuration_log"] = df.attrs.get("config_log", [])
-        typer.echo(json.dumps(out, indent=2, sort_keys=True, allow_nan=False))
+        from ..writers.summary import json_safe
+
+        typer.echo(json.dumps(json_safe(out), indent=2, sort_keys=True, allow_nan=False))
         return
     echo = typer.echo
     latest = df[df["latest"]]

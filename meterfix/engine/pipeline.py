@@ -104,6 +104,9 @@ class MonthResult:
     history : DataFrame or None  the meter's stored months (meterfix.store fills it when a store is
                                used; one row per month and version, newest last, SI with units in
                                the column names)
+    gas_month : dict or None   the gas month of the run (GasMonthSelection.record(): bounds, hours
+                               in the month on the site's clock, hours logged, coverage, intervals
+                               left out before and after); None when the log spans several months
     """
 
     settings: Settings
@@ -129,6 +132,7 @@ class MonthResult:
     history: pd.DataFrame | None = None
     flow_meter: dict | None = None  # the meter kind's record (engine.meter_kinds), None for a plain volume meter
     speed_of_sound_check: dict | None = None  # ultrasonic meters' speed of sound against the analysis'
+    gas_month: dict | None = None  # the gas month closed and its coverage (engine.gas_month), or None
 
 
 # ---------------------------------------------------------------------------------------------
@@ -218,15 +222,21 @@ _Z_RANGE_DTYPE = pd.CategoricalDtype([RANGE_NAMES[i] for i in range(3)])
 def _gas_day(index_utc: pd.DatetimeIndex, duration_s: np.ndarray, settings: Settings):
     """Gas day of each interval: the local date on which the gas day containing its start began.
 
+    The gas day runs from ``gas_day_start`` on the site's clock to the same wall-clock hour of
+    the next day, so it has 23 or 25 hours on the days the clock changes (IANA tz rules). The
+    start of each interval is taken to the site's wall clock first, then the gas-day start is
+    subtracted there (wall-clock arithmetic): 02:30 CEST and 02:30 CET on 25 October 2026 (Berlin,
+    06:00 gas day) both belong to gas day 24 October. Subtracting a fixed duration from a time
+    that still carries its zone would be absolute arithmetic, which moves the hour beside the
+    change into the neighbouring gas day.
+
     Returns (days, codes): the distinct gas days in order (datetime.date objects) and, for every
     interval, the position of its gas day in ``days``.
     """
     start = index_utc - pd.to_timedelta(np.nan_to_num(duration_s, nan=0.0), unit="s")
-    local = start.tz_convert(settings.timezone)
-    shifted = local - pd.Timedelta(hours=settings.gas_day_start)
-    # subtracting a fixed timedelta from a tz-aware local time keeps wall-clock arithmetic exact
-    # for DST days: the gas day is the local calendar date of (start − gas_day_start hours)
-    day = shifted.tz_localize(None).to_numpy().astype("datetime64[D]")
+    wall = start.tz_convert(settings.timezone).tz_localize(None)  # the site's wall clock, naive
+    shifted = wall - pd.Timedelta(hours=settings.gas_day_start)
+    day = shifted.to_numpy().astype("datetime64[D]")
     days, codes = np.unique(day, return_inverse=True)
     return days.astype(object), codes.reshape(-1)
 

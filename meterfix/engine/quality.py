@@ -26,7 +26,11 @@ Flags (boolean ``flag_*`` columns; the reader's own flags are kept)
                             out), scaled by the median absolute deviation of the residuals
                             (modified z-score z = 0.6745 r / MAD, Iglewicz & Hoaglin 1993;
                             threshold 3.5 is their recommendation; white noise flags about
-                            0.05 % of rows)
+                            0.05 % of rows). Only points with that full neighbourhood in
+                            consecutive, evenly spaced rows are tested: not the ends of the log,
+                            not the rows beside a gap or break (a one-sided median follows the
+                            trend, so smooth data would be flagged there); of the points within
+                            ``spike_window`` // 2 rows only the largest z is flagged
 ``flag_flow_zero_pressure`` volume through the meter while the pressure reads zero
 ``flag_rollover``, ``flag_meter_change``, ``flag_negative_delta``, ``flag_implausible_delta``,
 ``flag_unreadable``, ``flag_missing``   (reader)
@@ -235,11 +239,53 @@ def _neighbour_median(x: np.ndarray, half: int) -> np.ndarray:
     return med
 
 
-def _spikes(x: np.ndarray, window: int, z_max: float) -> np.ndarray:
+def _testable(x: np.ndarray, half: int, t_ns: np.ndarray | None) -> np.ndarray:
+    """Points the spike rule can judge: ``half`` values on each side in consecutive rows, all
+    present, and (with times) the window's spacings within a factor of 1.5 of each other."""
+    n = len(x)
+    ok = np.isfinite(x)
+    fin = ok.copy()
+    for k in range(1, half + 1):
+        ok[k:] &= fin[:-k]
+        ok[:-k] &= fin[k:]
+        ok[:k] = False
+        ok[n - k:] = False
+    if t_ns is not None and n > 2 * half:
+        sp = np.diff(np.asarray(t_ns, dtype=np.int64)).astype(float)
+        m = len(sp) - 2 * half + 1  # windows of the 2*half spacings around point i = j + half
+        lo = sp[:m].copy()
+        hi = sp[:m].copy()
+        for k in range(1, 2 * half):
+            np.minimum(lo, sp[k:k + m], out=lo)
+            np.maximum(hi, sp[k:k + m], out=hi)
+        reg = np.zeros(n, bool)
+        reg[half:half + m] = (lo > 0) & (hi <= 1.5 * lo)
+        ok &= reg
+    return ok
+
+
+def _spikes(x: np.ndarray, window: int, z_max: float, t_ns: np.ndarray | None = None) -> np.ndarray:
+    """The spike rule (``flag_spike``).
+
+    A point is tested only where it has ``window // 2`` values on each side in consecutive rows, all
+    present, with spacings that agree within a factor of 1.5: not the first or last rows of the log,
+    not the rows beside a gap (missing or inserted rows) or a break. There a one-sided
+    neighbourhood follows the trend rather than the point, so a smooth log would be flagged at its
+    ends; a spike at an end or beside a gap is not flagged. A tested point's residual r is its
+    distance from the median of its neighbours (itself left out); it is a spike when the modified
+    z-score 0.6745 r / MAD exceeds ``z_max`` (MAD: median |r| over the tested points; Iglewicz &
+    Hoaglin 1993, threshold 3.5 their recommendation) and is the largest |z| within ``window // 2``
+    rows on either side (a spike moves its neighbours' medians too: only the spike is flagged; of
+    two spikes that close, the larger).
+    """
+    half = max(1, window // 2)
     if np.isfinite(x).sum() < max(window, 5):
         return np.zeros(len(x), bool)
-    r = x - _neighbour_median(x, max(1, window // 2))
-    a = np.abs(r[np.isfinite(r)])
+    ok = _testable(x, half, t_ns)
+    if not ok.any():
+        return np.zeros(len(x), bool)
+    r = np.where(ok, x - _neighbour_median(x, half), np.nan)
+    a = np.abs(r[ok])
     mad = float(np.median(a)) if len(a) else 0.0
     if mad > 0:
         z = 0.6745 * r / mad
@@ -248,8 +294,14 @@ def _spikes(x: np.ndarray, window: int, z_max: float) -> np.ndarray:
         if mean_ad == 0:
             return np.zeros(len(x), bool)
         z = r / (1.253314 * mean_ad)
-    with np.errstate(invalid="ignore"):
-        return np.isfinite(z) & (np.abs(z) > z_max)
+    az = np.where(ok & np.isfinite(z), np.abs(z), 0.0)
+    # a spike also moves the medians of its neighbours: of the points within one half-window only
+    # the largest |z| is flagged
+    peak = az > 0
+    for k in range(1, half + 1):
+        peak[k:] &= az[k:] >= az[:-k]
+        peak[:-k] &= az[:-k] > az[k:]
+    return peak & (az > z_max)
 
 
 def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_intervals: int = 3,
@@ -322,14 +374,15 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
         t_range = np.isfinite(temp) & ((temp < lim.temperature[0]) | (temp > lim.temperature[1]))
         zero = lim.zero_pressure_gauge if pcol == "pressure_gauge" else lim.zero_pressure_line
         zero_p = flowing & np.isfinite(p) & (p <= zero)
+    t_ns = df.index.asi8 if isinstance(df.index, pd.DatetimeIndex) else None
     found = {
         "flag_gap": flag_gap,
         "flag_pressure_range": p_range,
         "flag_temperature_range": t_range,
         "flag_stuck": _stuck(p, flowing, lim.stuck_intervals) | _stuck(temp, flowing, lim.stuck_intervals),
-        "flag_spike": (_spikes(np.where(p_range, np.nan, p), lim.spike_window, lim.spike_z)
-                       | _spikes(np.where(t_range, np.nan, temp), lim.spike_window, lim.spike_z)
-                       | _spikes(rate, lim.spike_window, lim.spike_z)),
+        "flag_spike": (_spikes(np.where(p_range, np.nan, p), lim.spike_window, lim.spike_z, t_ns)
+                       | _spikes(np.where(t_range, np.nan, temp), lim.spike_window, lim.spike_z, t_ns)
+                       | _spikes(rate, lim.spike_window, lim.spike_z, t_ns)),
         "flag_flow_zero_pressure": zero_p,
     }
     # one frame: the log's columns (flags found here replace the log's own), then the quality

@@ -4,6 +4,9 @@ from __future__ import annotations
 
 from pathlib import Path
 
+import numpy as np
+import pandas as pd
+
 from ..errors import InputError, SettingsError
 from .pipeline import MonthResult, run_month
 from .settings import Settings
@@ -75,6 +78,7 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
         column_map=settings.columns or None, register_digits=settings.register_digits,
         sheet=settings.sheet, opening_index=settings.opening_index,
         timezone_given=(settings.sources or {}).get("timezone", "default") != "default",
+        overlap=getattr(settings, "overlap", None),
     )
     step(f"checking data quality of {len(frame):,} intervals", 0.3)
     frame, edits = quality.apply_quality(frame, policy=settings.substitution,
@@ -83,8 +87,10 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
     for b in (frame.attrs.get("quality") or {}).get("breaks", []):
         meta.notes.append(f"break in the log from {b['from']} to {b['to']} ({b['seconds'] / 86400:.3g} days, "
                           f"{b['intervals']} intervals): too long to fill with rows; nothing is counted for it")
+    frame, edits, selection = _one_gas_month(frame, edits, settings)
     step(f"correcting {len(frame):,} intervals with {settings.method}", 0.4)
     result = run_month(frame, analyses, settings, metadata=meta, edits=edits)
+    _gas_month_notes(result, frame, selection, settings)
     if "flag_negative_volume" in frame and frame["flag_negative_volume"].any():
         neg = frame["flag_negative_volume"].to_numpy(bool)
         raw = frame["volume_line_raw"].to_numpy(float) if "volume_line_raw" in frame else frame["volume_line"].to_numpy(float)
@@ -100,6 +106,71 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
         inputs.append(file_record(composition, "analysis"))
     result.inputs = inputs
     return result, frame
+
+
+def _one_gas_month(frame, edits, settings: Settings):
+    """The intervals of the gas month ``settings.month`` (all of them without one): (frame, edits,
+    GasMonthSelection or None)."""
+    from .gas_month import select_gas_month
+
+    month = getattr(settings, "month", None)
+    if not month:
+        return frame, edits, None
+    sel = select_gas_month(frame, month, timezone=settings.timezone, gas_day_start=settings.gas_day_start,
+                           interval_label=settings.interval_label)
+    if not len(sel.frame):
+        first, last = frame.index[0].tz_convert(settings.timezone), frame.index[-1].tz_convert(settings.timezone)
+        raise InputError(f"the log has no interval in gas month {sel.month} (it runs from {first:%Y-%m-%d %H:%M} "
+                         f"to {last:%Y-%m-%d %H:%M} {settings.timezone})",
+                         hint="check --month, or give the logs of that month")
+    kept = sel.frame
+    kept.attrs = dict(frame.attrs)
+    if edits is not None and len(edits):
+        t = pd.to_datetime(edits["time"], utc=True)
+        edits = edits[t.isin(kept.index).to_numpy()].reset_index(drop=True)
+    return kept, edits, sel
+
+
+def _gas_month_notes(result, frame, selection, settings: Settings) -> None:
+    """The gas month's coverage on the result; notes for logs touching several months and for a
+    likely mislabelled daily log."""
+    from .gas_month import likely_midnight_mislabel, select_gas_month
+
+    months = [str(m) for m in result.months.index]
+    if selection is None and len(months) == 1:
+        try:
+            selection = select_gas_month(frame, months[0], timezone=settings.timezone,
+                                         gas_day_start=settings.gas_day_start)
+        except InputError:
+            selection = None  # an interval crosses the month's bound: no coverage to state
+    if selection is not None:
+        result.gas_month = selection.record()
+        if selection.hours_logged < selection.hours_in_month - 1e-9:
+            from .gas_month import logged_mask
+
+            iv = result.intervals
+            dur = np.nan_to_num(iv["duration"].to_numpy(float)) / 3600.0
+            not_logged = ~logged_mask(frame)
+            est = not_logged & iv["estimated"].to_numpy(bool)
+            none = not_logged & ~np.isfinite(iv["volume_base"].to_numpy(float))
+            absent = selection.hours_in_month - float(dur.sum())
+            parts = [f"{float(dur[est].sum()):g} h substituted (estimated)" if est.any() else "",
+                     f"{float(dur[none].sum()):g} h without a result" if none.any() else "",
+                     f"{absent:g} h not in the log" if absent > 1e-9 else ""]
+            result.warnings.append(
+                f"the log covers {selection.hours_logged:g} of the {selection.hours_in_month:g} hours of gas month "
+                f"{selection.month} ({selection.coverage_pct:.4g} %): " + ", ".join(p for p in parts if p))
+    elif len(months) > 1:
+        hours = result.months["hours"].to_numpy(float)
+        main = months[int(np.argmax(hours))]
+        result.warnings.append(
+            f"the log touches {len(months)} gas months ({', '.join(months)}): the outputs are named "
+            f"{months[0]}_to_{months[-1]}; close one gas month with --month {main} (or the site key month)")
+    if likely_midnight_mislabel(frame, settings.timezone, settings.gas_day_start, settings.interval_label):
+        result.warnings.append(
+            f"daily rows stamped at 00:00 are read as interval ends while the gas day starts at "
+            f"{settings.gas_day_start:02d}:00: each row straddles two gas days (likely mislabelled); if the rows "
+            "are calendar days give --gas-day-start 00:00, if each stamp starts a gas day give --interval-label start")
 
 
 def file_record(path, role: str) -> dict:

@@ -24,7 +24,8 @@ __all__ = ["BASE_PRESETS", "SUBSTITUTION_POLICIES", "Settings", "build_settings"
            "settings_from_record", "SETTINGS", "RECORD_RENAMES"]
 
 _PY_TYPES = {"text": str | None, "choice": str, "bool": bool, "int": int | None, "number": float | None,
-             "hour": int, "base": str | None, "price": float | None, "list": list, "mapping": dict}
+             "hour": int, "base": str | None, "price": float | None, "list": list, "mapping": dict,
+             "month": str | None}
 _QUANTITY_KINDS = ("pressure", "temperature", "length", "volume", "heating_value", "viscosity",
                    "expansion_coefficient")
 
@@ -279,6 +280,16 @@ def _read_list(s, v, fail):
     return [str(x) for x in v] if isinstance(v, (list, tuple)) else [str(v)]
 
 
+def _read_month(s, v, fail):
+    """A gas month 'YYYY-MM' (engine.gas_month), normalised to two month digits."""
+    import re
+
+    m = re.fullmatch(r"\s*(\d{4})-(\d{1,2})\s*", v if isinstance(v, str) else "")
+    if not m or not 1 <= int(m.group(2)) <= 12:
+        fail(f"'{v}' is not a gas month YYYY-MM", "write e.g. '2026-06' (quoted in the site file)")
+    return f"{int(m.group(1)):04d}-{int(m.group(2)):02d}"
+
+
 def _read_kept_text(s, v, fail):
     """Uncertainty texts and flow rates: kept as written, read by meterfix.uncertainty.inputs."""
     if isinstance(v, bool):
@@ -307,7 +318,7 @@ _READERS = {
     "text": _read_text, "choice": _read_choice, "bool": _read_bool, "int": _read_number,
     "number": _read_number, "hour": _read_hour, "base": _read_base, "price": _read_price,
     "mapping": _read_mapping, "list": _read_list, "uncertainty": _read_kept_text, "flow_rate": _read_kept_text,
-    "curve": _read_curve,
+    "curve": _read_curve, "month": _read_month,
     **{k: _read_quantity for k in _QUANTITY_KINDS},
 }
 

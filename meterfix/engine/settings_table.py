@@ -63,6 +63,7 @@ DEFAULT_METHOD = "aga8-detail"
 INTERVAL_LABELS = ("end", "start")
 SUBSTITUTION_POLICIES = ("none", "interpolate", "hold", "profile")
 ENERGY_EDITIONS = ("2016", "1995")
+OVERLAP_CHOICES = ("later", "earlier")
 
 
 @dataclass(frozen=True)
@@ -148,6 +149,8 @@ SETTINGS: tuple[Setting, ...] = (
       "common practice: 06:00 in Europe, 09:00 in North America", unit="h", section=_C, example="06:00"),
     S("interval_label", "choice", "which end of its interval a timestamp marks", "end", choices=INTERVAL_LABELS,
       section=_C, example="end"),
+    S("month", "month", "close exactly this gas month, 'YYYY-MM', from logs that may cover more (intervals "
+      "outside it left out and counted)", section=_C, example="2026-10"),
     S("gas", "text", "gas as 'methane=0.95,ethane=0.03,...' instead of a composition file", section=_E,
       example="methane=0.95,ethane=0.03,nitrogen=0.01,carbon_dioxide=0.01"),
     S("method", "text", "Z method ('meterfix methods' lists them)", DEFAULT_METHOD, section=_E,
@@ -195,6 +198,8 @@ SETTINGS: tuple[Setting, ...] = (
       commands=CORRECT_ONLY + ("fleet",), example="Log"),
     S("opening_index", "volume", "meter index at the start of the first logged interval, e.g. '123456 m3'",
       unit="m3", low=0.0, section=_R, example="123456 m3"),
+    S("overlap", "choice", "files that overlap with different values: keep the later or the earlier file's "
+      "rows (by the order given; default: refused)", choices=OVERLAP_CHOICES, section=_R, example="later"),
     S("bidirectional", "bool", "the meter measures both flow directions: negative interval volumes count",
       False, section=_R, example=False),
     S("columns", "mapping", "source header = canonical name, for a column not recognised (option: "

@@ -17,6 +17,10 @@ name                            meaning                                         
 ``interval_end``                the same, stated to be the interval's end             –
 ``interval_start``              the same, stated to be the interval's start           –
 ``date``, ``clock``             separate date and time-of-day columns                 –
+``hour_ending``                 with ``date``: hour number 1..24, the hour ending then  –
+                                (hour 24 ends at midnight; ``Hour ending``, ``HE``)
+``hour_beginning``              with ``date``: hour number 0..23, the hour starting then –
+                                (``Hour beginning``, ``Hour starting``, ``HB``)
 ``pressure_gauge``              line pressure, gauge                                  pressure
 ``pressure_line``               line pressure, absolute                               pressure
 ``pressure_atm``                barometer (absolute)                                  pressure
@@ -55,7 +59,7 @@ from ..units import Unit, parse_unit
 #: canonical name → unit kind (None: no unit)
 CANONICAL = {
     "time": None, "interval_end": None, "interval_start": None, "date": None, "clock": None,
-    "pressure_gauge": "pressure", "pressure_line": "pressure", "pressure_atm": "pressure",
+    "hour_ending": None, "hour_beginning": None, "pressure_gauge": "pressure", "pressure_line": "pressure", "pressure_atm": "pressure",
     "temperature_line": "temperature", "volume_line": "volume", "volume_index": "volume",
     "flow_rate": "flow", "volume_corrected_site": "volume", "volume_corrected_site_index": "volume",
     "duration": "time", "status": None, "ignore": None,
@@ -65,7 +69,7 @@ CANONICAL = {
 #: the primary measurement of each meter kind: one of these stands for the uncorrected volume
 _PRIMARY = ("volume_line", "volume_index", "flow_rate", "pressure_differential", "mass", "mass_flow",
             "pressure_differential_root")
-_TIME_ROLES = ("time", "interval_end", "interval_start", "date", "clock")
+_TIME_ROLES = ("time", "interval_end", "interval_start", "date", "clock", "hour_ending", "hour_beginning")
 #: example headers for messages
 EXAMPLES = {
     "time": "'Interval end' (or 'Date' and 'Time')", "pressure": "'Line pressure [bar(g)]'",
@@ -126,14 +130,19 @@ def _key(text: str) -> str:
 
 
 _END = {"interval end", "end", "end time", "time end", "interval ending", "period end", "end of interval",
-        "interval end time", "hour ending", "hour end", "timestamp end", "end timestamp", "to", "until",
+        "interval end time", "timestamp end", "end timestamp", "to", "until",
         "interval to", "period to", "end date time", "end datetime"}
 _START = {"interval start", "start", "start time", "time start", "interval beginning", "period start",
-          "start of interval", "hour beginning", "hour start", "from", "begin", "interval from", "period from",
+          "start of interval", "from", "begin", "interval from", "period from",
           "start date time", "start datetime"}
 _DATETIME = {"timestamp", "time stamp", "datetime", "date time", "date and time", "logged at", "reading time",
              "time of reading", "log time", "date time local", "date time utc"}
-_DATE = {"date", "day", "reading date", "log date"}
+_DATE = {"date", "day", "reading date", "log date", "gas date", "flow date"}
+#: hour numbers beside a date column (US gas-day data: hour ending 1..24, common practice); without a
+#: date column these headers hold a full date-time stamped at the interval's end or start
+_HOUR_ENDING = {"hour ending", "hour end", "he", "hr ending", "hr end", "ending hour", "hour ended"}
+_HOUR_BEGINNING = {"hour beginning", "hour start", "hour starting", "hb", "hr beginning", "hr start",
+                   "beginning hour", "starting hour", "start hour"}
 _CLOCK = {"time", "hour", "clock", "time of day", "clock time"}
 _STATUS = {"status", "state", "alarm", "alarms", "event", "events", "remark", "remarks", "comment", "comments",
            "note", "notes", "flags", "flag", "quality", "status text"}
@@ -161,6 +170,10 @@ def classify(name: str):
         return "status", {}
     if toks[0] == "duration" or n in ("interval length", "period length", "interval duration", "log interval"):
         return "duration", {}
+    if n in _HOUR_ENDING:
+        return "hour_ending", {}
+    if n in _HOUR_BEGINNING:
+        return "hour_beginning", {}
     if n in _END:
         return "interval_end", {}
     if n in _START:
@@ -418,7 +431,8 @@ _ROLE_WORDS = {"volume_line": "uncorrected volume per interval", "volume_index":
 def _role_group(names) -> set:
     """The names that compete with ``names`` for one role."""
     out = set(names)
-    for g in (("pressure_gauge", "pressure_line"), ("time", "interval_end", "interval_start")):
+    for g in (("pressure_gauge", "pressure_line"), ("time", "interval_end", "interval_start"),
+              ("hour_ending", "hour_beginning", "clock")):
         if out & set(g):
             out |= set(g)
     return out
@@ -427,7 +441,8 @@ def _role_group(names) -> set:
 def _clash(columns, name):
     if name in columns:
         return columns[name]
-    groups = (("pressure_gauge", "pressure_line"), ("time", "interval_end", "interval_start"))
+    groups = (("pressure_gauge", "pressure_line"), ("time", "interval_end", "interval_start"),
+              ("hour_ending", "hour_beginning", "clock"))
     for g in groups:
         if name in g:
             for other in g:
@@ -440,7 +455,8 @@ def require_log_columns(mapping: ColumnMapping, header, where) -> None:
     """Raise an InputError listing required versus found columns when the log lacks one."""
     c = mapping.columns
     missing = []
-    has_time = any(n in c for n in ("time", "interval_end", "interval_start")) or "date" in c or "clock" in c
+    has_time = any(n in c for n in ("time", "interval_end", "interval_start", "hour_ending", "hour_beginning")) \
+        or "date" in c or "clock" in c
     if not has_time:
         missing.append(("time", EXAMPLES["time"]))
     if "pressure_gauge" not in c and "pressure_line" not in c:

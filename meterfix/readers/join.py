@@ -33,10 +33,14 @@ VOLUME_CHECK_SUM_REL = 0.01
 #: (flow rates are often instantaneous samples, so rows are not compared one by one)
 FLOW_CHECK_REL = 0.05
 _MAX_RECORDED = 1000
+#: SI unit of each numeric canonical column (for messages)
+_SI_UNITS = {"pressure_gauge": "Pa", "pressure_line": "Pa", "pressure_atm": "Pa", "temperature_line": "K",
+             "volume_line": "m3", "volume_index": "m3", "flow_rate": "m3/s", "volume_corrected_site": "m3",
+             "volume_corrected_site_index": "m3", "duration": "s"}
 
 
 def join_parts(parts, tables, meta, interval_label, column_map, register_digits, opening_index=None,
-               timezone_given=True):
+               timezone_given=True, overlap=None):
     """Join the rows of one meter's files: time order, duplicates, durations, volumes → frame.
 
     ``parts`` are the per-file column dicts of :func:`meterfix.readers.logs._read_part`,
@@ -95,7 +99,7 @@ def join_parts(parts, tables, meta, interval_label, column_map, register_digits,
         df = {c: v[order] for c, v in df.items()}
     if not timezone_given:
         _refuse_clock_change(df, meta)
-    df = _dedupe(df, meta)
+    df = _dedupe(df, meta, overlap)
     t = df["time"]
     n = len(t)
     own = np.asarray(df["duration"], dtype=float)
@@ -269,13 +273,25 @@ def _value_columns(df):
     return [c for c in NUMERIC if c in df]
 
 
-def _dedupe(df: dict, meta) -> dict:
+def _dedupe(df: dict, meta, overlap=None) -> dict:
+    """Rows with the same interval end reduced to one.
+
+    Identical copies are dropped silently (counted). Differing rows of one file: the first is kept,
+    flagged ``flag_duplicate`` and listed. Differing rows of *different files* (a re-export with
+    corrected values) are refused unless ``overlap`` says which file wins: ``'later'`` or
+    ``'earlier'`` by the order the files were given; the choice is noted, the kept row flagged
+    ``flag_duplicate`` and each replaced row listed.
+    """
     t = np.asarray(df["time"], dtype=np.int64)
     n = len(t)
     dup = np.concatenate([[False], t[1:] == t[:-1]])
     df["flag_duplicate"] = np.zeros(n, bool)
     if not dup.any():
         return df
+    if overlap == "later":
+        # within each interval end, the later file's row first (then row order)
+        order = np.lexsort((df["source_row"], -np.asarray(df["source_file"], dtype=np.int64), t))
+        df = {c: v[order] for c, v in df.items()}
     first_pos = pd.Series(np.arange(n)).groupby(t).transform("min").to_numpy()
     cols = _value_columns(df)
     differs = np.zeros(n, bool)
@@ -288,9 +304,28 @@ def _dedupe(df: dict, meta) -> dict:
         differs[d] = True
         for i in d[:_MAX_RECORDED]:
             diff_cols[i].append(c)
+    src = np.asarray(df["source_file"])
+    across = differs & (src != src[first_pos])
+    files = [s["file"] for s in meta.sources]
+    if across.any():
+        i = int(np.flatnonzero(across)[0])
+        j = int(first_pos[i])
+        a, b = sorted((i, j), key=lambda k: int(src[k]))
+        c0 = diff_cols[i][0] if diff_cols[i] else cols[0]
+        va, vb = float(df[c0][a]), float(df[c0][b])
+        if overlap is None:
+            raise InputError(
+                f"the files overlap with different values in {int(across.sum())} interval(s): first "
+                f"{files[src[a]]} row {df['source_row'][a]} and {files[src[b]]} row {df['source_row'][b]}, both the "
+                f"interval ending {pd.Timestamp(int(t[i]), tz='UTC').isoformat()} ({c0} {va:.9g} vs {vb:.9g} "
+                f"{_SI_UNITS.get(c0, '(SI)')})",
+                file=files[src[a]], row=int(df["source_row"][a]),
+                hint="say which export wins: --overlap later keeps the later file's rows (a re-export with "
+                     "corrected values), --overlap earlier the earlier file's (by the order the files are given)")
+        meta.notes.append(f"the files overlap with different values in {int(across.sum())} interval(s): the "
+                          f"{overlap} file's rows kept (--overlap {overlap}), the others listed as differing duplicates")
     kept_flag = np.zeros(n, bool)
     kept_flag[first_pos[differs]] = True
-    files = [s["file"] for s in meta.sources]
     for i in np.flatnonzero(differs)[:_MAX_RECORDED]:
         j = first_pos[i]
         meta.duplicates.append({"time": pd.Timestamp(int(t[i]), tz="UTC").isoformat(),

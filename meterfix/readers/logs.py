@@ -35,11 +35,12 @@ Quirks handled
   silently, differing ones flagged ``flag_duplicate`` and listed in the metadata.
 - **Bad cells**: a number that cannot be read is NaN with ``flag_unreadable`` and the cell (file,
   sheet, row, column, text) recorded in the metadata; an empty required cell is NaN with
-  ``flag_missing``. A row whose time cannot be read (or does not exist on the clock) is placed
-  between its neighbours when they leave exactly the right number of regular slots, and flagged
-  ``flag_unreadable``; otherwise it cannot be placed: it is left out, recorded in
-  ``metadata.dropped_rows``, and the next row of its file is flagged ``flag_unreadable`` (the
-  quality step sees the missing interval). A required column in which no value can be read is
+  ``flag_missing``. A row whose time cannot be read (or does not exist on the clock, or is more
+  than a day off the one slot its neighbours leave) is never placed by guess: it is left out,
+  recorded in ``metadata.dropped_rows`` (and named on the console), and the next row of its file
+  is flagged ``flag_unreadable``; the quality step sees the missing interval, which then has no
+  result (counted) unless a substitution policy fills it (recorded). ``24:00`` is midnight ending
+  that day, in a date-time cell as in a time-of-day cell. A required column in which no value can be read is
   an error naming the file, row and column.
   ``flag_time_backwards`` marks a row whose time is earlier than a row above it in its file.
 """
@@ -54,7 +55,6 @@ from functools import lru_cache
 from pathlib import Path
 
 import numpy as np
-import pandas as pd
 
 from ..errors import InputError, SettingsError
 from .columns import ColumnMapping, _key, map_columns, require_log_columns
@@ -148,7 +148,7 @@ def _known_text(cell: str) -> bool:
 
 def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", column_map=None,
              register_digits: int | None = None, sheet=None, limits: Limits = DEFAULT_LIMITS,
-             opening_index: float | None = None, timezone_given: bool = True):
+             opening_index: float | None = None, timezone_given: bool = True, overlap: str | None = None):
     """Read one meter's log from one or several files.
 
     Parameters
@@ -165,6 +165,9 @@ def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", colum
                                     the first reading then closes an interval (index logs)
     timezone_given : bool           False when the user gave no time zone: a local clock whose
                                     stamps repeat or skip an hour (a clock change) is refused
+    overlap : {None, 'later', 'earlier'}  files that overlap with different values: refused
+                                    (None, the default), or the later / earlier file's rows kept
+                                    (by the order of ``paths``); identical overlaps are dropped
 
     Returns
     -------
@@ -187,7 +190,8 @@ def read_log(paths, *, timezone: str = "UTC", interval_label: str = "end", colum
         with open(p, "rb") as fh:
             tables.append(parse_table(fh, name=str(p), suffix=p.suffix, sheet=sheet, header_score=_score,
                                       prefer=("log",), limits=limits))
-    return _assemble(tables, timezone, interval_label, column_map, register_digits, opening_index, timezone_given)
+    return _assemble(tables, timezone, interval_label, column_map, register_digits, opening_index, timezone_given,
+                     overlap)
 
 
 def parse_log(fileobj, *, name: str = "<log>", timezone: str = "UTC", interval_label: str = "end",
@@ -225,7 +229,10 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     meta.notes += [f"{fname}: {x}" for x in t.notes]
 
     tcol = next((c[x] for x in ("interval_end", "interval_start", "time") if x in c), None)
-    if tcol is None and "date" in c and "clock" not in c:
+    hcol = next((c[x] for x in ("hour_ending", "hour_beginning") if x in c), None)
+    if tcol is None and hcol is not None and "date" not in c:
+        tcol = hcol  # a full date-time under an 'Hour ending' / 'Hour beginning' header
+    if tcol is None and "date" in c and "clock" not in c and hcol is None:
         tcol = c["date"]
     if tcol is None and "clock" in c and "date" not in c:
         tcol = c["clock"]  # a 'Time' column alone holds the date too
@@ -236,10 +243,39 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     part = {"source_file": np.full(n, k, dtype=np.int32), "source_row": rows}
 
     # -- time
+    hour_nonexist = None
     if tcol is not None:
         naive, bad_t, is_utc = parse_datetimes(t.cells[tcol.index].to_numpy(), {**where, "row": None, "column": tcol.header})
         zone = "utc" if is_utc else tcol.zone
+    elif "date" in c and hcol is not None:
+        # hour numbers: the hour's start is placed on the site's clock (the repeated autumn hour by
+        # order, as any wall time), its end is one hour later in absolute time: 'HE 2' written
+        # twice on the autumn night is 01:00-02:00 CDT, then 01:00-02:00 CST
+        d, bad_d = parse_dates(t.cells[c["date"].index].to_numpy(), {**where, "row": None, "column": c["date"].header})
+        h, bad_h, elapsed = _hour_numbers(t.cells[hcol.index].to_numpy(), hcol, t, rows)
+        local = (hcol.zone or c["date"].zone) != "utc"
+        if not elapsed and local and hcol.name == "hour_ending":
+            elapsed = _counts_elapsed(d, h, timezone)
+        hour = np.timedelta64(3600, "s").astype("timedelta64[ns]")
+        if elapsed:
+            # hours counted from the day's local midnight (25 on the long day): midnight placed on
+            # the clock, the hours added as elapsed time
+            mid, hour_nonexist, _ = localize(d, timezone) if local else (d, np.zeros(n, bool), None)
+            naive = mid + h
+            meta.notes.append(f"{fname}: '{hcol.header}' counts the hours of the clock-change days (1..23 or "
+                              "1..25): read as hours elapsed since the day's local midnight")
+        else:
+            wall = d + h - (hour if hcol.name == "hour_ending" else np.timedelta64(0, "ns"))
+            st, hour_nonexist, _ = localize(wall, timezone) if local else (wall, np.zeros(n, bool), None)
+            naive = st + hour
+        zone = "utc"
+        bad_t = bad_d | bad_h | np.isnat(naive)
+        tcol = hcol
+        meta.notes.append(f"{fname}: '{c['date'].header}' + '{hcol.header}' read as hour "
+                          + ("ending (1..24, 24 ends at midnight)" if hcol.name == "hour_ending"
+                             else "beginning (0..23)") + " on the site's clock")
     elif "date" in c and "clock" in c:
+        _refuse_hour_numbers(t.cells[c["clock"].index].to_numpy(), c["clock"], t)
         d, bad_d = parse_dates(t.cells[c["date"].index].to_numpy(), {**where, "row": None, "column": c["date"].header})
         h, bad_h = parse_clock(t.cells[c["clock"].index].to_numpy(), {**where, "row": None, "column": c["clock"].header})
         naive = d + h
@@ -256,30 +292,27 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     part["local_clock"] = np.full(n, zone != "utc")
     if zone == "utc":
         utc = naive
-        nonexist = np.zeros(n, bool)
+        nonexist = hour_nonexist if hour_nonexist is not None else np.zeros(n, bool)
     else:
         utc, nonexist, _ = localize(naive, timezone)
-    own_label = "end" if tcol.name == "interval_end" else "start" if tcol.name == "interval_start" else label
-    if own_label != label:
+    hours_given = tcol.name in ("hour_ending", "hour_beginning") and hour_nonexist is not None
+    own_label = ("end" if tcol.name == "interval_end" or hours_given or tcol.name == "hour_ending"
+                 else "start" if tcol.name in ("interval_start", "hour_beginning") else label)
+    if own_label != label and not hours_given:
         meta.notes.append(f"{fname}: header '{tcol.header}' says interval {own_label}; read as such "
                           f"(setting was '{label}')")
     part["label"] = np.full(n, own_label, dtype=object)
     drop = np.isnat(utc) | bad_t
     stray = _stray_times(utc, drop)
     drop |= stray
-    utc, inferred = _infer_times(utc, drop)
     raw_t = t.cells[tcol.index]
-    for i in np.flatnonzero(inferred)[:_MAX_RECORDED]:
-        meta.unreadable.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "column": tcol.header,
-                                 "value": str(raw_t.iat[i]),
-                                 "note": ("the time is more than a day off the slot its neighbours leave; "
-                                          if stray[i] else "the time cannot be read; ")
-                                 + f"time placed between its neighbours at {pd.Timestamp(utc[i]).isoformat()}Z"})
-    meta.unreadable_count += int(inferred.sum())
-    drop &= ~inferred
     part["time"] = utc
+    # a row whose time cannot be read is never placed by guess (a value enters a total only when
+    # its interval is known): it is left out and recorded, the quality step sees the missing
+    # interval (no result there, counted), and an index difference after it spans the whole gap
     for i in np.flatnonzero(drop)[:_MAX_RECORDED]:
         reason = ("the local time does not exist (skipped by the clock change)" if nonexist[i]
+                  else "the time is more than a day off the slot its neighbours leave (mistyped?)" if stray[i]
                   else "the time cannot be read")
         meta.dropped_rows.append({"file": fname, "sheet": t.sheet, "row": int(rows[i]), "reason": reason,
                                   "value": str(raw_t.iat[i])})
@@ -332,7 +365,7 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
                                  hint="write plain numbers in this column (the unit goes in the header), "
                                       "or map another column to it")
     _refuse_empty(empty_columns, c, t)
-    part["flag_unreadable"] = unreadable | inferred | after_dropped
+    part["flag_unreadable"] = unreadable | after_dropped
     part["flag_missing"] = missing
     if "status" in c:
         st = t.cells[c["status"].index].astype(str).str.strip()
@@ -349,6 +382,74 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
 #: |value| in SI above which a cell is not a reading (10^12 Pa, K, m3 or m3/s: beyond anything a
 #: gas meter logs); such a cell is unreadable, so that no total can overflow
 _MAX_MAGNITUDE = 1e12
+
+
+def _hour_numbers(cells, col, t: RawTable, rows):
+    """Hour numbers beside a date → (timedelta64 since midnight, bad, elapsed).
+
+    ``hour_ending``: 1..24, the hour ending at that clock hour (24 ends at midnight); a column that
+    reaches 25 counts hours elapsed since local midnight (``elapsed``). ``hour_beginning``: 0..23.
+    Cells written as a clock time ('01:00') are read as that time.
+    """
+    vals, empty, bad = to_numbers(cells)
+    out = np.full(len(vals), np.timedelta64("NaT"), dtype="timedelta64[ns]")
+    if bad.any():
+        clk, bad_c = parse_clock(np.asarray(cells, dtype=object)[bad], {"file": t.file, "column": col.header})
+        ok = ~bad_c & ~np.isnat(clk)
+        sub = np.flatnonzero(bad)
+        vals[sub[ok]] = clk[ok].astype("timedelta64[s]").astype(np.int64) / 3600.0
+        bad[sub[ok]] = False
+    lo, hi = (1, 25) if col.name == "hour_ending" else (0, 23)
+    with np.errstate(invalid="ignore"):
+        fine = np.isfinite(vals) & (vals == np.round(vals)) & (vals >= lo) & (vals <= hi)
+    wrong = np.isfinite(vals) & ~fine
+    if wrong.any():
+        i = int(np.flatnonzero(wrong)[0])
+        raise InputError(f"column '{col.header}' holds {vals[i]:g}, not a whole hour {lo}..{hi if hi != 25 else 24}",
+                         file=t.file, sheet=t.sheet, row=int(rows[i]), column=col.header,
+                         hint=("hour ending runs 1..24 (24 ends at midnight); hour beginning 0..23: "
+                               "rename the header or map it with --column "
+                               f"'{col.header}=hour_ending' or '{col.header}=hour_beginning'"))
+    elapsed = col.name == "hour_ending" and bool((vals[fine] == 25).any())
+    out[fine] = (vals[fine] * 3600.0).astype(np.int64).astype("timedelta64[s]").astype("timedelta64[ns]")
+    return out, bad | wrong, elapsed
+
+
+def _counts_elapsed(d: np.ndarray, h: np.ndarray, timezone: str) -> bool:
+    """Hour-ending numbers that count a clock-change day's hours 1..23 or 1..25 (elapsed since local
+    midnight) rather than naming clock hours (1, 2, 4 ... 24 in spring; 1, 2, 2, 3 ... 24 in autumn)."""
+    ok = ~np.isnat(d) & ~np.isnat(h)
+    if not ok.any():
+        return False
+    days = np.unique(d[ok].astype("datetime64[D]"))
+    if len(days) > 10_000:
+        return False
+    mid, _, _ = localize(days.astype("datetime64[ns]"), timezone)
+    nxt, _, _ = localize((days + np.timedelta64(1, "D")).astype("datetime64[ns]"), timezone)
+    length = ((nxt - mid) / np.timedelta64(1, "h")).astype(float)
+    hours = (h / np.timedelta64(1, "h")).astype(float)
+    for day, n in zip(days, length):
+        if np.isfinite(n) and n != 24:
+            got = np.sort(hours[ok & (d.astype("datetime64[D]") == day)])
+            if len(got) == int(n) and (got == np.arange(1, int(n) + 1)).all():
+                return True
+    return False
+
+
+def _refuse_hour_numbers(cells, col, t: RawTable) -> None:
+    """A time-of-day column of plain whole numbers up to 24 ('Hour': 0..23 or 1..24) does not say
+    whether hour 1 is the hour starting or ending at 01:00: refused with the fix."""
+    vals, empty, bad = to_numbers(cells)
+    got = np.isfinite(vals)
+    if not got.any() or bad.any():
+        return
+    v = vals[got]
+    if (v == np.round(v)).all() and v.max() > 1 and v.max() <= 25 and v.min() >= 0:
+        raise InputError(
+            f"column '{col.header}' holds hour numbers ({v.min():g}..{v.max():g}) but does not say whether an hour "
+            "number marks the hour's start or its end", file=t.file, sheet=t.sheet, row=t.header_row, column=col.header,
+            hint=f"rename the header 'Hour ending' (1..24, the usual gas-day layout) or 'Hour beginning' (0..23), "
+                 f"or map it: --column '{col.header}=hour_ending' or --column '{col.header}=hour_beginning'")
 
 
 class _RepeatedHeader(Exception):
@@ -440,9 +541,10 @@ def _drop_summary_rows(t: RawTable, c: dict, tcol, meta: LogMetadata) -> RawTabl
             v, _, _ = to_numbers(t.cells[c["volume_line"].index].to_numpy()[keep], t.decimal)
             last, rest = v[-1], v[:-1]
             if np.isfinite(last) and np.isfinite(rest).all() and last != 0:
-                tot = float(np.sum(rest))
-                if abs(last - tot) <= 1e-9 * max(abs(tot), 1e-300) or abs(last - tot) < 0.05 * 10 ** -_decimals(
-                        t.cells[c["volume_line"].index].iat[keep[-1]]):
+                with np.errstate(over="ignore", invalid="ignore"):
+                    tot = float(np.sum(rest))  # may overflow to inf on absurd cells: then no match
+                if np.isfinite(tot) and (abs(last - tot) <= 1e-9 * max(abs(tot), 1e-300) or abs(last - tot) < 0.05 * 10 ** -_decimals(
+                        t.cells[c["volume_line"].index].iat[keep[-1]])):
                     drop[keep[-1]] = True
                     why[keep[-1]] = "summary row (its volume is the sum of all the rows above)"
     if not drop.any():
@@ -491,7 +593,7 @@ def _refuse_empty(empty_columns, c, t: RawTable) -> None:
 def _stray_times(utc: np.ndarray, bad: np.ndarray) -> np.ndarray:
     """Rows whose time is more than a day off the one slot their neighbours leave (a mistyped year,
     month or day). They are treated as unreadable times, so that one typing error neither inserts
-    months of gap rows nor reorders the log; :func:`_infer_times` then places them in that slot.
+    months of gap rows nor reorders the log; they are left out and recorded like unreadable times.
     """
     n = len(utc)
     out = np.zeros(n, bool)
@@ -512,41 +614,14 @@ def _stray_times(utc: np.ndarray, bad: np.ndarray) -> np.ndarray:
     return out
 
 
-def _infer_times(utc: np.ndarray, bad: np.ndarray):
-    """Place rows with an unreadable time where their neighbours leave exactly that many slots.
-
-    A run of k such rows between readable rows at t_a and t_b (file order) is placed at
-    t_a + j (t_b - t_a)/(k + 1) when that step equals the log's median spacing.
-    Returns (times, inferred mask).
-    """
-    out = utc.copy()
-    inferred = np.zeros(len(utc), bool)
-    if not bad.any() or bad.all():
-        return out, inferred
-    good_t = np.sort(utc[~bad].astype(np.int64))
-    d = np.diff(good_t)
-    d = d[d > 0]
-    if not len(d):
-        return out, inferred
-    nominal = int(np.median(d))
-    edges = np.diff(np.concatenate([[0], bad.astype(np.int8), [0]]))
-    for a, b in zip(np.flatnonzero(edges == 1), np.flatnonzero(edges == -1)):  # runs of bad rows (few)
-        if a == 0 or b >= len(utc):
-            continue
-        ta, tb = int(utc[a - 1].astype(np.int64)), int(utc[b].astype(np.int64))
-        k = b - a
-        if abs((tb - ta) - (k + 1) * nominal) <= 10**9:
-            slots = ta + nominal * np.arange(1, k + 1)
-            if np.isin(slots, good_t).any():
-                continue  # the slots are taken (rows out of order): cannot tell where these belong
-            out[a:b] = slots.astype("datetime64[ns]")
-            inferred[a:b] = True
-    return out, inferred
-
 def _assemble(tables, timezone, interval_label, column_map, register_digits, opening_index=None,
-              timezone_given=True):
+              timezone_given=True, overlap=None):
     if interval_label not in ("end", "start"):
         raise SettingsError(f"interval label '{interval_label}' is not 'end' or 'start'")
+    if overlap not in (None, "later", "earlier"):
+        raise SettingsError(f"overlap '{overlap}' is not 'later' or 'earlier'",
+                            hint="--overlap later keeps the later file's rows where files overlap, "
+                                 "--overlap earlier the earlier file's (by the order of the files given)")
     try:
         from zoneinfo import ZoneInfo
 
@@ -582,7 +657,7 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits, ope
             raise SettingsError("column map names header(s) not found in any log file: " + ", ".join(unknown),
                                 hint="headers found: " + ", ".join(dict.fromkeys(str(h) for t in tables for h in t.header if str(h).strip())))
     return join_parts(parts, tables, meta, interval_label, column_map, register_digits,
-                      opening_index=opening_index, timezone_given=timezone_given)
+                      opening_index=opening_index, timezone_given=timezone_given, overlap=overlap)
 
 
 def file_sha256(path) -> str:

@@ -5,7 +5,9 @@ Accepted cells: spreadsheet datetimes; spreadsheet serial numbers (days since 18
 offset (``2026-10-01 07:00``, ``2026-10-01T07:00:00+02:00``, ``...Z``); ``dd.mm.yyyy HH:MM``;
 ``dd/mm/yyyy`` or ``mm/dd/yyyy`` (decided from the file: the order under which the dates read
 as a forward-running series wins; refused when both read equally well); 12-hour clocks with
-AM/PM; separate date and time-of-day columns (``24:00`` is the end of the day).
+AM/PM; separate date and time-of-day columns. ``24:00`` (or ``24:00:00``) is midnight ending that
+day, in a date-time cell (``2026-06-01 24:00`` = ``2026-06-02 00:00``) as in a time-of-day cell:
+gas-day data commonly write the last hour so (common practice).
 
 Local clock times are placed in an IANA time zone. On the autumn change the repeated hour is
 resolved by order: the first occurrence of a repeated wall time is read as summer time, the
@@ -108,6 +110,14 @@ def parse_datetimes(values, where: dict, *, what: str = "time"):
     is_utc : bool                          the text carried offsets (already converted to UTC)
     """
     cells = np.asarray(values, dtype=object)
+    end_of_day = _end_of_day(cells)
+    if end_of_day is not None:
+        cells = cells.copy()
+        cells[end_of_day] = [_END_OF_DAY.sub(r"00:00\1\2", c) for c in cells[end_of_day]]
+        out, bad, is_utc = parse_datetimes(cells, where, what=what)
+        ok = end_of_day & ~np.isnat(out)
+        out[ok] = out[ok] + np.timedelta64(1, "D")
+        return out, bad, is_utc
     exact = _exact_iso(cells)
     if exact is not None:
         return exact, np.zeros(len(cells), bool), False
@@ -171,6 +181,25 @@ def parse_datetimes(values, where: dict, *, what: str = "time"):
     other = (kinds == "x") | (kinds == "b") | (kinds == "c") | (kinds == "e")
     bad |= other & ~pd.isna(s).to_numpy()
     return out, bad, is_utc
+
+
+#: a date-time text ending in 24:00 (or 24:00:00), the midnight that ends its date
+_END_OF_DAY = re.compile(r"(?<=[ T])24:00(:00)?(\s*(?:[+-]\d{2}:?\d{2}|Z)?\s*)$")
+
+
+def _end_of_day(cells: np.ndarray):
+    """Mask of text cells written as 'DATE 24:00[:00]', or None when there is none."""
+    if not len(cells):
+        return None
+    kind = pd.api.types.infer_dtype(cells, skipna=True)
+    if kind == "string":
+        if "24:00" not in "\n".join(cells.tolist()):
+            return None
+    elif kind not in ("mixed", "mixed-integer"):
+        return None
+    mask = np.fromiter((isinstance(c, str) and "24:00" in c and _END_OF_DAY.search(c) is not None for c in cells),
+                       bool, len(cells))
+    return mask if mask.any() else None
 
 
 _NS_RANGE = (np.datetime64("1678-01-01T00:00:00", "s"), np.datetime64("2262-01-01T00:00:00", "s"))

@@ -29,8 +29,9 @@ from . import records as R
 #: totals compared between versions, and their labels
 COMPARED_TOTALS = ("uncorrected_volume_m3", "base_volume_m3", "ideal_gas_base_volume_m3", "energy_MJ", "mass_kg",
                    "intervals")
-#: settings that are not settings of the month (where the store is, where each setting came from)
-_NOT_SETTINGS = ("store", "sources")
+#: settings that are not settings of the meter (where the store is, where each setting came from, which
+#: gas month was selected: it differs every month by nature)
+_NOT_SETTINGS = ("store", "sources", "month")
 
 
 @dataclass
@@ -62,7 +63,7 @@ def closing_month(result) -> str:
     if len(order) > 1 and hours[order[1]] > 72.0:
         others = ", ".join(str(months.index[i]) for i in order[1:])
         raise StoreError(f"the log covers more than one gas month ({main} and {others}): a closing is one "
-                         "gas month", hint="give the logs of one gas month at a time")
+                         "gas month", hint=f"close one gas month with --month {main} (or the site key month)")
     return main
 
 

@@ -74,6 +74,7 @@ def trend(df: pd.DataFrame) -> dict:
            "last_month": lat["month"].iloc[-1] if len(lat) else None,
            "base_volume_pct_per_month": None, "ideal_gas_error_points_per_month": None}
     if len(lat) < 3:
+        out["note"] = f"a trend needs three or more months; {len(lat)} stored"
         return out
     x = np.array([_month_number(m) for m in lat["month"]], dtype=float)
     for col, key, relative in (("base_volume_m3", "base_volume_pct_per_month", True),
@@ -81,12 +82,13 @@ def trend(df: pd.DataFrame) -> dict:
         y = pd.to_numeric(lat[col], errors="coerce").to_numpy(float)
         ok = np.isfinite(y)
         if ok.sum() < 3:
+            out["note"] = f"a trend needs three or more months with a value; {int(ok.sum())} have one"
             continue
         slope = float(np.polyfit(x[ok], y[ok], 1)[0])
         if relative:
             mean = float(np.mean(y[ok]))
             slope = 100.0 * slope / mean if mean else None
-        out[key] = slope
+        out[key] = slope if slope is not None and np.isfinite(slope) else None
     return out
 
 
@@ -106,6 +108,8 @@ def entry_json(row) -> dict:
             "corrector_deviation_pct": num(row["corrector_deviation_pct"]),
             "expanded_uncertainty_pct": num(row["expanded_uncertainty_pct"]),
             "base_volume_change_from_previous_month_pct": num(row["base_volume_change_pct"]),
+            **({} if num(row["base_volume_change_pct"]) is not None else
+               {"base_volume_change_note": "no previous month of this meter in the store, or no base volume"}),
             "differences_from_previous_version": diffs or None}
 
 

@@ -27,6 +27,7 @@ import json
 import math
 from pathlib import Path
 
+from .. import vocabulary as V
 from ..vocabulary import flags_breakdown
 from .atomic import check_target, neutralise_cell, write_bytes, write_text
 from .summary import CAUTION, _clean
@@ -34,7 +35,7 @@ from .summary import CAUTION, _clean
 #: columns of the fleet table (CSV, Parquet, JSON rows), in order: SI, the unit in the name
 FLEET_COLUMNS = (
     "meter_folder", "meter", "site", "status", "period_start", "period_end", "method",
-    "base_preset", "base_pressure_Pa", "base_temperature_K",
+    "base_preset", "base_pressure_Pa", "base_temperature_K", "gas_month", "combustion_temperature_K",
     "intervals", "flagged_intervals", "intervals_without_result", "estimated_volume_share_pct",
     "uncorrected_volume_m3", "base_volume_m3", "ideal_gas_base_volume_m3", "ideal_gas_error_pct", "energy_MJ",
     "expanded_uncertainty_pct", "expanded_energy_uncertainty_pct", "monte_carlo_check", "monte_carlo_draws",
@@ -106,7 +107,11 @@ def fleet_row(meter_folder: str, summary: dict, written: dict | None = None, out
     cc = summary.get("corrector_check")
     flags = summary.get("flags") or {}
     row = dict.fromkeys(FLEET_COLUMNS)
+    gm = summary.get("gas_month") or {}
+    months = sorted({str(d)[:7] for d in days if d})
+    gas_month = gm.get("month") or (months[0] if len(months) == 1 else f"{months[0]}_to_{months[-1]}" if months else None)
     row.update({
+        "gas_month": gas_month, "combustion_temperature_K": summary.get("combustion_reference_temperature_K"),
         "meter_folder": meter_folder, "meter": summary.get("meter"), "site": summary.get("site") or "",
         "status": "ok", "period_start": days[0] if days else None, "period_end": days[-1] if days else None,
         "method": (summary.get("method") or {}).get("name"),
@@ -141,6 +146,43 @@ def fleet_row(meter_folder: str, summary: dict, written: dict | None = None, out
         folder = Path(written["summary"]).parent
         row["outputs"] = folder.name if out_dir is None else _relative(folder, out_dir)
     return row
+
+
+#: the totals of a fleet table: volumes and energy of corrected meters (SI)
+TOTAL_COLUMNS = ("uncorrected_volume_m3", "base_volume_m3", "ideal_gas_base_volume_m3", "energy_MJ")
+
+
+def _group_key(row: dict) -> tuple:
+    def r(v):
+        return round(float(v), 6) if _finite(v) else None
+    return (r(row.get("base_pressure_Pa")), r(row.get("base_temperature_K")), row.get("gas_month"),
+            r(row.get("combustion_temperature_K")))
+
+
+def fleet_totals(rows) -> list[dict]:
+    """Totals of the corrected meters, one per group of the same base conditions, gas month and
+    energy reference (combustion temperature): volumes at different base conditions or of
+    different months are never added. Groups in the order their first meter appears.
+
+    Returns a list of dicts: base_pressure_Pa, base_temperature_K, base_preset, gas_month,
+    combustion_temperature_K, meters (count), meter_folders, and each of TOTAL_COLUMNS (None when a
+    meter of the group lacks that value).
+    """
+    groups: dict = {}
+    for r in rows:
+        if r.get("status") != "ok":
+            continue
+        groups.setdefault(_group_key(r), []).append(r)
+    out = []
+    for (pb, tb, month, tc), members in groups.items():
+        g = {"base_pressure_Pa": pb, "base_temperature_K": tb, "base_preset": members[0].get("base_preset") or "",
+             "gas_month": month, "combustion_temperature_K": tc, "meters": len(members),
+             "meter_folders": [m.get("meter_folder") for m in members]}
+        for c in TOTAL_COLUMNS:
+            vals = [m.get(c) for m in members]
+            g[c] = math.fsum(vals) if vals and all(_finite(v) for v in vals) else None
+        out.append(g)
+    return out
 
 
 def _relative(folder: Path, out_dir) -> str:
@@ -230,7 +272,7 @@ def write_fleet_outputs(rows, out_dir, *, overwrite: bool = False, run: dict | N
     if pq is not None:
         written["parquet"] = write_bytes(targets["parquet"], pq, overwrite=overwrite)
     written["workbook"] = write_bytes(targets["workbook"], xlsx, overwrite=overwrite)
-    written["json"] = write_text(targets["json"], json.dumps(_clean(doc), indent=2, sort_keys=True) + "\n",
+    written["json"] = write_text(targets["json"], json.dumps(_clean(doc), indent=2, sort_keys=True, allow_nan=False) + "\n",
                                  overwrite=overwrite)
     return written
 
@@ -289,6 +331,7 @@ def _columns(units) -> list:
         ("Last gas day", "period_end", "text", None, 12),
         ("Z method", "method", "text", None, 14),
         ("Base preset", "base_preset", "text", None, 14),
+        (V.GAS_MONTH, "gas_month", "text", None, 12),
         (f"Base pressure [{pr}]", conv("pressure", "base_pressure_Pa"), "num", "#,##0.000", 14),
         (f"Base temperature [{te}]", conv("temperature", "base_temperature_K"), "num", "0.00", 14),
         ("Intervals", "intervals", "num", "#,##0", 10),
@@ -364,17 +407,33 @@ def fleet_workbook_bytes(rows, run: dict | None = None) -> bytes:
                 ws.write_string(i, j, neutralise_cell(text), f)
             widths[j] = max(widths[j], min(cap, len(text) + 2))
     last = header_row + len(rows)
-    # fleet totals of the corrected meters (values, not formulas: the same in every viewer)
-    if ok:
-        trow = last + 2
-        ws.write_string(trow, 0, f"Total of the {len(ok)} corrected meter(s)", bold)
+    # fleet totals of the corrected meters (values, not formulas: the same in every viewer), one per
+    # group of the same base conditions, gas month and energy reference: never a sum across them
+    groups = fleet_totals(rows)
+    trow = last + 2
+    if len(groups) > 1:
+        ws.write_string(trow, 0, f"The corrected meters are at different base conditions, gas months or energy "
+                                 f"references: {len(groups)} totals, one per group; volumes of different groups "
+                                 "are not added.", bold)
+        trow += 1
+    pr_u, te_u = units["pressure"][0], units["temperature"][0]
+    pr_l, te_l = _label("pressure", units["pressure"][1]), _label("temperature", units["temperature"][1])
+    for g in groups:
+        base = (f"{pr_u.from_si(g['base_pressure_Pa']):.6g} {pr_l}, {te_u.from_si(g['base_temperature_K']):.6g} {te_l}"
+                if _finite(g["base_pressure_Pa"]) and _finite(g["base_temperature_K"]) else "base unknown")
+        comb = (f", combustion {g['combustion_temperature_K'] - 273.15:g} °C"
+                if _finite(g["combustion_temperature_K"]) else "")
+        ws.write_string(trow, 0, neutralise_cell(f"Total of the {g['meters']} corrected meter(s) at {base}, gas month "
+                                                 f"{g['gas_month'] or '?'}{comb}"), bold)
+        members = [r for r in rows if r.get("status") == "ok" and r.get("meter_folder") in g["meter_folders"]]
         for j, (name, key, kind, fmt, cap) in enumerate(cols):
             if kind == "num" and callable(key) and ("volume" in name.lower() or name.startswith("Energy")):
-                vals = [key(r) for r in ok]
+                vals = [key(r) for r in members]
                 if vals and all(_finite(v) for v in vals):
                     total = math.fsum(vals)
                     ws.write_number(trow, j, total, numfmt(fmt, True))
                     widths[j] = max(widths[j], min(cap + 4, len(format(total, ",.0f")) + 3))
+        trow += 1
     for j, w in enumerate(widths):
         ws.set_column(j, j, w)
     ws.set_row(header_row, 45)
@@ -386,7 +445,7 @@ def fleet_workbook_bytes(rows, run: dict | None = None) -> bytes:
     ws.repeat_rows(header_row)
     ws.set_margins(left=0.4, right=0.4, top=0.5, bottom=0.6)
     ws.set_footer("&L&8meterfix fleet summary&R&8page &P of &N")
-    ws.print_area(0, 0, max(last + 2, header_row + 1), len(cols) - 1)
+    ws.print_area(0, 0, max(trow, header_row + 1), len(cols) - 1)
 
     notes = wb.add_worksheet("Notes")
     lines = [("meterfix fleet summary", title), ("", None), (CAUTION, wrap), ("", None)]
@@ -415,7 +474,9 @@ def fleet_workbook_bytes(rows, run: dict | None = None) -> bytes:
                "each cause found in the evidence with its share of our figure, the rest 'not explained'.", wrap),
               ("Site corrector finding: the misconfiguration that explains the site corrector's volumes "
                "within their uncertainty, or that none was found.", wrap),
-              ("Attempts: more than 1 when the meter was run again after the worker running it was lost.", wrap)]
+              ("Attempts: more than 1 when the meter was run again after the worker running it was lost.", wrap),
+              ("Totals: over the corrected meters of the same base conditions, gas month and combustion reference "
+               "temperature only; a fleet of several has one total per group, each naming its base and month.", wrap)]
     for i, (text, f) in enumerate(lines):
         if text:
             ws_f = f or top

@@ -94,7 +94,9 @@ def build_manifest(result, run: dict | None, manifest_path, *, outputs: dict | N
 
 
 def manifest_json(man: dict) -> str:
-    return json.dumps(man, indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+    from .summary import json_safe
+
+    return json.dumps(json_safe(man), indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
 
 
 # ---------------------------------------------------------------------------------------------

@@ -18,8 +18,16 @@ CAUTION = (
 )
 
 
+def json_safe(obj):
+    """JSON-safe, deterministic: NaN/inf → None, numpy scalars → Python, sorted dict keys later.
+
+    Every JSON output of meterfix goes through this (and ``json.dumps(..., allow_nan=False)``):
+    JSON has no NaN or Infinity, so a value that is not a finite number is written as null.
+    """
+    return _clean(obj)
+
+
 def _clean(obj):
-    """JSON-safe, deterministic: NaN/inf → None, numpy scalars → Python, sorted dict keys later."""
     if isinstance(obj, dict):
         return {str(k): _clean(v) for k, v in obj.items()}
     if isinstance(obj, (list, tuple)):
@@ -85,6 +93,9 @@ def build_summary(result) -> dict:
         "combustion_reference_temperature_K": s.combustion_temperature,
         "gas_day": {"start_hour": s.gas_day_start, "timezone": s.timezone},
         "totals": t,
+        # the gas month of the run: bounds [UTC], hours in it on the site's clock, hours logged,
+        # coverage [%], intervals left out before and after (null when the log spans several months)
+        "gas_month": getattr(result, "gas_month", None),
         "average_correction": result.average_correction,
         "analyses": [{"number": i + 1, "effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,
                       "heating_value_J_per_m3": a.heating_value, "heating_value_source": a.heating_value_source,
@@ -121,4 +132,4 @@ def build_summary(result) -> dict:
 def summary_json(result_or_summary) -> str:
     """Deterministic JSON text (sorted keys, fixed float repr)."""
     d = result_or_summary if isinstance(result_or_summary, dict) else build_summary(result_or_summary)
-    return json.dumps(_clean(d), indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+    return json.dumps(_clean(d), indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"

@@ -219,6 +219,11 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     r = _long_row(ws, r, "Energy standard", m.get("energy_standard") or "")
     r = _row(ws, r, "Combustion reference temperature", s.combustion_temperature - 273.15, "°C", "0.00")
     r = _row(ws, r, "Gas day", f"starts {s.gas_day_start:02d}:00 local time", s.timezone)
+    gm = getattr(result, "gas_month", None)
+    if gm:
+        left = gm["intervals_before_month"] + gm["intervals_after_month"]
+        r = _long_row(ws, r, V.GAS_MONTH, f"{gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
+                      f"logged ({gm['coverage_pct']:.4g} %)" + (f"; {left} interval(s) outside it left out" if left else ""))
     r = _meter_kind_rows(ws, r, result, du)
     if result.reconciliation is not None:
         rt = result.reconciliation.totals

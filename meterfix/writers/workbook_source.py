@@ -17,10 +17,11 @@ from .source_record import log_record
 #: problem kind → (label, what the run did)
 PROBLEM_KINDS = (
     ("unreadable_cells", "unreadable cell",
-     "a number that cannot be read counts as empty and its interval is flagged 'unreadable cell'; a time that "
-     "cannot be read is placed between its neighbours when they leave exactly that slot, else its row is left out"),
+     "a number that cannot be read counts as empty and its interval is flagged 'unreadable cell'; a row whose time "
+     "cannot be read is left out (never placed by guess)"),
     ("dropped_rows", "row left out",
-     "the row is not used: its time cannot be read, or it does not exist on the local clock (spring change)"),
+     "the row is not used: its time cannot be read, is more than a day off its neighbours' slot, or does not "
+     "exist on the local clock (spring change); its interval has no result unless substituted"),
     ("differing_duplicates", "differing duplicate",
      "two rows for the same interval end with different values: the first (file order, then row) is kept and "
      "flagged 'duplicate'"),
