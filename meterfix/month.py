@@ -53,7 +53,12 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
         step("reconciling the invoice", 0.85)
         result.inputs.append(file_record(invoice, "invoice"))
         result.reconciliation = RC.reconcile_invoice(result, _check_file(invoice))
-    if "volume_corrected_site" in frame.columns:
+    kind = (result.flow_meter or {}).get("kind")
+    if "volume_corrected_site" in frame.columns and kind in ("orifice", "coriolis"):
+        # the causes it tries are those of a volume meter's PTZ conversion (checks/corrector_models.py)
+        result.warnings.append(f"the site's corrected volume is not checked for a {kind} meter: the corrector check "
+                               "models the conversion of a volume meter's reading")
+    elif "volume_corrected_site" in frame.columns:
         from .checks import corrector as CC
 
         step("checking the site corrector", 0.9)

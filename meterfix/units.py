@@ -21,7 +21,8 @@ from .constants import ATM, BTU_IT, FOOT, G_N, PSI, RANKINE, T0
 from .errors import UnitError
 
 KINDS = ("pressure", "temperature", "volume", "flow", "energy", "heating_value", "length",
-         "density", "molar_energy", "fraction", "time")
+         "density", "molar_energy", "fraction", "time", "pressure_differential", "mass", "mass_flow",
+         "speed", "viscosity", "expansion_coefficient", "root_pressure_differential")
 
 _FT3 = FOOT**3  # 0.028316846592 m3, exact
 
@@ -83,8 +84,34 @@ _ENERGY = {
     # and the US therm 1.054804e8 J, the latter available as therm_us)
     "therm": 1e5 * BTU_IT, "therm_us": 1.054804e8, "Dth": 1e6 * BTU_IT, "kcal": 4186.8,
 }
-_LENGTH = {"m": 1.0, "km": 1e3, "ft": FOOT, "mm": 1e-3}
+_LENGTH = {"m": 1.0, "km": 1e3, "ft": FOOT, "mm": 1e-3, "cm": 1e-2, "in": 0.0254}  # inch: NIST SP 811, exact
 _DENSITY = {"kg/m3": 1.0, "g/L": 1.0, "lb/ft3": 0.45359237 / _FT3}
+#: differential pressure (orifice plates): an inch of water in a differential column is the inch of
+#: water at 60 degF of gas-flow practice, 248.84 Pa (NIST SP 811 appendix B.8: inch of water (60 degF)
+#: = 2.4884 E+02 Pa); at 39.2 degF (4 degC) 249.082 Pa (the same table)
+_DIFFERENTIAL = {"Pa": 1.0, "hPa": 100.0, "kPa": 1e3, "mbar": 100.0, "bar": 1e5, "psi": PSI,
+                 "inH2O": 248.84, "inH2O(4degC)": 249.082, "mmH2O": 1000.0 * G_N * 0.001}
+_DIFFERENTIAL_CI = {k.lower(): k for k in _DIFFERENTIAL}
+_DIFFERENTIAL_CI.update({
+    "in h2o": "inH2O", "inwc": "inH2O", "in wc": "inH2O", '"h2o': "inH2O", "inh2o (60 degf)": "inH2O",
+    "inh2o(60degf)": "inH2O", "inh2o @ 60 degf": "inH2O", "inh2o@60f": "inH2O", "inh2o (60 °f)": "inH2O",
+    "inh2o(60°f)": "inH2O", "in h2o (60 °f)": "inH2O", "inh2o (4 degc)": "inH2O(4degC)", "inh2o (4 °c)": "inH2O(4degC)",
+    "inh2o (39.2 degf)": "inH2O(4degC)", "mm h2o": "mmH2O", "millibar": "mbar", "mb": "mbar", "pascal": "Pa",
+    "mbard": "mbar", "mbar(d)": "mbar", "kpad": "kPa", "kpa(d)": "kPa", "psid": "psi"})
+#: mass (the avoirdupois pound, NIST SP 811: 0.45359237 kg exactly; the metric tonne)
+_MASS = {"kg": 1.0, "g": 1e-3, "t": 1e3, "lb": 0.45359237, "klb": 453.59237}
+_MASS_CI = {k.lower(): k for k in _MASS}
+_MASS_CI.update({"tonne": "t", "tonnes": "t", "lbs": "lb", "lbm": "lb", "kilogram": "kg", "kgs": "kg"})
+_SPEED = {"m/s": 1.0, "ft/s": FOOT}
+_SPEED_CI = {"m/s": "m/s", "ms-1": "m/s", "m s-1": "m/s", "mps": "m/s", "ft/s": "ft/s", "fps": "ft/s",
+             "ft s-1": "ft/s"}
+_VISCOSITY = {"Pa s": 1.0, "mPa s": 1e-3, "uPa s": 1e-6, "µPa s": 1e-6, "cP": 1e-3, "P": 0.1}
+_VISCOSITY_CI = {k.lower(): k for k in _VISCOSITY}
+_VISCOSITY_CI.update({"pa.s": "Pa s", "pas": "Pa s", "pa*s": "Pa s", "mpa.s": "mPa s", "cp": "cP",
+                      "centipoise": "cP", "upa.s": "uPa s", "µpa.s": "uPa s"})
+_EXPANSION = {"1/K": 1.0, "1/degC": 1.0, "1/degF": 1.8}
+_EXPANSION_CI = {"1/k": "1/K", "/k": "1/K", "k-1": "1/K", "1/degc": "1/degC", "/degc": "1/degC", "1/°c": "1/degC",
+                 "/°c": "1/degC", "1/degf": "1/degF", "/degf": "1/degF", "1/°f": "1/degF", "/°f": "1/degF"}
 
 # aliases (lower-case keys) → canonical
 _ALIASES_TEMPERATURE = {
@@ -165,6 +192,20 @@ def accepted_units(kind: str) -> list[str]:
         return list(_DENSITY)
     if kind == "time":
         return list(_TIME)
+    if kind == "pressure_differential":
+        return list(_DIFFERENTIAL)
+    if kind == "mass":
+        return list(_MASS)
+    if kind == "mass_flow":
+        return [f"{m}/{t}" for m in ("kg", "t", "lb") for t in ("s", "h", "d")]
+    if kind == "speed":
+        return list(_SPEED)
+    if kind == "viscosity":
+        return list(_VISCOSITY)
+    if kind == "expansion_coefficient":
+        return list(_EXPANSION)
+    if kind == "root_pressure_differential":
+        return [f"sqrt({u})" for u in _DIFFERENTIAL] + ["mbar^0.5", "√mbar"]
     if kind == "fraction":
         return ["%", "mol%", "fraction", "ppm"]
     raise ValueError(f"unknown unit kind {kind!r}; known kinds: {', '.join(KINDS)}")
@@ -235,7 +276,8 @@ def parse_unit(text: str, kind: str) -> Unit:
             raise _unknown(text, kind) from None
         return Unit(t, "heating_value", e.scale / v.scale, basis=v.basis)
     if kind == "length":
-        key = {k.lower(): k for k in _LENGTH}.get(low.replace("feet", "ft").replace("metres", "m").replace("meters", "m"))
+        key = {k.lower(): k for k in _LENGTH}.get({"inch": "in", "inches": "in", '"': "in"}.get(low, low).replace(
+            "feet", "ft").replace("metres", "m").replace("meters", "m"))
         if key is None:
             raise _unknown(text, kind)
         return Unit(t, "length", _LENGTH[key])
@@ -249,6 +291,32 @@ def parse_unit(text: str, kind: str) -> Unit:
         if key is None:
             raise _unknown(text, kind)
         return Unit(t, "time", _TIME[key])
+    if kind in _SIMPLE_KINDS:
+        table, ci = _SIMPLE_KINDS[kind]
+        key = ci.get(re.sub(r"\s+", " ", low.replace("·", " ")))
+        if key is None:
+            raise _unknown(text, kind)
+        return Unit(t, kind, table[key])
+    if kind == "root_pressure_differential":
+        # the interval mean of sqrt(dp) (a flow computer's 'extension'): sqrt(mbar), mbar^0.5, √mbar ...
+        m = re.match(r"^(?:sqrt\s*\(\s*(.+?)\s*\)|√\s*\(?\s*(.+?)\s*\)?|(.+?)\s*\^\s*0?\.5)$", t, re.I)
+        if not m:
+            raise _unknown(text, kind)
+        try:
+            du = parse_unit(next(g for g in m.groups() if g), "pressure_differential")
+        except UnitError:
+            raise _unknown(text, kind) from None
+        return Unit(t, kind, float(np.sqrt(du.scale)))
+    if kind == "mass_flow":
+        m = re.match(r"^(.+?)\s*(?:/|per\s+)\s*(.+)$", t, re.I)
+        if not m:
+            raise _unknown(text, kind)
+        try:
+            mu = parse_unit(m.group(1), "mass")
+            tu = parse_unit(m.group(2), "time")
+        except UnitError:
+            raise _unknown(text, kind) from None
+        return Unit(t, "mass_flow", mu.scale / tu.scale)
     if kind == "fraction":
         if low in ("%", "mol%", "mol %", "mole %", "mole%", "percent", "mol-%"):
             return Unit(t, "fraction", 0.01)
@@ -259,6 +327,10 @@ def parse_unit(text: str, kind: str) -> Unit:
         raise _unknown(text, kind)
     raise ValueError(f"unknown unit kind {kind!r}; known kinds: {', '.join(KINDS)}")
 
+
+_SIMPLE_KINDS = {"pressure_differential": (_DIFFERENTIAL, _DIFFERENTIAL_CI), "mass": (_MASS, _MASS_CI),
+                 "speed": (_SPEED, _SPEED_CI), "viscosity": (_VISCOSITY, _VISCOSITY_CI),
+                 "expansion_coefficient": (_EXPANSION, _EXPANSION_CI)}
 
 _FLOW_SHORT = {
     # (volume unit, time unit) for the compact forms of the trade
@@ -338,7 +410,10 @@ def parse_quantity(text: str, kind: str) -> Quantity:
 def _example(kind: str) -> str:
     return {"pressure": "14.73 psia", "temperature": "60 degF", "volume": "1000 m3",
             "flow": "250 m3/h", "energy": "100 MJ", "heating_value": "38.5 MJ/m3",
-            "length": "180 m", "density": "0.8 kg/m3", "time": "1 h", "fraction": "2 %"}.get(kind, "1")
+            "length": "180 m", "density": "0.8 kg/m3", "time": "1 h", "fraction": "2 %",
+            "pressure_differential": "250 mbar", "mass": "1200 kg", "mass_flow": "900 kg/h", "speed": "410 m/s",
+            "viscosity": "1.1e-5 Pa s", "expansion_coefficient": "11.6e-6 1/K",
+            "root_pressure_differential": "11.2 sqrt(mbar)"}.get(kind, "1")
 
 
 def to_absolute(pressure, unit: Unit, atmospheric=None, *, unmarked: str = "absolute",

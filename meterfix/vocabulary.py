@@ -34,6 +34,8 @@ QUANTITY_LABELS = {
     "volume_line": UNCORRECTED_VOLUME, "volume_base": BASE_VOLUME, "volume_base_ideal": BASE_VOLUME_IDEAL,
     "energy": ENERGY, "mass": MASS, "pressure_line": LINE_PRESSURE, "pressure_atm": ATMOSPHERIC_PRESSURE,
     "temperature_line": LINE_TEMPERATURE, "heating_value": HEATING_VALUE, "ideal_gas_error_pct": IDEAL_GAS_ERROR,
+    "pressure_differential": "Differential pressure", "speed_of_sound": "Speed of sound",
+    "meter_error": "Meter error",
 }
 
 # --- flags: key (column flag_<key>) -> (plain words, what it means and what the run did) ------------
@@ -63,6 +65,18 @@ FLAGS = {
     "estimated": ("estimated", "a value substituted by the chosen policy (recorded in the edits)"),
     "z_outside_range": ("Z outside method range", "line state outside the Z method's range"),
     "no_result": ("no result", "volume but no base volume (missing pressure or temperature, or no Z)"),
+    # meter kinds (meterfix.engine.meter_kinds)
+    "orifice_reynolds": ("Re_D below ISO 5167-2 limit", "the pipe Reynolds number is below ISO 5167-2:2003's "
+                                                        "limit for the taps and beta (5.3.1); computed, flagged"),
+    "orifice_pressure_ratio": ("dp/p1 beyond ISO 5167-2 limit", "p2/p1 < 0.75: outside the expansibility "
+                                                                "equation's range (ISO 5167-2:2003, 5.3.2.2)"),
+    "orifice_beta": ("beta outside ISO 5167-2", "d/D at the flowing temperature outside 0.1-0.75"),
+    "negative_differential_pressure": ("negative differential pressure", "dp below zero: no flow counted"),
+    "negative_mass": ("negative mass", "a negative interval mass: left out unless the meter is bidirectional"),
+    "outside_error_curve": ("outside the error curve", "flow rate outside the calibrated range: the end "
+                                                       "value of the curve was held"),
+    "speed_of_sound": ("speed of sound off", "the meter's speed of sound differs from the analysis' by more than "
+                                             "speed_of_sound_threshold"),
 }
 
 

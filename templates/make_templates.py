@@ -38,6 +38,17 @@ LOG_COLUMNS = [
     ("Uncorrected volume [m3]", "yes (or one of the two below)", "m3, ft3, Mcf, L",
      "Volume through the meter in the interval at line conditions (not corrected). Instead of it a log may "
      "carry 'Meter index [m3]' (the cumulative register reading) or 'Flow rate [m3/h]'.", "1150.4"),
+    ("Differential pressure [mbar]", "orifice meters (instead of a volume)", "mbar, kPa, Pa, inH2O (60 degF)",
+     "Orifice plates: the interval's mean differential pressure across the plate. The site file's [flow_meter] "
+     "table says kind = \"orifice\" and gives the pipe and bore diameters. Averaging dp instead of its square root "
+     "overstates the flow: the month's summary states how much.", "125.4"),
+    ("Mass [kg]", "Coriolis meters (instead of a volume)", "kg, t, lb; or 'Mass flow [kg/h]' (kg/h, t/h, lb/h)",
+     "Coriolis meters: the mass through the meter in the interval ([flow_meter] kind = \"coriolis\"). The base "
+     "volume is the mass over the analysis' base density.", "2875.2"),
+    ("Speed of sound [m/s]", "no", "m/s, ft/s",
+     "Ultrasonic meters: the meter's mean speed of sound; compared with the analysis' at line pressure and "
+     "temperature (AGA8 DETAIL or GERG-2008), intervals beyond speed_of_sound_threshold (0.2 %) are counted.",
+     "412.6"),
     ("Atmospheric pressure [kPa]", "no", "kPa, hPa, mbar, psia (absolute)",
      "Atmospheric pressure logged at the site; used for gauge pressure when the site file allows "
      "(use_barometer, default true). Empty cells fall back to the fixed value or the elevation.", "98.47"),

@@ -455,3 +455,68 @@ def mistyped_year(d):
 
 
 CASES.append(mistyped_year)
+
+
+# ---------------------------------------------------------------------- meter kinds (issue 23)
+DP_HEADER = ["Interval end", "Line pressure [bar(g)]", "Line temperature [degC]", "Differential pressure [mbar]"]
+ORIFICE_SITE = ('base = "101.325kPa-0C"\nelevation = "120 m"\ntimezone = "Europe/Berlin"\n[flow_meter]\n'
+                'kind = "orifice"\n')
+
+
+def _orifice_case(d, table, must, header=DP_HEADER, body=None, exit_code=2, flag=None):
+    log = write(d, "orifice.csv", csv_text(header=header, body=body))
+    site = write(d, "site.toml", ORIFICE_SITE + table)
+    return Case(files=[log, site], args=[str(log), "--site", str(site), "--gas", GAS, "--quiet"],
+                must_say=list(must), exit_code=exit_code, flag=flag)
+
+
+GOOD_PLATE = 'pipe_diameter = "102.26 mm"\nbore_diameter = "50.8 mm"\n'
+
+
+def dp_without_unit(d):
+    return _orifice_case(d, GOOD_PLATE, ["Differential pressure", "no unit", "[mbar]"], header=DP_HEADER[:3] + [
+        "Differential pressure"])
+
+
+def negative_dp_flagged_no_flow(d):
+    body = rows()
+    body[5][3] = "-0.4"
+    return _orifice_case(d, GOOD_PLATE, [], body=body, exit_code=0, flag="negative_differential_pressure")
+
+
+def bore_larger_than_pipe(d):
+    return _orifice_case(d, 'pipe_diameter = "102.26 mm"\nbore_diameter = "110 mm"\n',
+                         ["site.toml", "[flow_meter] bore_diameter", "not smaller than the pipe"])
+
+
+def beta_outside_the_standard(d):
+    return _orifice_case(d, 'pipe_diameter = "102.26 mm"\nbore_diameter = "85 mm"\n',
+                         ["[flow_meter] bore_diameter", "beta", "0.75"])
+
+
+def missing_bore_diameter(d):
+    return _orifice_case(d, 'pipe_diameter = "102.26 mm"\n', ["[flow_meter] bore_diameter", "bore_diameter = "])
+
+
+def _curve_case(d, table, must):
+    log = write(d, "log.csv", csv_text())
+    site = write(d, "site.toml", 'base = "101.325kPa-0C"\nelevation = "120 m"\ntimezone = "Europe/Berlin"\n'
+                                 "[flow_meter]\n" + table)
+    return Case(files=[log, site], args=[str(log), "--site", str(site), "--gas", GAS, "--quiet"], must_say=list(must))
+
+
+def error_curve_unsorted(d):
+    return _curve_case(d, "error_curve = [[150, 0.4], [50, 1.2]]\n", ["[flow_meter] error_curve", "increasing"])
+
+
+def error_curve_duplicated(d):
+    return _curve_case(d, "error_curve = [[50, 0.4], [50, 1.2]]\n", ["[flow_meter] error_curve", "twice"])
+
+
+def error_curve_and_meter_factor(d):
+    return _curve_case(d, "error_curve = [[50, 0.4], [150, 1.2]]\nmeter_factor = 1.002\n",
+                       ["[flow_meter] meter_factor", "both", "keep one"])
+
+
+CASES += [dp_without_unit, negative_dp_flagged_no_flow, bore_larger_than_pipe, beta_outside_the_standard,
+          missing_bore_diameter, error_curve_unsorted, error_curve_duplicated, error_curve_and_meter_factor]

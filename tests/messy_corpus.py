@@ -655,3 +655,56 @@ CASES = [
     midnight_written_24_00, us_hour_ending_columns, bare_hour_column, re_export_overlaps_with_other_values,
     re_export_overlaps_later_wins,
 ]
+
+
+# ------------------------------------------------------------------ meter kinds (issue 23)
+def us_orifice_dst_gap(d):
+    """A US flow computer's hourly orifice export (invented meter "Copper Flats O2"): Date and Time
+    columns, psig, degF, inH2O (60 degF), America/Chicago clock through the spring change of
+    2026-03-08 (02:00 CST → 03:00 CDT: the stamps jump from 01:00 to 03:00, one hour apart) and two
+    lost hours. The true month is worked out here independently of meterfix: each row's mass by
+    `fluids`' ISO 5167 orifice solver (differential_pressure_meter_solver, flange taps) with the
+    ideal-gas density rho = p M / (R T) (M from `chemicals`' molar masses, R of the 2019 SI:
+    scipy.constants), d and D at the line temperature from 4.250 in and 7.981 in at 68 degF
+    (16.0e-6 and 11.6e-6 1/K), kappa 1.3, mu 1.1e-5 Pa s; base volume = mass / (pb M / (R Tb))."""
+    import chemicals
+    from fluids.flow_meter import differential_pressure_meter_solver
+    from scipy.constants import R
+
+    stamps = (["03/07/2026", f"{h:02d}:00"] for h in range(18, 24))
+    stamps = list(stamps) + [["03/08/2026", f"{h:02d}:00"] for h in (0, 1, 3, 4, 5, 6, 7, 8, 9, 10)]
+    n = len(stamps)
+    psig = [round(600.0 + 3.1 * (i % 5), 1) for i in range(n)]
+    degf = [round(52.0 + 0.7 * (i % 4), 1) for i in range(n)]
+    inh2o = [round(35.0 + 4.3 * (i % 6), 2) for i in range(n)]
+    lost = {9, 10}  # 05:00 and 06:00 CDT are not in the file
+    body = [[*stamps[i], psig[i], degf[i], inh2o[i]] for i in range(n) if i not in lost]
+    p = write(d, "copper_flats_o2.csv", csv(["Date", "Time", "Static Pressure (psig)", "Flowing Temp (°F)",
+                                              "Diff Pressure (inH2O)"], body))
+    m_gas = 0.95 * chemicals.MW("74-82-8") / 1000.0 + 0.05 * chemicals.MW("74-84-0") / 1000.0  # methane, ethane
+    pb, tb = 14.73 * PSI, (60.0 - 32.0) / 1.8 + 273.15
+    mass = 0.0
+    for i in range(n):
+        if i in lost:
+            continue
+        p1 = psig[i] * PSI + 14.4 * PSI
+        t = (degf[i] - 32.0) / 1.8 + 273.15
+        dt = t - ((68.0 - 32.0) / 1.8 + 273.15)
+        pipe, bore = 7.981 * 0.0254 * (1 + 11.6e-6 * dt), 4.250 * 0.0254 * (1 + 16.0e-6 * dt)
+        dp = inh2o[i] * 248.84  # inch of water at 60 degF, NIST SP 811 appendix B.8
+        qm = differential_pressure_meter_solver(D=pipe, D2=bore, P1=p1, P2=p1 - dp, rho=p1 * m_gas / (R * t),
+                                                mu=1.1e-5, k=1.3, meter_type="ISO 5167 orifice", taps="flange")
+        mass += qm * 3600.0
+    args = [str(p), "--method", "ideal", "--gas", "methane=0.95,ethane=0.05", "--base", "14.73psia-60F",
+            "--atmospheric-pressure", "14.4 psia", "--timezone", "America/Chicago", "--kind", "orifice",
+            "--pipe-diameter", "7.981 in", "--bore-diameter", "4.250 in", "--diameters-at", "68 degF",
+            "--taps", "flange", "--viscosity", "1.1e-5 Pa s", "--isentropic-exponent", "1.3", "--quiet"]
+
+    def check(s, out):
+        assert s["flow_meter"]["kind"] == "orifice" and s["totals"]["intervals_without_result"] == 0
+        assert s["totals"]["intervals"] == n  # the lost hours are gap rows; the spring hour is no gap
+    return Case([p], args, expect={"mass_kg": mass, "base_volume_m3": mass / (pb * m_gas / (R * tb))},
+                flags={"gap": 2}, check=check)
+
+
+CASES.append(us_orifice_dst_gap)

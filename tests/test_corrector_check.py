@@ -320,3 +320,22 @@ def test_bounded_least_squares_finds_scipys_minimum(loss):
         cond = np.linalg.cond(J)
         if cond < 1e3:
             np.testing.assert_allclose(x, ref.x, atol=1e-6)
+
+def test_type_t_device_fixed_pressure_is_named_with_its_pressure():
+    """A type T conversion device (EN 12405-1: temperature conversion only) with a fixed 40 bar(a) and no Z
+    stands where a PTZ device is needed: its output is V (p_fixed/pb)(Tb/T), worked here by the formula."""
+    theirs = VL * 40e5 / PB * TB / TF
+    check = check_corrector(RESULT, FRAME.assign(volume_corrected_site=np.round(theirs, 2)))
+    best = check.best
+    assert best is not None and best["cause"] == "fixed-pressure"
+    assert best["device_type"] == "T"
+    assert best["parameters"]["pressure_line_used_Pa"] == pytest.approx(40e5, rel=1e-4)
+    assert best["size_pct"] == pytest.approx(_size(theirs), abs=2e-3)
+
+
+def test_device_types_of_the_causes():
+    from meterfix.checks.corrector_models import device_type
+
+    assert device_type("ideal-gas") == "PT" and device_type("fixed-z") == "PT"
+    assert device_type("fixed-pressure") == "T" and device_type("base-pressure") == "PTZ"
+    assert device_type("ideal-gas+atmospheric-pressure") == "PT"

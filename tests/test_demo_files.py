@@ -56,9 +56,14 @@ def test_demo_runs_the_whole_job(demo_run):
                 "FV-M1_2026-10_intervals.csv", "FV-M1_2026-10_manifest.json", "FV-M1_2026-10_summary.json"]
     if parquet_available():  # the optional parquet extra
         expected.append("FV-M1_2026-10_intervals.parquet")
-    assert names == sorted(expected)
-    for n in names:
+    assert names == sorted(expected + ["FV-O1"])  # the orifice meter beside it, in its own folder
+    for n in expected:
         assert str(out / n) in text  # the console says where each output is
+    orifice = sorted(p.name for p in (out / "FV-O1").iterdir())
+    assert orifice == sorted(n.replace("FV-M1", "FV-O1") for n in expected)
+    o = json.loads((out / "FV-O1" / "FV-O1_2026-10_summary.json").read_text())
+    assert o["flow_meter"]["kind"] == "orifice" and o["flow_meter"]["standard"] == "ISO 5167-2:2003"
+    assert "orifice plate, ISO 5167-2:2003" in text
     d = json.loads((out / "FV-M1_2026-10_summary.json").read_text())
     assert {i["role"] for i in d["inputs"]} == {"log", "analysis", "invoice"}
     assert d["flags"]["gap"] == 6 and d["flags"]["estimated"] == 6  # the six lost hours, interpolated

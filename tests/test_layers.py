@@ -21,6 +21,7 @@ STAGE = {
     "atmosphere": 2, "gas": 2,
     "readers": 3, "z": 3,          # the bottom stages of the job
     "energy": 4,                   # ISO 6976 sums, with Z at the metering reference
+    "meters": 4,                   # primary equations of the meter kinds (orifice, Coriolis, error curves)
     "engine": 5,                   # the month run
     "uncertainty": 6, "checks": 6,
     "month": 7,                    # the month job: engine + uncertainty + checks

@@ -64,7 +64,7 @@ import pandas as pd
 from ..z import evaluate_z
 from ..z import IDEAL_METHOD
 from .corrector_models import (CAUSE_TEXT, COMMON_BASE_PRESSURES, COMMON_BASE_TEMPERATURES, OTHER_CAUSES,  # noqa: F401
-                               Z_CAUSES, cause_text, causes as _causes, combinations, fit, plausibility)
+                               Z_CAUSES, cause_text, causes as _causes, combinations, device_type, fit, plausibility)
 
 #: default threshold of a material finding [%]: two independent Z calculations of about 0.1 % each
 #: (the stated uncertainty of ISO 12213-2 / AGA Report No. 8 DETAIL in its normal range), combined in
@@ -307,7 +307,8 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     combos = combinations(real_gas)
 
     def zw_of(combo):
-        return 0.0 if ("ideal-gas" in combo or "fixed-z" in combo) else (0.5 if "fpv-not-squared" in combo else 1.0)
+        return 0.0 if ("ideal-gas" in combo or "fixed-z" in combo or "fixed-pressure" in combo) else (
+            0.5 if "fpv-not-squared" in combo else 1.0)
 
     # 1. robust fits (soft L1) of every candidate: the best one says which intervals are outliers
     s0 = max(_mad(y), SIGMA_FLOOR)
@@ -402,7 +403,8 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
         constant_shaped = all(c.startswith("base-") for c in combo)
         reference = none_score if constant_shaped else min(none_score, constant_score)
         return {
-            "cause": name, "description": cause_text(name), "causes": comps, "score": float(score),
+            "cause": name, "description": cause_text(name), "device_type": device_type(name), "causes": comps,
+            "score": float(score),
             "delta_bic": float(reference - score),
             "reference": "none" if reference == none_score else "constant-ratio",
             "r2": float(1.0 - mse / ss0) if ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse),

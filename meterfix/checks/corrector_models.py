@@ -16,7 +16,15 @@ fixed line temperature used       243.15-333.15 K (-30..60 C) the climatic range
                                                               (EN 12405-1 classes, from memory)
 fixed Z at line conditions used   0.60-1.10                   natural gas at metering conditions (Z charts,
                                                               common practice)
+fixed line pressure used (type T) 0.5-2 x the logged range    a type T device's set pressure is the regulated
+                                                              line pressure (EN 12405-1 device types)
 ================================  ==========================  ================================================
+
+Conversion device types of EN 12405-1 (from memory): a type T device converts for temperature only,
+with a fixed pressure (and a fixed compressibility ratio); a type PT device converts for pressure and
+temperature with a fixed Z ratio (or none, Z = 1); a type PTZ device computes Z from p and T. The
+causes ``fixed-pressure`` (type T), ``ideal-gas`` and ``fixed-z`` (type PT) are what a device of
+that type gives when it stands where a PTZ device is needed; ``DEVICE_TYPE`` names the type.
 """
 
 from __future__ import annotations
@@ -40,6 +48,10 @@ BOUND_FIXED_Z = (0.60, 1.10)
 
 Z_CAUSES = ("ideal-gas", "fpv-not-squared", "fixed-z")
 OTHER_CAUSES = ("base-pressure", "base-temperature", "atmospheric-pressure", "gauge-as-absolute", "fixed-temperature")
+#: causes that stand alone (no pairs): a type T device's fixed pressure absorbs Z, base and atmospheric causes
+ALONE_CAUSES = ("fixed-pressure",)
+#: the EN 12405-1 conversion device type each cause's output is that of (a misconfigured PTZ device otherwise)
+DEVICE_TYPE = {"fixed-pressure": "T", "ideal-gas": "PT", "fixed-z": "PT"}
 
 #: plain words for each cause (outputs may use them)
 CAUSE_TEXT = {
@@ -48,7 +60,14 @@ CAUSE_TEXT = {
     "base-temperature": "another base temperature", "atmospheric-pressure": "another atmospheric pressure",
     "gauge-as-absolute": "gauge pressure read as absolute (no atmospheric pressure added)",
     "fixed-temperature": "a fixed gas temperature",
+    "fixed-pressure": "a fixed line pressure (the output of a type T conversion device, EN 12405-1)",
 }
+
+
+def device_type(name: str) -> str:
+    """The EN 12405-1 device type a cause (or combination 'a+b') behaves as: 'T', 'PT' or 'PTZ'."""
+    kinds = {DEVICE_TYPE.get(c, "PTZ") for c in name.split("+")}
+    return "T" if "T" in kinds else ("PT" if "PT" in kinds else "PTZ")
 
 
 def cause_text(name: str) -> str:
@@ -146,6 +165,11 @@ def causes(ctx, zweight=1.0):
                                    None if gauge_known else [101325.0], 1000.0, report=g_report,
                                    exact=None if gauge_known else g_exact,
                                    bounds=None if gauge_known else BOUND_ATM),
+        # type T: V (p_fixed/pb)(Tb/T) K with a fixed K (Z ratio or 1): y = ln(p_fixed K) - ln pf + ln(Zf/Zb)
+        "fixed-pressure": Cause("fixed-pressure", 1, lambda th: th[0] - np.log(pf) + L,
+                                [float(np.average(np.log(pf), weights=ctx["w"]))], 0.01,
+                                report=lambda th: {"pressure_line_used_Pa": float(np.exp(th[0])), "device_type": "T"},
+                                bounds=(float(np.log(0.5 * np.min(pf))), float(np.log(2.0 * np.max(pf))))),
         "fixed-temperature": Cause("fixed-temperature", 1, lambda th: (1.0 + zweight * gamma) * (lnT - th[0]),
                                    [float(np.average(lnT, weights=ctx["w"]))], 0.01,
                                    report=lambda th: {"temperature_line_used_K": float(np.exp(th[0]))},
@@ -184,6 +208,7 @@ def combinations(real_gas=True):
             if {a, b} == {"atmospheric-pressure", "gauge-as-absolute"}:
                 continue  # two statements about the same pressure
             combos.append((a, b))
+    combos += [(c,) for c in ALONE_CAUSES]
     if not real_gas:
         combos = [c for c in combos if not any(x in Z_CAUSES for x in c)]
     return combos

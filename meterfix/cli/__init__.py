@@ -165,6 +165,7 @@ def _z(gas, composition, method, pressure, temperature, volume, atmospheric_pres
 @app.command("methods", short_help="Z methods, editions and validity ranges.")
 def methods_command():
     """List the Z methods with their edition and validity range."""
+    from ..meters.density import density_basis
     from ..z.registry import get_method, method_names
 
     for name in method_names():
@@ -172,6 +173,7 @@ def methods_command():
         typer.echo(f"{name:<16} {m.edition}")
         if m.range_text:
             typer.echo(f"{'':<16} range: {m.range_text}")
+        typer.echo(f"{'':<16} orifice and Coriolis meters: {density_basis(m)}")
     import textwrap
 
     from ..z.phase import LIMITS_TEXT

@@ -167,6 +167,25 @@ def _print_without_result(result) -> None:
             typer.echo(f"  {what}: {k}; first interval ends {first} ({tz})" + (" ..." if k > 3 else ""))
 
 
+def _print_meter_kind(result) -> None:
+    """One line for the meter kind (orifice, Coriolis, calibration) and one for the speed-of-sound check."""
+    fm = getattr(result, "flow_meter", None) or {}
+    mass = result.totals.get("mass_kg")
+    if fm.get("kind") == "orifice":
+        typer.echo(f"  meter                orifice plate, {fm['standard']}, {fm['taps']} taps, beta {fm['beta']:.4f}; "
+                   f"mass {_num(mass / 1000.0)} t")
+    elif fm.get("kind") == "coriolis":
+        typer.echo(f"  meter                Coriolis: mass {_num(mass / 1000.0)} t; base volume = mass / base density")
+    elif fm.get("meter_error_correction_pct") is not None:
+        typer.echo(f"  meter error correction {fm['meter_error_correction_pct']:+.2f} % ({fm['calibration']})")
+    sc = getattr(result, "speed_of_sound_check", None)
+    if sc:
+        largest = sc.get("largest_deviation_pct")
+        typer.echo(f"  speed of sound       {sc['compared_intervals']} intervals compared with {sc['method']}, "
+                   f"{sc['flagged_intervals']} beyond {sc['threshold_pct']:g} %"
+                   + (f" (largest {largest:+.2f} %)" if largest is not None else ""))
+
+
 def print_summary(result, written: dict) -> None:
     t = result.totals
     s = result.settings
@@ -194,7 +213,13 @@ def print_summary(result, written: dict) -> None:
     flagged = int(result.intervals["flagged"].sum())
     kinds = flags_breakdown({k: v for k, v in result.flags.items() if k != "estimated"})
     typer.echo(f"  intervals            {t['intervals']}  (flagged {flagged}" + (f": {kinds}" if kinds else "") + ")")
-    typer.echo(f"  {_lc(V.UNCORRECTED_VOLUME):<20} {vol(t['uncorrected_volume_m3'])} at line conditions")
+    _print_meter_kind(result)
+    if (result.flow_meter or {}).get("kind") in ("orifice", "coriolis"):
+        # measured as mass: the volume at line conditions is mass / density at line
+        typer.echo(f"  {_lc(V.UNCORRECTED_VOLUME):<20} {vol(t['uncorrected_volume_m3'])} at line conditions "
+                   "(mass / density at line)")
+    else:
+        typer.echo(f"  {_lc(V.UNCORRECTED_VOLUME):<20} {vol(t['uncorrected_volume_m3'])} at line conditions")
     typer.echo(f"  {_lc(V.BASE_VOLUME):<20} {vol(t['base_volume_m3'])} {V.AT_BASE}")
     # the ideal-gas error is the difference of two corrections of the same data: the Z method's own
     # uncertainty bounds its digits

@@ -203,5 +203,12 @@ def demo_command(
         result, written = run_demo(folder, overwrite=overwrite)
         print_summary(result, written)
         typer.echo(f"  inputs (invented)  {demo_folder()}")
+        from .demo import DEMO_SECOND_METER, meter_folder, run_demo_meter
+
+        name, sub = DEMO_SECOND_METER  # an orifice meter of the same works, in a sub-folder
+        typer.echo("")
+        result, written = run_demo_meter(name, folder / sub, overwrite=overwrite)
+        print_summary(result, written)
+        typer.echo(f"  inputs (invented)  {meter_folder(name)}")
     except MeterfixError as exc:
         _fail(exc)

@@ -47,6 +47,11 @@ INTERVAL_UNITS = {
     "factor_temperature": "-", "factor_z": "-", "volume_base": "m3", "volume_base_ideal": "m3",
     "ideal_gas_error_pct": "%", "mass": "kg", "heating_value": "J/m3", "energy": "J",
     "z_range": "-", "z_reason": "-", "estimated": "-", "gas_day": "-",
+    # meter kinds (engine.meter_kinds): orifice, Coriolis, calibrated volume meters, speed of sound
+    "pressure_differential": "Pa", "pressure_upstream": "Pa", "density_line": "kg/m3",
+    "discharge_coefficient": "-", "expansibility": "-", "reynolds_pipe": "-", "isentropic_exponent": "-",
+    "viscosity": "Pa s", "volume_line_indicated": "m3", "meter_error": "%", "speed_of_sound": "m/s",
+    "speed_of_sound_computed": "m/s", "speed_of_sound_deviation_pct": "%",
 }
 #: SI unit of each gas-day (and month) column, for the CSV headers
 GAS_DAY_UNITS = {
@@ -125,6 +130,8 @@ class MonthResult:
     reconciliation: InvoiceReconciliation | None = None
     corrector_check: CorrectorCheck | None = None
     history: pd.DataFrame | None = None
+    flow_meter: dict | None = None  # the meter kind's record (engine.meter_kinds), None for a plain volume meter
+    speed_of_sound_check: dict | None = None  # ultrasonic meters' speed of sound against the analysis'
     gas_month: dict | None = None  # the gas month closed and its coverage (engine.gas_month), or None
 
 
@@ -436,7 +443,8 @@ def _average_correction(cols: dict, analyses, settings: Settings, method: str) -
 
 
 # ---------------------------------------------------------------------------------------------
-def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=None, edits=None) -> MonthResult:
+def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=None, edits=None,
+              flow_meter=None) -> MonthResult:
     """Correct every interval of a canonical log and total it.
 
     Parameters
@@ -451,6 +459,8 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     settings : Settings
     metadata : LogMetadata, optional
     edits : DataFrame, optional   the substitution record from quality
+    flow_meter : FlowMeter, optional   the meter's kind and primary element (engine.flow_meter);
+                                  default ``settings.flow_meter`` when set, else a volume meter
 
     Returns
     -------
@@ -546,6 +556,14 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         hv[sel] = a.heating_value
         rho_b[sel] = a.density_base
 
+    fm = flow_meter if flow_meter is not None else getattr(settings, "flow_meter", None)
+    if isinstance(fm, dict):  # the settings' [flow_meter] table (SI values), checked together
+        from .flow_meter import parse_flow_meter
+
+        fm = parse_flow_meter(fm) if fm else None
+    kind = _meter_kind(fm, frame, p, tl, vl, duration, which, in_force, settings, method.name)
+    if kind is not None:
+        vl = kind.volume_line
     pb, tb = settings.base_pressure, settings.base_temperature
     with np.errstate(invalid="ignore", divide="ignore"):
         fp = K.factor_pressure(p, pb)
@@ -553,19 +571,41 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         fz = z_b / z_line
         vb = vl * fp * ft * fz
         vi = vl * fp * ft
+        mass = vb * rho_b
+        energy = vb * hv
+        if kind is not None and kind.mass is not None:
+            # measured mass: base volume = mass / rho_b (the Z method's), energy = mass x Hm (ISO 6976)
+            mass = kind.mass
+            vb = mass / kind.density_base
+            # the ideal-gas figures: rho_b(Z = 1) = Zb rho_b; an orifice's qm ~ sqrt(rho1) ~ 1/sqrt(Z1)
+            vi = vb / z_b * (np.sqrt(z_line) if fm.kind == "orifice" else 1.0)
+            energy = _energy_from_mass(mass, vb, hv, which, in_force)
     bad = ~np.isfinite(vb)
     vi = np.where(bad, np.nan, vi)
     # the interval table, built in one go (column order is part of the output)
     cols = {"duration": duration, "pressure_line": p, "pressure_atm": atm, "temperature_line": tl,
             "volume_line": vl, "analysis": which, "z_line": z_line, "z_base": z_b, "factor_pressure": fp,
             "factor_temperature": ft, "factor_z": fz, "volume_base": vb, "volume_base_ideal": vi,
-            "ideal_gas_error_pct": K.ideal_gas_error_pct(vi, vb), "mass": vb * rho_b, "heating_value": hv,
-            "energy": vb * hv,
+            "ideal_gas_error_pct": K.ideal_gas_error_pct(vi, vb), "mass": mass, "heating_value": hv,
+            "energy": energy,
             "z_range": pd.Categorical.from_codes(z_range, dtype=_Z_RANGE_DTYPE),
             "z_reason": z_reason}
+    sos_cols, sos = (None, None)
+    if fm is not None or "speed_of_sound" in frame.columns:
+        from .meter_kinds import speed_of_sound_check
+
+        threshold = getattr(settings, "speed_of_sound_threshold", None)
+        threshold = 0.2 if threshold is None else threshold
+        sos_cols, sos = speed_of_sound_check(frame, p, tl, which, in_force, method.name, threshold, index, duration)
+    for extra in (kind.columns if kind is not None else {}), (sos_cols or {}):
+        cols.update(extra)
     for c in frame.columns:
         if c.startswith("flag_"):
             cols[c] = frame[c].to_numpy(bool)
+    for name, mask in (kind.flags.items() if kind is not None else ()):
+        cols["flag_" + name] = mask
+    if sos is not None:
+        cols["flag_speed_of_sound"] = sos[1]
     cols["flag_z_outside_range"] = (z_range == OUTSIDE) & np.isfinite(z_line)
     cols["flag_no_result"] = bad & np.isfinite(vl)
     cols["estimated"] = frame["flag_estimated"].to_numpy(bool) if "flag_estimated" in frame.columns else np.zeros(n, bool)
@@ -597,14 +637,54 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     if totals["intervals_without_result"]:
         warn.append(f"{totals['intervals_without_result']} interval(s) with volume but no corrected result "
                     f"({totals['uncorrected_volume_without_result_m3']:.6g} m3 uncorrected)")
+    if kind is not None:
+        warn.extend(kind.findings)
+        for name, mask in kind.flags.items():
+            if mask.any():
+                warn.append(f"{int(mask.sum())} interval(s) flagged {name}: see the flag_{name} column")
+    if sos is not None and sos[0]["flagged_intervals"]:
+        warn.append(f"{sos[0]['flagged_intervals']} interval(s) where the meter's speed of sound differs from the "
+                    f"analysis' by more than {sos[0]['threshold_pct']:g} %: a wrong analysis, temperature or "
+                    f"pressure, or a meter fault")
+    method_record = {"name": method.name, "edition": method.edition, "range": method.range_text,
+                     "atmospheric_pressure_source": atm_source, "energy_standard": _energy_standard(in_force, settings)}
+    if kind is not None and kind.density_source:
+        method_record["density"] = kind.density_source
     inputs = list(metadata.sources or []) if metadata is not None else []
     return MonthResult(
         settings=settings, intervals=df, gas_days=days, months=months, analysis_periods=periods, totals=totals,
         findings=findings, average_correction=avg,
         edits=edits if edits is not None else pd.DataFrame(columns=["time", "what", "original", "new", "method", "reason"]),
-        flags=flags, analyses=in_force,
-        method={"name": method.name, "edition": method.edition, "range": method.range_text,
-                "atmospheric_pressure_source": atm_source, "energy_standard": _energy_standard(in_force, settings)},
+        flags=flags, analyses=in_force, method=method_record,
         inputs=inputs, log_metadata=metadata, warnings=warn,
+        flow_meter=kind.record if kind is not None else None, speed_of_sound_check=sos[0] if sos is not None else None,
     )
+
+
+def _meter_kind(fm, frame, p, tl, vl, duration, which, in_force, settings, method: str):
+    """The meter kind's interval figures (engine.meter_kinds), or None for a plain volume meter."""
+    if fm is None or (fm.kind == "volume" and fm.error_curve is None and fm.meter_factor is None):
+        return None
+    if in_force[0].gas is None and fm.kind != "volume":
+        raise SettingsError(f"a {fm.kind} meter needs a gas analysis for its density",
+                            hint="give --composition FILE (an analysis) or --gas 'methane=0.95,...'")
+    from . import meter_kinds as MK
+
+    if fm.kind == "orifice":
+        return MK.orifice_kind(frame, p, tl, duration, which, in_force, settings, method, fm)
+    if fm.kind == "coriolis":
+        return MK.coriolis_kind(frame, p, tl, duration, which, in_force, settings, method)
+    return MK.calibrated_volume(frame, vl, duration, fm)
+
+
+def _energy_from_mass(mass, vb, hv, which, in_force):
+    """Energy [J] from a measured mass: m x Hm where ISO 6976 gives the mass-basis value, else Vb x Hv."""
+    out = vb * hv
+    for k, a in enumerate(in_force):
+        props = getattr(getattr(a, "energy", None), "properties", None)
+        if props is None:
+            continue
+        sel = which == k
+        out[sel] = mass[sel] * float(props.values["gross_heating_value_mass"])
+    return out
 

@@ -26,7 +26,8 @@ __all__ = ["BASE_PRESETS", "SUBSTITUTION_POLICIES", "Settings", "build_settings"
 _PY_TYPES = {"text": str | None, "choice": str, "bool": bool, "int": int | None, "number": float | None,
              "hour": int, "base": str | None, "price": float | None, "list": list, "mapping": dict,
              "month": str | None}
-_QUANTITY_KINDS = ("pressure", "temperature", "length", "volume", "heating_value")
+_QUANTITY_KINDS = ("pressure", "temperature", "length", "volume", "heating_value", "viscosity",
+                   "expansion_coefficient")
 
 
 def _si_default(s: Setting):
@@ -296,11 +297,28 @@ def _read_kept_text(s, v, fail):
     return v if isinstance(v, (int, float)) else str(v)
 
 
+def _read_curve(s, v, fail):
+    """An error curve: [[Q, e], ...] as TOML writes it, or the option's text 'Q:e,Q:e,...'."""
+    if isinstance(v, str):
+        try:
+            v = [[float(x) for x in pair.split(":")] for pair in v.replace(";", ",").split(",") if pair.strip()]
+        except ValueError:
+            fail(f"'{v}' is not a list of flow rate:error pairs", "write e.g. '50:1.2,150:0.4,300:-0.2' "
+                                                                   "(m3/h at line conditions : percent)")
+    from ..meters.error_curve import error_curve_checked
+
+    try:
+        error_curve_checked(v, setting="the curve")
+    except SettingsError as exc:
+        fail(exc.message, exc.hint.replace("give the curve", f"give {label(s)}"))
+    return [[float(q), float(e)] for q, e in v]
+
+
 _READERS = {
     "text": _read_text, "choice": _read_choice, "bool": _read_bool, "int": _read_number,
     "number": _read_number, "hour": _read_hour, "base": _read_base, "price": _read_price,
     "mapping": _read_mapping, "list": _read_list, "uncertainty": _read_kept_text, "flow_rate": _read_kept_text,
-    "month": _read_month,
+    "curve": _read_curve, "month": _read_month,
     **{k: _read_quantity for k in _QUANTITY_KINDS},
 }
 
@@ -435,6 +453,11 @@ def build_settings(site_file=None, options: dict | None = None, *, require_base:
     _assign(s, raw, src, str(site_file) if site_file is not None else None)
     _apply_presets(s, raw)
     _check_combinations(s, require_base)
+    if s.flow_meter:  # the meter kind's keys checked together (a bore inside the pipe, a curve or a factor ...)
+        from .flow_meter import parse_flow_meter
+
+        from_file = any(t == "flow_meter" and w == "site file" for (t, _), w in src.items())
+        parse_flow_meter(s.flow_meter, file=str(site_file) if from_file and site_file is not None else None)
     s.sources = {label(x): "default" for x in SETTINGS if x.table not in TABLES}
     for (table, name), where in src.items():
         s.sources[f"[{table}] {name}" if table else name] = where

@@ -114,10 +114,15 @@ class Setting:
 
 
 S = Setting
-_M, _B, _A, _C, _E, _Q, _I, _ST, _R, _F, _U, _D = (
+_M, _B, _A, _C, _E, _Q, _I, _ST, _R, _F, _U, _D, _K = (
     "The meter", "Contract base conditions", "Atmospheric pressure for gauge pressure", "Clock and gas day",
     "Compressibility and energy", "Findings and data quality", "Invoice", "Closed months", "Reading the log",
-    "Input files", "Uncertainty inputs", "Display")
+    "Input files", "Uncertainty inputs", "Display", "Meter kind and primary element")
+#: meter kinds (meterfix.engine.flow_meter) and tap arrangements of ISO 5167-2:2003
+METER_KINDS = ("volume", "orifice", "coriolis")
+ORIFICE_STANDARDS = ("iso-5167-2:2003",)
+from ..meters.orifice_iso5167 import TAPS as ORIFICE_TAPS  # noqa: E402  (corner, flange, d-d2)
+STATIC_TAPS = ("upstream", "downstream")
 
 _U_SRC = "meterfix.uncertainty.inputs (defaults with their sources in the workbook's Uncertainty sheet)"
 
@@ -173,6 +178,9 @@ SETTINGS: tuple[Setting, ...] = (
       high=15, section=_Q, example=8),
     S("fail_on", "number", "exit code 1 when a finding (ideal-gas, invoice or corrector) exceeds this", unit="%",
       low=0.0, high=1000.0, section=_Q, example=1.0),
+    S("speed_of_sound_threshold", "number", "deviation of an ultrasonic meter's logged speed of sound from the "
+      "equation of state's above which an interval is counted", 0.2, "AGA Report No. 10 / ISO 17089-1 practice",
+      unit="%", low=0.0, high=10.0, section=_Q, example=0.2),
     S("price", "price", "price of energy, e.g. '3.20 USD/MMBtu' or '0.031 EUR/kWh'", unit="currency/J", section=_I,
       example="35 EUR/MWh"),
     S("invoice_tolerance", "number", "contract tolerance for invoice differences", unit="%", low=0.0, high=100.0,
@@ -206,6 +214,39 @@ SETTINGS: tuple[Setting, ...] = (
       table="files", section=_F, commands=CORRECT_ONLY, example="analyses.xlsx"),
     S("invoice", "text", "supplier invoice to check (CSV/XLSX)", table="files", section=_F, commands=CORRECT_ONLY,
       example="invoice.xlsx"),
+    # [flow_meter]: the meter's kind and primary element (meterfix.engine.flow_meter checks them together)
+    S("kind", "choice", "meter kind: volume (counts volume at line conditions), orifice (differential pressure) "
+      "or coriolis (mass)", "volume", choices=METER_KINDS, table="flow_meter", section=_K, example="orifice"),
+    S("standard", "choice", "orifice plates: the standard computed", "iso-5167-2:2003", choices=ORIFICE_STANDARDS,
+      table="flow_meter", section=_K, example="iso-5167-2:2003"),
+    S("pipe_diameter", "length", "orifice: internal pipe diameter D at diameters_at, e.g. '102.26 mm'", unit="m",
+      low=0.001, high=10.0, range_text="1 mm to 10 m", table="flow_meter", section=_K, example="102.26 mm"),
+    S("bore_diameter", "length", "orifice: bore d of the plate at diameters_at, e.g. '50.8 mm'", unit="m",
+      low=0.001, high=10.0, range_text="1 mm to 10 m", table="flow_meter", section=_K, example="50.8 mm"),
+    S("diameters_at", "temperature", "orifice: temperature at which d and D were measured", "20 degC",
+      "ISO 5167-1:2003 (d and D stated at 20 degC unless measured otherwise; from memory)", unit="K", low=173.15,
+      high=473.15, range_text="-100 to 200 degC", table="flow_meter", section=_K, example="20 degC"),
+    S("pipe_expansion", "expansion_coefficient", "orifice: linear expansion coefficient of the pipe",
+      "11.6e-6 1/K", "carbon steel, typical handbook value at 20-100 degC (from memory)", unit="1/K", low=0.0,
+      high=1e-4, range_text="0 to 1e-4 1/K", table="flow_meter", section=_K, example="11.6e-6 1/K"),
+    S("bore_expansion", "expansion_coefficient", "orifice: linear expansion coefficient of the plate",
+      "16.0e-6 1/K", "austenitic stainless steel (304/316), typical handbook value at 20-100 degC (from memory)",
+      unit="1/K", low=0.0, high=1e-4, range_text="0 to 1e-4 1/K", table="flow_meter", section=_K,
+      example="16.0e-6 1/K"),
+    S("taps", "choice", "orifice: pressure tap arrangement (ISO 5167-2:2003, 5.2)", "flange", choices=ORIFICE_TAPS,
+      table="flow_meter", section=_K, example="flange"),
+    S("static_tap", "choice", "orifice: where the logged line pressure is taken", "upstream", choices=STATIC_TAPS,
+      table="flow_meter", section=_K, example="upstream"),
+    S("viscosity", "viscosity", "orifice: dynamic viscosity of the gas (default: Lee, Gonzalez and Eakin 1966 "
+      "at each interval's state)", unit="Pa s", low=1e-6, high=1e-3, range_text="1e-6 to 1e-3 Pa s",
+      table="flow_meter", section=_K, example="1.1e-5 Pa s"),
+    S("isentropic_exponent", "number", "orifice: isentropic exponent (default: w^2 rho / p of the Z method's "
+      "equation of state)", unit="-", low=1.0, high=2.0, table="flow_meter", section=_K, example=1.3),
+    S("error_curve", "curve", "volume meters: the calibration, [[flow rate m3/h at line conditions, error %], "
+      "...] (option: '50:1.2,150:0.4,300:-0.2')", table="flow_meter", section=_K,
+      example=[[50, 1.2], [150, 0.4], [300, -0.2]]),
+    S("meter_factor", "number", "volume meters: one meter factor instead of an error curve (not both)", unit="-",
+      low=0.5, high=2.0, table="flow_meter", section=_K, example=1.0021),
     # [uncertainty]: texts like "1 %", "2 kPa", "mpe 1 %", "0.3 K k=1", "0.25 % random"
     S("meter", "uncertainty", "meter, rated flow range (default 1 %)", table="uncertainty", source=_U_SRC,
       section=_U, option="--meter-uncertainty", example="1 %"),
@@ -229,6 +270,21 @@ SETTINGS: tuple[Setting, ...] = (
       option="--heating-value-uncertainty", example="0.1 %"),
     S("estimated", "uncertainty", "estimated intervals (default 10 % random)", table="uncertainty", section=_U,
       option="--estimated-uncertainty", example="10 % random"),
+    S("discharge_coefficient", "uncertainty", "orifice discharge coefficient C (default ISO 5167-2:2003 5.3.3.1 "
+      "by beta and Re_D)", table="uncertainty", section=_U, option="--discharge-coefficient-uncertainty",
+      example="0.5 %"),
+    S("expansibility", "uncertainty", "orifice expansibility factor (default 3.5 dp/(kappa p1) %, ISO 5167-2:2003 "
+      "5.3.3.2)", table="uncertainty", section=_U, option="--expansibility-uncertainty", example="0.01 %"),
+    S("differential_pressure", "uncertainty", "differential pressure transmitter (default 0.3 %)",
+      table="uncertainty", section=_U, option="--differential-pressure-uncertainty", example="0.3 %"),
+    S("bore_diameter", "uncertainty", "orifice bore d (default 0.05 %)", table="uncertainty", section=_U,
+      option="--bore-diameter-uncertainty", example="0.05 %"),
+    S("pipe_diameter", "uncertainty", "pipe diameter D (default 0.4 %)", table="uncertainty", section=_U,
+      option="--pipe-diameter-uncertainty", example="0.4 %"),
+    S("coriolis_mass", "uncertainty", "Coriolis meter's mass (default 0.5 %)", table="uncertainty", section=_U,
+      option="--coriolis-mass-uncertainty", example="0.5 %"),
+    S("calibration", "uncertainty", "calibration of a meter with an error curve or meter factor (default 0.3 %)",
+      table="uncertainty", section=_U, option="--calibration-uncertainty", example="0.3 %"),
     S("meter_qt", "flow_rate", "transition flow rate Qt of the meter at line conditions", table="uncertainty",
       section=_U, option="--meter-qt", example="65 m3/h"),
     S("meter_qmax", "flow_rate", "maximum flow rate Qmax of the meter at line conditions", table="uncertainty",
@@ -241,7 +297,7 @@ SETTINGS: tuple[Setting, ...] = (
 
 #: the site file's tables whose keys are settings of this table (a key at the top level or in [site]
 #: has table "")
-TABLES = ("uncertainty", "files")
+TABLES = ("uncertainty", "files", "flow_meter")
 #: tables read as a whole mapping (free keys)
 MAPPING_TABLES = ("columns", "display_units")
 

@@ -30,6 +30,10 @@ _TABLE_NOTES = {
                     "the workbook's Uncertainty sheet. Options: --meter-uncertainty, --pressure-uncertainty, ..."],
     "files": ["Paths relative to this file; read by 'meterfix correct --site' and 'meterfix fleet'",
               "(log files given on the command line win)."],
+    "flow_meter": ["The meter's kind and primary element; without it the meter counts volume at line conditions.",
+                   "Orifice plates (ISO 5167-2:2003) need pipe_diameter and bore_diameter; a Coriolis meter needs",
+                   "only its kind; a volume meter may carry its calibration as error_curve or meter_factor (not",
+                   "both). The example describes an orifice plate: error_curve and meter_factor are volume meters'."],
 }
 
 

@@ -32,6 +32,12 @@ name                            meaning                                         
 ``volume_corrected_site_index`` the site corrector's corrected index (cumulative)     volume
 ``duration``                    length of the row's interval                          time
 ``status``                      free text, kept in the metadata                       –
+``pressure_differential``       orifice differential pressure, interval mean          pressure_differential
+``mass``                        mass in the interval (Coriolis)                       mass
+``mass_flow``                   mass flow rate (Coriolis)                             mass_flow
+``speed_of_sound``              the ultrasonic meter's speed of sound                 speed
+``pressure_differential_root``  interval mean of sqrt(dp) (a flow computer's          root_pressure_differential
+                                extension), e.g. 'Mean root differential pressure [sqrt(mbar)]'
 ``ignore``                      (column map only) do not read this column             –
 =============================== ===================================================== ==========
 
@@ -57,13 +63,19 @@ CANONICAL = {
     "temperature_line": "temperature", "volume_line": "volume", "volume_index": "volume",
     "flow_rate": "flow", "volume_corrected_site": "volume", "volume_corrected_site_index": "volume",
     "duration": "time", "status": None, "ignore": None,
+    "pressure_differential": "pressure_differential", "mass": "mass", "mass_flow": "mass_flow",
+    "speed_of_sound": "speed", "pressure_differential_root": "root_pressure_differential",
 }
+#: the primary measurement of each meter kind: one of these stands for the uncorrected volume
+_PRIMARY = ("volume_line", "volume_index", "flow_rate", "pressure_differential", "mass", "mass_flow",
+            "pressure_differential_root")
 _TIME_ROLES = ("time", "interval_end", "interval_start", "date", "clock", "hour_ending", "hour_beginning")
 #: example headers for messages
 EXAMPLES = {
     "time": "'Interval end' (or 'Date' and 'Time')", "pressure": "'Line pressure [bar(g)]'",
     "temperature_line": "'Line temperature [degC]'",
-    "volume": "'Uncorrected volume [m3]', 'Meter index [m3]' or 'Flow rate [m3/h]'",
+    "volume": "'Uncorrected volume [m3]', 'Meter index [m3]', 'Flow rate [m3/h]', 'Differential pressure [mbar]' "
+              "or 'Mass [kg]'",
 }
 
 
@@ -175,6 +187,19 @@ def classify(name: str):
     if any(t.startswith("baro") for t in toks) or "atmospheric" in toks or n in (
             "patm", "p atm", "ambient pressure", "air pressure", "atm pressure", "atmosphere"):
         return "pressure_atm", {}
+    if "sound" in toks or n in ("sos", "vos", "c sound", "sound velocity"):
+        return "speed_of_sound", {}
+    if "mass" in toks:
+        if any(t in ("base", "contract", "reference", "density", "corrected") for t in toks):
+            return None, {}
+        return ("mass_flow" if any(t.startswith("flow") or t == "rate" for t in toks) else "mass"), {}
+    if n in ("dp", "delta p", "diff p", "hw", "h w", "dpf", "dp mean") or (
+            any(t.startswith("press") for t in toks) and any(t in ("differential", "dp", "diff", "delta") for t in toks)):
+        if any(t in ("base", "contract", "reference", "set", "setpoint") for t in toks):
+            return None, {}
+        if any(t in ("root", "sqrt", "extension") for t in toks):
+            return "pressure_differential_root", {}
+        return "pressure_differential", {}
     if any(t.startswith("press") for t in toks) or n in ("p", "pf", "p1", "pline", "p line", "line p", "gas p",
                                                          "pg", "pabs", "p abs", "p gauge"):
         if any(t in ("base", "contract", "reference", "differential", "dp", "set", "setpoint") for t in toks):
@@ -307,7 +332,10 @@ def _example(family):
             "temperature_line": "Line temperature [degC]", "volume_line": "Uncorrected volume [m3]",
             "volume_index": "Meter index [m3]", "flow_rate": "Flow rate [m3/h]",
             "volume_corrected_site": "Site corrected volume [m3]",
-            "volume_corrected_site_index": "Corrected index [m3]", "duration": "Duration [min]"}.get(family, family)
+            "volume_corrected_site_index": "Corrected index [m3]", "duration": "Duration [min]",
+            "pressure_differential": "Differential pressure [mbar]", "mass": "Mass [kg]",
+            "mass_flow": "Mass flow [kg/h]", "speed_of_sound": "Speed of sound [m/s]",
+            "pressure_differential_root": "Mean root differential pressure [sqrt(mbar)]"}.get(family, family)
 
 
 def _mapped(header, index, target: str, where) -> ColumnSpec | None:
@@ -330,7 +358,7 @@ def _mapped(header, index, target: str, where) -> ColumnSpec | None:
                 break
     if not unit_text:
         raise UnitError(f"column '{header}' is mapped to {name} but no unit is known", **where, column=header,
-                        hint=f"give the unit in the map, e.g. '{header}={name} [{ {'pressure': 'bar', 'temperature': 'degC', 'volume': 'm3', 'flow': 'm3/h', 'time': 's'}[kind]}]'")
+                        hint=f"give the unit in the map, e.g. '{header}={name} [{ {'pressure': 'bar', 'temperature': 'degC', 'volume': 'm3', 'flow': 'm3/h', 'time': 's', 'pressure_differential': 'mbar', 'mass': 'kg', 'mass_flow': 'kg/h', 'speed': 'm/s', 'root_pressure_differential': 'sqrt(mbar)'}[kind]}]'")
     unit, err = _parse_unit(kind, unit_text)
     if unit is None:
         raise UnitError(f"unknown {kind} unit '{unit_text}' for column '{header}'", **where, column=header,
@@ -394,7 +422,10 @@ def map_columns(header, column_map=None, *, where=None) -> ColumnMapping:
 _ROLE_WORDS = {"volume_line": "uncorrected volume per interval", "volume_index": "uncorrected meter index",
                "flow_rate": "flow rate", "pressure_gauge": "line pressure", "pressure_line": "line pressure",
                "temperature_line": "line temperature", "volume_corrected_site": "site corrected volume",
-               "volume_corrected_site_index": "site corrected index", "pressure_atm": "atmospheric pressure"}
+               "volume_corrected_site_index": "site corrected index", "pressure_atm": "atmospheric pressure",
+               "pressure_differential": "differential pressure", "mass": "mass per interval",
+               "mass_flow": "mass flow rate", "speed_of_sound": "speed of sound",
+               "pressure_differential_root": "interval mean of sqrt(dp)"}
 
 
 def _role_group(names) -> set:
@@ -432,9 +463,9 @@ def require_log_columns(mapping: ColumnMapping, header, where) -> None:
         missing.append(("line pressure", EXAMPLES["pressure"]))
     if "temperature_line" not in c:
         missing.append(("line temperature", EXAMPLES["temperature_line"]))
-    if not any(n in c for n in ("volume_line", "volume_index", "flow_rate")):
+    if not any(n in c for n in _PRIMARY):
         missing.append(("uncorrected volume", EXAMPLES["volume"]))
-    if not any(n in c for n in ("volume_line", "volume_index", "flow_rate")):
+    if not any(n in c for n in _PRIMARY):
         corr = [s for n, s in c.items() if n in ("volume_corrected_site", "volume_corrected_site_index")]
         if corr and len(missing) == 1:
             s0 = corr[0]
@@ -457,6 +488,7 @@ def require_log_columns(mapping: ColumnMapping, header, where) -> None:
         raise InputError(
             "missing required column(s): " + "; ".join(f"{what} (e.g. {ex})" for what, ex in missing),
             **where, column=missing[0][0],
-            hint="required: time, line pressure, line temperature and an uncorrected volume, index or flow rate; "
+            hint="required: time, line pressure, line temperature and an uncorrected volume, index or flow rate "
+                 "(orifice meters: a differential pressure; Coriolis meters: a mass or mass flow rate); "
                  "found: " + (", ".join(found) if found else "nothing recognisable")
                  + "; rename the header or map it with --column 'HEADER=NAME'")

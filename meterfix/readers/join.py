@@ -16,7 +16,8 @@ from ..errors import InputError
 
 #: numeric canonical columns read from a log
 NUMERIC = ("pressure_gauge", "pressure_line", "pressure_atm", "temperature_line", "volume_line", "volume_index",
-           "flow_rate", "volume_corrected_site", "volume_corrected_site_index", "duration")
+           "flow_rate", "volume_corrected_site", "volume_corrected_site_index", "duration",
+           "pressure_differential", "mass", "mass_flow", "speed_of_sound", "pressure_differential_root")
 #: flags the reader sets (always present in the frame)
 READER_FLAGS = ("flag_unreadable", "flag_missing", "flag_duplicate", "flag_time_backwards", "flag_rollover",
                 "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_negative_volume",
@@ -350,7 +351,8 @@ def _finish(df: dict, meta) -> pd.DataFrame:
     out["temperature_line"] = np.asarray(df["temperature_line"], dtype=float)
     out["volume_line"] = np.asarray(df["volume_line"], dtype=float)
     out["duration"] = np.asarray(df["duration"], dtype=float)
-    for c in ("volume_corrected_site", "flow_rate", "volume_index"):
+    for c in ("volume_corrected_site", "flow_rate", "volume_index", "pressure_differential", "mass", "mass_flow",
+              "speed_of_sound", "pressure_differential_root"):
         if c in df:
             out[c] = np.asarray(df[c], dtype=float)
     if "status" in df:

@@ -328,7 +328,8 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
     unreadable = np.zeros(n, bool)
     missing = np.zeros(n, bool)
     empty_columns = []
-    required = {"pressure_gauge", "pressure_line", "temperature_line", "volume_line", "volume_index", "flow_rate"}
+    required = {"pressure_gauge", "pressure_line", "temperature_line", "volume_line", "volume_index", "flow_rate",
+                "pressure_differential", "mass", "mass_flow"}
     for name in NUMERIC:
         if name not in c:
             continue
@@ -574,8 +575,10 @@ def _refuse_empty(empty_columns, c, t: RawTable) -> None:
     """A required quantity whose column is empty in every row: the month cannot be read."""
     if not empty_columns:
         return
-    vol = [s for s in empty_columns if s.name in ("volume_line", "volume_index", "flow_rate")]
-    others_have_volume = any(n in c and c[n] not in empty_columns for n in ("volume_line", "volume_index", "flow_rate"))
+    # the primary measurement: a volume, index or flow rate, or a differential pressure or mass (one is enough)
+    primary = ("volume_line", "volume_index", "flow_rate", "pressure_differential", "mass", "mass_flow")
+    vol = [s for s in empty_columns if s.name in primary]
+    others_have_volume = any(n in c and c[n] not in empty_columns for n in primary)
     bad = [s for s in empty_columns if s not in vol] + ([] if others_have_volume else vol)
     if not bad:
         return

@@ -264,6 +264,16 @@ def build_model(result, parsed) -> IntervalModel:
                      "their pressure and temperature sensitivities are taken as ideal gas (1, -1)")
     for k in der:
         der[k] = np.where(np.isfinite(der[k]), der[k], 0.0)
+    fm = getattr(result, "flow_meter", None) or {}
+    kind = fm.get("kind", "volume")
+    # the line state acts through the density at the upstream tap with exponent 1/2 on an orifice's
+    # mass (qm ~ sqrt(rho1)) and not at all on a Coriolis meter's: the derivatives of ln Z are made
+    # those of an effective Z, so that c_p = f (1 - dlnZ/dlnp), c_T = -f (1 + dlnZ/dlnT), here and in
+    # the Monte Carlo
+    f_rho = {"orifice": 0.5, "coriolis": 0.0}.get(kind, 1.0)
+    if f_rho != 1.0:
+        der = {"p": 1.0 - f_rho * (1.0 - der["p"]), "t": -1.0 + f_rho * (1.0 + der["t"]),
+               "pp": f_rho * der["pp"], "tt": f_rho * der["tt"], "pt": f_rho * der["pt"]}
 
     # ISO 6976:2016 Annex B, where the analysis gave its standard uncertainties: u(Hv) of that analysis
     # (composition and the standard's table values) is the heating-value input, and the composition
@@ -292,7 +302,9 @@ def build_model(result, parsed) -> IntervalModel:
 
     # ---- meter, by flow range -------------------------------------------------------------
     m_spec = parsed.resolve("meter")
-    if parsed.meter_qt is not None or parsed.meter_qmax is not None:
+    if kind in ("orifice", "coriolis") or (fm and "meter" not in parsed.given):
+        _meter_kind_terms(model, add, parsed, df, used, fm, vl, n)
+    elif parsed.meter_qt is not None or parsed.meter_qmax is not None:
         with np.errstate(invalid="ignore", divide="ignore"):
             q = vl / dur
         low = np.zeros(n, bool)
@@ -349,7 +361,7 @@ def build_model(result, parsed) -> IntervalModel:
             np.clip(rng, 0, 2)] / 200.0
         text = z_spec.text
     inside = ~outside
-    add("z", z_spec, _wmean(z, w), "-", np.where(inside, uz, 0.0), -1.0, -1.0, inside, text=text)
+    add("z", z_spec, _wmean(z, w), "-", np.where(inside, uz, 0.0), -f_rho, -f_rho, inside, text=text)
     if outside.any() and method.name != "ideal":
         table = method.uncertainty_pct or {}
         base = z_spec.value if z_given is not None else float(table.get(EXTENDED, table.get(NORMAL, 0.0))) / 100
@@ -357,7 +369,7 @@ def build_model(result, parsed) -> IntervalModel:
                             "assumed: twice the " + ("z setting" if z_given is not None else "method's extended-range "
                                                      "figure") + "; the method states no uncertainty outside its range")
         _relative_only(zo)
-        add("z_outside", zo, _wmean(z, w, outside), "-", np.where(outside, zo.standard, 0.0), -1.0, -1.0, outside)
+        add("z_outside", zo, _wmean(z, w, outside), "-", np.where(outside, zo.standard, 0.0), -f_rho, -f_rho, outside)
 
     # ---- base Z, heating value, composition (bound to the analysis in force) -------------------
     zb = df["z_base"].to_numpy(float)[used]
@@ -387,12 +399,82 @@ def build_model(result, parsed) -> IntervalModel:
     from .composition import composition_term
 
     composition_term(model, result, parsed, add, method.name)
+    if f_rho != 1.0:
+        _scale_composition_line(model, f_rho)
 
     # ---- estimated intervals ---------------------------------------------------------------
     e_spec = parsed.resolve("estimated")
     _relative_only(e_spec)
     add("estimated", e_spec, float(np.sum(vl[est])), "m3", np.where(est, e_spec.standard, 0.0), 1.0, 1.0, est)
     return model
+
+
+def _meter_kind_terms(model, add, parsed, df, used, fm: dict, vl, n: int) -> None:
+    """The primary element's inputs in place of the volume meter's: an orifice's C, epsilon, dp, d and D
+    (ISO 5167-2:2003, 5.3.3; ISO 5167-1:2003, 8.2.2), a Coriolis meter's mass, a calibration."""
+    from ..meters import orifice_iso5167 as O
+
+    ones = np.ones(n)
+    allrows = np.ones(n, bool)
+    kind = fm.get("kind")
+    if kind == "orifice":
+        beta = float(fm["beta"])
+        b4 = beta ** 4
+        dp = df["pressure_differential"].to_numpy(float)[used]
+        p1 = df["pressure_upstream"].to_numpy(float)[used]
+        kap = df["isentropic_exponent"].to_numpy(float)[used]
+        re = df["reynolds_pipe"].to_numpy(float)[used]
+        d_pipe = float(fm["pipe_diameter_m"])
+        flowing = np.isfinite(re) & (dp > 0)
+        w = model.volume
+        # C's uncertainty is step-valued (beta and D fixed, +0.5 % below Re_D = 10^4); epsilon's, 3.5 dp/(kappa p1),
+        # is taken at its volume-weighted mean over the month (one value: a systematic input of a few 0.01 %)
+        uc = np.where(flowing, O.discharge_coefficient_uncertainty_iso5167_2_2003(beta, d_pipe, re), 0.0) / 200.0
+        ue = np.full(n, _wmean(np.where(flowing, O.expansibility_uncertainty_iso5167_2_2003(dp, p1, kap), 0.0), w,
+                               flowing) / 200.0)
+        c_txt = f"{_wmean(uc * 200.0, w):.3g} % (k = 2, ISO 5167-2:2003 5.3.3.1, by beta and Re_D)"
+        e_txt = f"{_wmean(ue * 200.0, w):.3g} % (k = 2, 3.5 dp/(kappa p1) %, ISO 5167-2:2003 5.3.3.2, month mean)"
+        from .inputs import InputSpec as _Spec
+
+        for key, u, text, src in (
+                ("discharge_coefficient", uc, c_txt, "ISO 5167-2:2003, 5.3.3.1 (from memory of the text)"),
+                ("expansibility", ue, e_txt, "ISO 5167-2:2003, 5.3.3.2")):
+            spec = parsed.given.get(key) or _Spec(key, text, True, float(_wmean(u, w)) * 2, float(_wmean(u, w)),
+                                                  is_default=True, source=src)
+            _relative_only(spec)
+            uu = np.full(n, spec.standard) if key in parsed.given else u
+            add(key, spec, np.nan, "-", uu, 1.0, 1.0, allrows, text=spec.text)
+        for key, c in (("differential_pressure", 0.5), ("bore_diameter", 2.0 / (1.0 - b4)),
+                       ("pipe_diameter", -2.0 * b4 / (1.0 - b4))):
+            spec = parsed.resolve(key)
+            _relative_only(spec)
+            value = {"differential_pressure": _wmean(dp, w), "bore_diameter": fm["bore_diameter_m"],
+                     "pipe_diameter": d_pipe}[key]
+            add(key, spec, float(value), "Pa" if key == "differential_pressure" else "m", spec.standard * ones, c, c,
+                allrows)
+    elif kind == "coriolis":
+        spec = parsed.resolve("coriolis_mass")
+        _relative_only(spec)
+        add("coriolis_mass", spec, float(np.nansum(df["mass"].to_numpy(float)[used])), "kg", spec.standard * ones,
+            1.0, 1.0, allrows)
+    else:
+        spec = parsed.resolve("calibration")
+        _relative_only(spec)
+        add("calibration", spec, float(np.sum(vl)), "m3", spec.standard * ones, 1.0, 1.0, allrows)
+
+
+def _scale_composition_line(model, f: float) -> None:
+    """The composition's action through Z at line conditions scaled by the density exponent f."""
+    t = model.term("composition")
+    if t is None or model.comp_line is None:
+        return
+    g_line = model.comp_line
+    model.comp_line = g_line * f
+    t.c_volume = t.c_volume + (1.0 - f) * g_line
+    if t.c_energy is not None:
+        t.c_energy = t.c_energy + (1.0 - f) * g_line
+    model.notes.append("orifice and Coriolis meters: the composition acts through Z; its effect through the molar "
+                       "mass on the density is not in this budget")
 
 
 def _annex_b_relative(a) -> float:

@@ -48,6 +48,14 @@ INPUT_KEYS = {
     "composition": ("gas composition", None, "systematic"),
     "heating_value": ("heating value", "heating_value", "systematic"),
     "estimated": ("estimated intervals", None, "random"),
+    # meter kinds (meterfix.meters): orifice plates, Coriolis meters, calibrated volume meters
+    "discharge_coefficient": ("orifice discharge coefficient C", None, "systematic"),
+    "expansibility": ("orifice expansibility factor", None, "systematic"),
+    "differential_pressure": ("differential pressure transmitter", None, "systematic"),
+    "bore_diameter": ("orifice bore diameter d", None, "systematic"),
+    "pipe_diameter": ("pipe diameter D", None, "systematic"),
+    "coriolis_mass": ("Coriolis meter, mass", None, "systematic"),
+    "calibration": ("meter calibration (error curve or factor)", None, "systematic"),
 }
 #: flow-range settings of the meter (not uncertainties)
 FLOW_KEYS = ("meter_qt", "meter_qmax")
@@ -70,6 +78,14 @@ DEFAULTS = {
     "composition": ("2 %", "common practice: gas-chromatograph analysis of the minor components, about 1-2 % "
                            "of each mole fraction (k = 2), upper end taken; each fraction perturbed, then the "
                            "analysis renormalised to sum 1; from memory"),
+    "differential_pressure": ("0.3 %", "common practice: smart differential-pressure transmitter, 0.1-0.3 % of "
+                                       "reading (k = 2) over its turndown, upper end taken; from memory"),
+    "bore_diameter": ("0.05 %", "ISO 5167-2:2003, 5.1.8 (from memory): the bore measured to 0.05 % (k = 2)"),
+    "pipe_diameter": ("0.4 %", "ISO 5167-1:2003, 7.1.5 (from memory): the pipe's mean diameter known to 0.4 % (k = 2)"),
+    "coriolis_mass": ("0.5 %", "common practice: Coriolis meter on gas, 0.35-1 % of mass (k = 2) by AGA Report "
+                               "No. 11 practice, a mid value taken; from memory"),
+    "calibration": ("0.3 %", "common practice: a gas-meter calibration's expanded uncertainty, 0.2-0.3 % "
+                             "(k = 2), upper end taken; set it to the calibration certificate's figure; from memory"),
     "estimated": ("10 % random", "assumed: an estimated (substituted) interval's volume known to ±10 % (k = 2), "
                                  "independent from interval to interval; set it to the contract's estimation rule"),
 }

@@ -73,7 +73,8 @@ K_95 = 1.959963984540054
 
 _PRESSURE_KINDS = ("pressure", "atmospheric")
 _TEMPERATURE_KINDS = ("temperature",)
-_METER_KINDS = ("meter", "meter_below_qt", "estimated")
+_METER_KINDS = ("meter", "meter_below_qt", "estimated", "discharge_coefficient", "expansibility", "differential_pressure",
+                "bore_diameter", "pipe_diameter", "coriolis_mass", "calibration")
 _Z_KINDS = ("z", "z_outside")
 _Z1 = ("a1", "b1", "a2", "b2", "ab")
 
@@ -514,7 +515,9 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
     for t in model.terms:
         if t.key in _PRESSURE_KINDS + _TEMPERATURE_KINDS + _METER_KINDS + _Z_KINDS:
             for r in range(t.u.shape[0]):
-                coef = t.u[r].copy()
+                # meter and Z inputs enter with their own sensitivity (1 and -1 for a volume meter; an
+                # orifice's bore 2/(1 - beta^4), its Z at line -1/2)
+                coef = t.u[r] * np.abs(t.c_volume[r]) if t.key in _METER_KINDS + _Z_KINDS else t.u[r].copy()
                 if t.key == "atmospheric":
                     with np.errstate(invalid="ignore", divide="ignore"):
                         coef = np.where(t.applies, t.u[r] * model.pressure_atm / model.pressure, 0.0)

@@ -28,6 +28,10 @@ COLUMN_MEANING = {
     "volume_corrected_site": ("site corrector's volume at its base", "m3"),
     "volume_corrected_site_index": ("site corrector's index at its base", "m3"),
     "duration": ("interval length", "s"), "status": ("status text", ""),
+    "pressure_differential": ("differential pressure, interval mean", "Pa"),
+    "pressure_differential_root": ("interval mean of sqrt(differential pressure)", "Pa^0.5"),
+    "mass": ("mass per interval", "kg"), "mass_flow": ("mass flow rate", "kg/s"),
+    "speed_of_sound": ("speed of sound (the meter's)", "m/s"),
 }
 
 _TIME_COLUMNS = ("interval_end", "interval_start", "time")

@@ -116,6 +116,10 @@ def build_summary(result) -> dict:
         # what the log reader found: files, column mapping and units, every problem cell with where it is
         "log": log_record(result.log_metadata),
     }
+    if result.flow_meter:
+        summary["flow_meter"] = result.flow_meter  # the meter kind: orifice, Coriolis, calibrated volume meter
+    if result.speed_of_sound_check:
+        summary["speed_of_sound_check"] = result.speed_of_sound_check
     if unc is not None:
         summary["uncertainty"] = unc.to_summary()
     if result.reconciliation is not None:

@@ -81,6 +81,36 @@ def _short(v):
     return v
 
 
+def _meter_kind_rows(ws, r, result, du):
+    """The meter kind (orifice, Coriolis, calibration) and the speed-of-sound check on the Overview."""
+    fm = getattr(result, "flow_meter", None) or {}
+    if fm.get("kind") == "orifice":
+        r = _long_row(ws, r, "Meter", f"orifice plate, {fm['standard']}, {fm['taps']} taps, static tap {fm['static_tap']}")
+        r = _row(ws, r, "Pipe diameter D", 1000.0 * fm["pipe_diameter_m"], "mm", "0.000",
+                 f"at {fm['diameters_at_K'] - 273.15:g} °C")
+        r = _row(ws, r, "Bore diameter d", 1000.0 * fm["bore_diameter_m"], "mm", "0.000", f"beta {fm['beta']:.4f}")
+        r = _long_row(ws, r, "Density", result.method.get("density") or "")
+        av = fm.get("differential_pressure_averaging") or {}
+        if av.get("root_mean_column"):
+            r = _row(ws, r, "Mean dp instead of mean sqrt(dp)", av.get("mean_dp_error_pct"), "%", X.FMT_PCT,
+                     "the log's interval mean of sqrt(dp) is used")
+        elif av.get("month_mean_error_pct") is not None:
+            r = _row(ws, r, "Month from its mean dp", av["month_mean_error_pct"], "%", X.FMT_PCT,
+                     "the log has interval means of dp, not of sqrt(dp): each interval's flow is overstated by "
+                     "the dp fluctuation within it")
+    elif fm.get("kind") == "coriolis":
+        r = _long_row(ws, r, "Meter", "Coriolis: base volume = mass / base density (AGA Report No. 11 practice)")
+        r = _long_row(ws, r, "Density", result.method.get("density") or "")
+    elif fm.get("meter_error_correction_pct") is not None:
+        r = _row(ws, r, "Meter error correction", fm["meter_error_correction_pct"], "%", X.FMT_PCT, fm["calibration"])
+    sc = getattr(result, "speed_of_sound_check", None)
+    if sc:
+        r = _row(ws, r, "Speed of sound beyond threshold", sc["flagged_intervals"], "intervals", X.FMT_INT,
+                 f"of {sc['compared_intervals']} compared with {sc['method']}; threshold {sc['threshold_pct']:g} %, "
+                 f"largest {sc['largest_deviation_pct']:+.3f} %" if sc.get("largest_deviation_pct") is not None else "")
+    return r
+
+
 def _row(ws, r, label, value, unit="", fmt=None, note=""):
     ws.cell(row=r, column=1, value=label).font = X.LABEL_FONT
     c = ws.cell(row=r, column=2, value=X.cell_value(value))
@@ -194,6 +224,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
         left = gm["intervals_before_month"] + gm["intervals_after_month"]
         r = _long_row(ws, r, V.GAS_MONTH, f"{gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
                       f"logged ({gm['coverage_pct']:.4g} %)" + (f"; {left} interval(s) outside it left out" if left else ""))
+    r = _meter_kind_rows(ws, r, result, du)
     if result.reconciliation is not None:
         rt = result.reconciliation.totals
         pct = rt.get("energy_difference_pct") if rt.get("compared_on") == "energy" else rt.get("volume_difference_pct")

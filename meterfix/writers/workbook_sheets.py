@@ -105,6 +105,7 @@ def interval_columns(result, du: X.DisplayUnits) -> dict:
         "Z note": _col([X.cell_value(str(x)) or None for x in d["z_reason"]], None, 12, kind="text"),
         "Estimated": _col(_yes(d["estimated"].to_numpy(bool)), None, 9, kind="text"),
     }
+    cols.update(_meter_kind_columns(d, du))
     for c in [c for c in d.columns if c.startswith("flag_")]:
         cols[_flag_label(c)] = _col(_yes(d[c].to_numpy(bool)), None, 10, c, kind="text")
     cc = result.corrector_check
@@ -116,6 +117,35 @@ def interval_columns(result, du: X.DisplayUnits) -> dict:
         cols["Fitted ratio, best explanation [-]"] = _col(iv["fitted_ratio"].to_numpy(float), X.FMT_FACTOR,
                                                           12, "fitted_ratio")
     return cols
+
+
+def _meter_kind_columns(d, du) -> dict:
+    """The meter kinds' interval columns that are present (orifice, calibration, speed of sound)."""
+    Q = V.QUANTITY_LABELS
+    pl, vl = du.label("pressure"), du.label("volume")
+    spec = [
+        ("pressure_differential", f"{Q['pressure_differential']} [mbar]", None, X.FMT_PRESSURE),
+        ("pressure_upstream", f"Upstream pressure [{pl}]", "pressure", X.FMT_PRESSURE),
+        ("density_line", "Density at line [kg/m3]", None, X.FMT_FACTOR),
+        ("discharge_coefficient", "Discharge coefficient C [-]", None, X.FMT_FACTOR),
+        ("expansibility", "Expansibility ε [-]", None, X.FMT_FACTOR),
+        ("reynolds_pipe", "Reynolds number Re_D [-]", None, "0"),
+        ("isentropic_exponent", "Isentropic exponent κ [-]", None, X.FMT_FACTOR),
+        ("viscosity", "Viscosity [µPa s]", None, X.FMT_FACTOR),
+        ("volume_line_indicated", f"Indicated volume [{vl}]", "volume", X.FMT_VOLUME_FINE),
+        ("meter_error", f"{Q['meter_error']} [%]", None, X.FMT_PCT),
+        ("speed_of_sound", f"{Q['speed_of_sound']}, meter [m/s]", None, X.FMT_FACTOR),
+        ("speed_of_sound_computed", "Speed of sound, equation of state [m/s]", None, X.FMT_FACTOR),
+        ("speed_of_sound_deviation_pct", "Speed of sound deviation [%]", None, X.FMT_PCT),
+    ]
+    out = {}
+    for name, header, kind, fmt in spec:
+        if name not in d.columns:
+            continue
+        v = d[name].to_numpy(float)
+        v = du.convert(kind, v) if kind else v * {"viscosity": 1e6, "pressure_differential": 0.01}.get(name, 1.0)
+        out[header] = _col(_f(v), fmt, 13)
+    return out
 
 
 def write_intervals(ws, result, du, *, interval_csv=None, max_rows=MAX_SHEET_ROWS) -> Block | None:
