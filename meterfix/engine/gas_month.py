@@ -59,7 +59,7 @@ class GasMonthSelection:
     month : str                  'YYYY-MM'
     start, end : Timestamp       bounds of the gas month [UTC]
     hours_in_month : float [h]   length of the gas month on the site's clock (743/744/745 ...)
-    hours_logged : float [h]     hours of the kept intervals with a logged volume
+    hours_logged : float [h]     hours of the kept intervals with a logged reading (see logged_mask)
     intervals_before, intervals_after : int   intervals left out, wholly before / after the month
     """
 
@@ -84,12 +84,22 @@ class GasMonthSelection:
                 "intervals_after_month": self.intervals_after}
 
 
+#: the measured quantity of each meter kind: volume meters log volume, orifice plates differential
+#: pressure (or its root), Coriolis meters mass (or mass flow)
+PRIMARY_COLUMNS = ("volume_line", "pressure_differential", "pressure_differential_root", "mass", "mass_flow")
+
+
 def logged_mask(frame: pd.DataFrame) -> np.ndarray:
-    """Intervals whose volume came from the log (not rows the quality step inserted for a gap)."""
-    col = "volume_line_raw" if "volume_line_raw" in frame.columns else "volume_line"
-    if col not in frame.columns:
+    """Intervals whose meter reading (volume, differential pressure or mass) came from the log, not
+    rows the quality step inserted for a gap."""
+    cols = [f"{c}_raw" if f"{c}_raw" in frame.columns else c for c in PRIMARY_COLUMNS
+            if c in frame.columns or f"{c}_raw" in frame.columns]
+    if not cols:
         return np.ones(len(frame), bool)
-    return np.isfinite(frame[col].to_numpy(float))
+    mask = np.zeros(len(frame), bool)
+    for c in cols:
+        mask |= np.isfinite(frame[c].to_numpy(float))
+    return mask
 
 
 def select_gas_month(frame: pd.DataFrame, month: str, *, timezone: str, gas_day_start: int,
