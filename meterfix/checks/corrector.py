@@ -216,6 +216,10 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
                     temperature_base=None) -> CorrectorCheck:
     """Compare the site corrector's corrected volume with ours and name the likely misconfiguration.
 
+    The steps of the method (module docstring): the comparison frame of both volumes, the
+    plausibility of their median ratio, the context the causes are modelled in, the robust pass
+    and its outliers, the weighted least-squares pass on the rest, and crediting the findings.
+
     Parameters
     ----------
     result : MonthResult
@@ -239,20 +243,81 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     tb = s.base_temperature if temperature_base is None else temperature_base
     d = result.intervals
     theirs = frame["volume_corrected_site"].reindex(d.index).to_numpy(float)
+    ours = _ours_at_corrector_base(result, pb, tb, restate=pressure_base is not None or temperature_base is not None)
+    used = _comparable(d, ours, theirs)
+    warnings = []
+    n_all = int(used.sum())
+    iv = _comparison_frame(d, ours, theirs, used)
+    if n_all < 3:
+        warnings.append(f"only {n_all} interval(s) with both corrector and our volume: no check")
+        return CorrectorCheck([], [], iv, np.nan, threshold_pct, {"intervals_compared": n_all}, warnings)
+    du = d[used]
+    vo = ours[used]
+    vt = theirs[used]
+    ratio_median = float(np.median(vt / vo))
+    lo, hi = _plausible_ratio(du)
+    if not lo <= ratio_median <= hi:
+        warnings.append(_column_suspect_text(ratio_median, n_all, lo, hi))
+        iv["used"] = False
+        return CorrectorCheck([], [], iv, float("nan"), threshold_pct,
+                              {"intervals_compared": 0, "column_suspect": True, "ratio_median": ratio_median,
+                               "plausible_ratio": [lo, hi]}, warnings)
+    w_all = _weights(d["duration"].to_numpy(float) if "duration" in d else np.ones(len(d)), used)
+    y = np.log(vt / vo)
+    ctx = _cause_context(result, du, w_all, pb, tb)
+    combos = combinations(float(np.max(np.abs(ctx["L"]))) > 1e-6)
+    outlier = _robust_outliers(y, w_all, combos, ctx)
+    keep = ~outlier
+    iv.loc[iv.index[used][outlier], "outlier"] = True
+    ctx["w"] = np.where(keep, w_all, 1e-300)
+    hv = du["heating_value"].to_numpy(float)
+    lsq = _LeastSquaresPass.on_kept(y, w_all, keep, vo, hv, ctx, s.price, s.currency)
+    candidates = lsq.candidates(combos)
+    findings = _credit(candidates, threshold_pct)
+    best = findings[0]["cause"] if findings else "none"
+    _show_fit(iv, used, outlier, np.exp(lsq.fitted[best]), vo, vt)
+    size_obs = 100.0 * (vt[keep].sum() / vo[keep].sum() - 1.0)
+    warnings += _result_warnings(findings, best, iv.index[used], outlier, size_obs, threshold_pct,
+                                 int((~used & np.isfinite(theirs)).sum()))
+    totals = _totals(vo, vt, hv, keep, s.price)
+    return CorrectorCheck(findings, candidates, iv, float(size_obs), float(threshold_pct), totals, warnings)
+
+
+# ------------------------------------------------------------------------------- the comparison frame
+def _z_base_of(gas, method, p, t) -> float:
+    """Z of ``gas`` at one state p [Pa], t [K] by ``method`` [-]."""
+    return float(np.asarray(evaluate_z(p, t, gas, method).z).reshape(-1)[0])
+
+
+def _ours_at_corrector_base(result, pb, tb, *, restate) -> np.ndarray:
+    """Our base volume of each interval [m3], restated at the corrector's base pb [Pa], tb [K].
+
+    When the corrector's base is the contract's (``restate`` False) this is ``volume_base``; else
+    ours is re-stated at the corrector's base (same gas) so that a correct corrector gives ratio 1.
+    """
+    s = result.settings
+    d = result.intervals
     ours = d["volume_base"].to_numpy(float)
-    if pressure_base is not None or temperature_base is not None:
-        # re-state ours at the corrector's base (same gas) so that a correct corrector gives ratio 1
+    if restate:
         zb_c = np.ones(len(d))
         for kk in np.unique(d["analysis"]):
             gas = result.analyses[int(kk)].gas
             m = d["analysis"].to_numpy(int) == kk
             if gas is not None and result.method["name"] != IDEAL_METHOD:
-                zb_c[m] = float(np.asarray(evaluate_z(pb, tb, gas, result.method["name"]).z).reshape(-1)[0])
+                zb_c[m] = _z_base_of(gas, result.method["name"], pb, tb)
         ours = ours * (s.base_pressure / pb) * (tb / s.base_temperature) * (zb_c / d["z_base"].to_numpy(float))
+    return ours
+
+
+def _comparable(d, ours, theirs) -> np.ndarray:
+    """Intervals compared [bool]: both volumes finite and positive, and ours not estimated."""
     est = d["estimated"].to_numpy(bool)
-    used = np.isfinite(theirs) & np.isfinite(ours) & (ours > 0) & (theirs > 0) & ~est
-    warnings = []
-    n_all = int(used.sum())
+    return np.isfinite(theirs) & np.isfinite(ours) & (ours > 0) & (theirs > 0) & ~est
+
+
+def _comparison_frame(d, ours, theirs, used) -> pd.DataFrame:
+    """The per-interval frame of the check: ours, theirs [m3], ratio [-], used, the line state
+    pressure_line [Pa], temperature_line [K]; outlier, fitted_ratio and residual_pct to be filled."""
     iv = pd.DataFrame({"ours": ours, "theirs": theirs}, index=d.index)
     iv["ratio"] = iv["theirs"] / iv["ours"]
     iv["used"] = used
@@ -261,31 +326,39 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     iv["temperature_line"] = d["temperature_line"].to_numpy(float)
     iv["fitted_ratio"] = np.nan
     iv["residual_pct"] = np.nan
-    if n_all < 3:
-        warnings.append(f"only {n_all} interval(s) with both corrector and our volume: no check")
-        return CorrectorCheck([], [], iv, np.nan, threshold_pct, {"intervals_compared": n_all}, warnings)
-    du = d[used]
-    vo = ours[used]
-    vt = theirs[used]
-    ratio_median = float(np.median(vt / vo))
+    return iv
+
+
+# ---------------------------------------------------------------------- the plausibility of the ratio
+def _plausible_ratio(du) -> tuple[float, float]:
+    """The range of median ratio corrector/ours [-] a configuration can give over the compared
+    intervals ``du``: PLAUSIBLE_RATIO, its low end widened to what gauge-read-as-absolute gives,
+    (pf - pa)/pf, when the atmospheric pressure is known."""
     lo, hi = PLAUSIBLE_RATIO
     atm_u = du["pressure_atm"].to_numpy(float) if "pressure_atm" in du else np.full(len(du), np.nan)
     if np.isfinite(atm_u).any():  # gauge read as absolute reaches (pf - pa)/pf
         pf_u = du["pressure_line"].to_numpy(float)
         g = np.nanmedian((pf_u - atm_u) / pf_u)
         lo = min(lo, 0.9 * float(g)) if np.isfinite(g) else lo
-    if not lo <= ratio_median <= hi:
-        warnings.append(
-            f"the site corrected volume is {ratio_median:.4g} times ours (median over {n_all} intervals): no base "
+    return lo, hi
+
+
+def _column_suspect_text(ratio_median, n_all, lo, hi) -> str:
+    """The warning when the median ratio [-] is outside what a configuration gives: not a corrected volume."""
+    return (f"the site corrected volume is {ratio_median:.4g} times ours (median over {n_all} intervals): no base "
             f"condition, Z or atmospheric setting gives a ratio outside {lo:.2g}-{hi:.2g}, so the column is not a "
             f"corrected volume in the unit its header says{_unit_mixup(ratio_median)}. The corrector check was not "
             "run; check the column and its unit (--column to pick another)")
-        iv["used"] = False
-        return CorrectorCheck([], [], iv, float("nan"), threshold_pct,
-                              {"intervals_compared": 0, "column_suspect": True, "ratio_median": ratio_median,
-                               "plausible_ratio": [lo, hi]}, warnings)
-    w_all = _weights(d["duration"].to_numpy(float) if "duration" in d else np.ones(len(d)), used)
-    y = np.log(vt / vo)
+
+
+# ---------------------------------------------------------------------------- the context of the causes
+def _cause_context(result, du, w_all, pb, tb) -> dict:
+    """What the causes' models of y = ln(V_corrector / V_ours) are built from, over the compared intervals du.
+
+    L = ln(Zf/Zb), β and γ the log-derivatives of Z [-], pf [Pa], lnT, T [K], lnZ, the weights w [-],
+    the corrector's base pb [Pa], tb [K], the mean Zb and atmospheric pressure [Pa], z_at(p, t)
+    (Z of each interval's gas) and z_base_at(p, t) (Z of the month's main gas, by base volume).
+    """
     zf = du["z_line"].to_numpy(float)
     zb = du["z_base"].to_numpy(float)
     beta, gamma = _log_derivatives(result, du)
@@ -300,23 +373,39 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     main = int(du.groupby("analysis")["volume_base"].sum().idxmax())
     ctx["z_base_main"] = float(result.analyses[main].z_base)
     gas_main = result.analyses[main].gas
-    ctx["z_base_at"] = (lambda p_, t_: 1.0) if (gas_main is None or result.method["name"] == IDEAL_METHOD) else (
-        lambda p_, t_: float(np.asarray(evaluate_z(p_, t_, gas_main, result.method["name"]).z).reshape(-1)[0]))
-    cause_sets = {zw: _causes(ctx, zw) for zw in (1.0, 0.5, 0.0)}
-    real_gas = float(np.max(np.abs(ctx["L"]))) > 1e-6
-    combos = combinations(real_gas)
+    method = result.method["name"]
+    ctx["z_base_at"] = (lambda p_, t_: 1.0) if (gas_main is None or method == IDEAL_METHOD) else (
+        lambda p_, t_: _z_base_of(gas_main, method, p_, t_))
+    return ctx
 
-    def zw_of(combo):
-        return 0.0 if ("ideal-gas" in combo or "fixed-z" in combo or "fixed-pressure" in combo) else (
-            0.5 if "fpv-not-squared" in combo else 1.0)
 
-    # 1. robust fits (soft L1) of every candidate: the best one says which intervals are outliers
+def _cause_sets(ctx) -> dict:
+    """The causes' models for each weight of ln(Zf/Zb) in the corrector's formula (1, ½, 0)."""
+    return {zw: _causes(ctx, zw) for zw in (1.0, 0.5, 0.0)}
+
+
+def _z_weight(combo) -> float:
+    """The weight of ln(Zf/Zb) a combination of causes keeps: 0 when the corrector uses no Z of
+    its own (ideal gas, a fixed Z, a fixed pressure), ½ for Fpv instead of Fpv², else 1."""
+    return 0.0 if ("ideal-gas" in combo or "fixed-z" in combo or "fixed-pressure" in combo) else (
+        0.5 if "fpv-not-squared" in combo else 1.0)
+
+
+# ----------------------------------------------------------------------- the robust pass, its outliers
+def _robust_outliers(y, w_all, combos, ctx) -> np.ndarray:
+    """Outliers of the compared intervals [bool]: robust fits (soft L1) of every candidate, the
+    best one (smallest MAD of residuals) says which intervals are more than OUTLIER_SIGMAS robust
+    standard deviations (and OUTLIER_FLOOR) off; none when that would be over a fifth of them.
+
+    y [-] ln(V_corrector / V_ours), w_all [-] duration weights, combos the candidates, ctx their context.
+    """
+    cause_sets = _cause_sets(ctx)
     s0 = max(_mad(y), SIGMA_FLOOR)
     sw_all = np.sqrt(w_all)
     best_scale, best_resid = _mad(y), y - np.median(y)
     with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
         for c in combos:
-            _, _, _, f, _, _ = fit(c, cause_sets[zw_of(c)], y, sw_all, loss="soft_l1",
+            _, _, _, f, _, _ = fit(c, cause_sets[_z_weight(c)], y, sw_all, loss="soft_l1",
                                    f_scale=s0 * float(np.median(sw_all)))
             r = y - f
             sc = _mad(r)
@@ -326,47 +415,95 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     outlier = dev > max(OUTLIER_SIGMAS * max(best_scale, SIGMA_FLOOR), OUTLIER_FLOOR)
     if outlier.sum() > 0.2 * len(y):  # no explanation fits most intervals: reject nothing
         outlier[:] = False
-    keep = ~outlier
-    iv.loc[iv.index[used][outlier], "outlier"] = True
-    n = int(keep.sum())
-    w = np.where(keep, w_all, 0.0)
-    w = w / w.sum()
-    sw = np.sqrt(w)
-    ctx["w"] = np.where(keep, w_all, 1e-300)
-    cause_sets = {zw: _causes(ctx, zw) for zw in (1.0, 0.5, 0.0)}
-    causes_1 = cause_sets[1.0]
-    hv = du["heating_value"].to_numpy(float)
-    price = s.price
-    vk = np.where(keep, vo, 0.0)
-    size_obs = 100.0 * (vt[keep].sum() / vo[keep].sum() - 1.0)
-    ss0 = float(np.sum(w * y**2))
+    return outlier
 
-    def month_effect(f):
-        dv = vk * np.expm1(f)
-        e = float(np.nansum(dv * hv)) if np.isfinite(hv).any() else np.nan
-        return 100.0 * float(dv.sum()) / vk.sum(), float(dv.sum()), e
 
-    none_score = n * np.log(ss0 + SIGMA_FLOOR**2)
-    candidates = [{"cause": "none", "description": "no misconfiguration", "causes": [], "score": float(none_score), "delta_bic": 0.0, "r2": 0.0,
-                   "rms_residual_pct": 100.0 * np.sqrt(ss0), "size_pct": 0.0, "parameters": {},
-                   "credited": False, "why_not": "the reference: no misconfiguration"}]
-    fitted = {"none": np.zeros(len(y))}
-    # a constant ratio (a base condition, a pulse or meter factor: the data cannot say which) is the
-    # reference a cause with a shape must beat; base-pressure and base-temperature are judged against none
-    theta_c = float(np.sum(w * y))
-    mse_c = float(np.sum(w * (y - theta_c) ** 2))
-    constant_score = n * np.log(mse_c + SIGMA_FLOOR**2) + 2 * np.log(n)
-    candidates.append({"cause": "constant-ratio", "description": "a constant ratio (a base condition, a pulse "
-                       "factor or a meter factor: the data cannot say which)", "causes": [], "score": float(constant_score),
-                       "delta_bic": float(none_score - constant_score),
-                       "r2": float(1.0 - mse_c / ss0) if ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse_c),
-                       "size_pct": 100.0 * float(np.expm1(theta_c)), "parameters": {"ratio": float(np.exp(theta_c))},
-                       "credited": False, "why_not": "the reference for causes with a shape: a constant ratio is a base "
-                                                     "condition, a pulse factor or a meter factor"})
-    fitted["constant-ratio"] = np.full(len(y), theta_c)
+# ---------------------------------------------------------------------------- the least-squares pass
+@dataclass
+class _LeastSquaresPass:
+    """Weighted least squares on the intervals kept, every candidate scored by BIC.
 
-    def evaluate(combo, exact):
-        theta, thetas, parts, f, at_bound, jac = fit(combo, cause_sets[zw_of(combo)], y, sw, exact=exact)
+    y [-] ln(V_corrector / V_ours); w [-] weights (0 on outliers, sum 1), sw = √w; n intervals
+    kept; vk [m3] our volume kept (0 on outliers); hv [J/m3] heating value; price [currency/J];
+    cause_sets the causes' models; ss0 [-] weighted mean square of y; ``fitted`` cause → fitted y;
+    none_score, constant_score the references' BIC (set by ``references``).
+    """
+
+    y: np.ndarray
+    w: np.ndarray
+    sw: np.ndarray
+    n: int
+    vk: np.ndarray
+    hv: np.ndarray
+    price: object
+    currency: object
+    cause_sets: dict
+    ss0: float
+    fitted: dict = field(default_factory=dict)
+    none_score: float = np.nan        # BIC of "no misconfiguration", set by references()
+    constant_score: float = np.nan    # BIC of a constant ratio, set by references()
+
+    @classmethod
+    def on_kept(cls, y, w_all, keep, vo, hv, ctx, price, currency):
+        """The pass over the intervals ``keep`` [bool]: weights renormalised, causes rebuilt on ctx."""
+        w = np.where(keep, w_all, 0.0)
+        w = w / w.sum()
+        return cls(y=y, w=w, sw=np.sqrt(w), n=int(keep.sum()), vk=np.where(keep, vo, 0.0), hv=hv, price=price,
+                   currency=currency, cause_sets=_cause_sets(ctx), ss0=float(np.sum(w * y**2)))
+
+    def month_effect(self, f):
+        """Month effect of a fitted ln-ratio f: [%], volume [m3], energy [J] (nan without heating value)."""
+        dv = self.vk * np.expm1(f)
+        e = float(np.nansum(dv * self.hv)) if np.isfinite(self.hv).any() else np.nan
+        return 100.0 * float(dv.sum()) / self.vk.sum(), float(dv.sum()), e
+
+    def _money(self, de):
+        return de * self.price if (self.price is not None and np.isfinite(de)) else None
+
+    def references(self):
+        """The two references a cause must beat: no misconfiguration (score n·ln(Σw y² + σ0²)) and
+        a constant ratio (a base condition, a pulse or meter factor: the data cannot say which),
+        against which a cause with a shape is judged; base-pressure and base-temperature against none."""
+        n, w, y, ss0 = self.n, self.w, self.y, self.ss0
+        self.none_score = n * np.log(ss0 + SIGMA_FLOOR**2)
+        none = {"cause": "none", "description": "no misconfiguration", "causes": [], "score": float(self.none_score),
+                "delta_bic": 0.0, "r2": 0.0, "rms_residual_pct": 100.0 * np.sqrt(ss0), "size_pct": 0.0,
+                "parameters": {}, "credited": False, "why_not": "the reference: no misconfiguration"}
+        self.fitted["none"] = np.zeros(len(y))
+        theta_c = float(np.sum(w * y))
+        mse_c = float(np.sum(w * (y - theta_c) ** 2))
+        self.constant_score = n * np.log(mse_c + SIGMA_FLOOR**2) + 2 * np.log(n)
+        constant = {"cause": "constant-ratio", "description": "a constant ratio (a base condition, a pulse "
+                    "factor or a meter factor: the data cannot say which)", "causes": [],
+                    "score": float(self.constant_score), "delta_bic": float(self.none_score - self.constant_score),
+                    "r2": float(1.0 - mse_c / ss0) if ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse_c),
+                    "size_pct": 100.0 * float(np.expm1(theta_c)), "parameters": {"ratio": float(np.exp(theta_c))},
+                    "credited": False, "why_not": "the reference for causes with a shape: a constant ratio is a base "
+                                                  "condition, a pulse factor or a meter factor"}
+        self.fitted["constant-ratio"] = np.full(len(y), theta_c)
+        return [none, constant]
+
+    def _parts_report(self, parts, thetas, exact):
+        """Each cause of a fit with its month effect and parameters; its plausibility penalty and why not."""
+        comps, params, pen, why = [], {}, 0.0, []
+        for p, th in zip(parts, thetas):
+            rep = p.report(th) if p.report else {}
+            pp, wy = plausibility(rep)
+            pen += pp
+            if wy:
+                why.append(wy)
+            fi = p.exact(th) if (exact and p.exact is not None) else p.f(th)
+            sz, dv, de = self.month_effect(fi)
+            comps.append({"cause": p.name, "description": CAUSE_TEXT.get(p.name, p.name), "size_pct": sz,
+                          "volume_impact_m3": dv, "energy_impact_MJ": de / 1e6 if np.isfinite(de) else None,
+                          "money_impact": self._money(de), "parameters": rep})
+            params.update(rep)
+        return comps, params, pen, why
+
+    def evaluate(self, combo, exact):
+        """Fit one candidate (Z at the believed state when ``exact``) and score it by BIC against its reference."""
+        y, w, n = self.y, self.w, self.n
+        theta, thetas, parts, f, at_bound, jac = fit(combo, self.cause_sets[_z_weight(combo)], y, self.sw, exact=exact)
         resid = y - f
         mse = float(np.sum(w * resid**2))
         k = sum(p.nparam for p in parts) + len(parts)
@@ -376,20 +513,7 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
                 se = np.sqrt(np.diag(np.linalg.inv(jac.T @ jac)) * mse / (n - k))
             except np.linalg.LinAlgError:
                 pass
-        comps, params, pen, why = [], {}, 0.0, []
-        for p, th in zip(parts, thetas):
-            rep = p.report(th) if p.report else {}
-            pp, wy = plausibility(rep)
-            pen += pp
-            if wy:
-                why.append(wy)
-            fi = p.exact(th) if (exact and p.exact is not None) else p.f(th)
-            sz, dv, de = month_effect(fi)
-            comps.append({"cause": p.name, "description": CAUSE_TEXT.get(p.name, p.name), "size_pct": sz,
-                          "volume_impact_m3": dv, "energy_impact_MJ": de / 1e6 if np.isfinite(de) else None,
-                          "money_impact": de * price if (price is not None and np.isfinite(de)) else None,
-                          "parameters": rep})
-            params.update(rep)
+        comps, params, pen, why = self._parts_report(parts, thetas, exact)
         if at_bound:
             why.append("a parameter ended on its physical bound")
         if "fixed-z" in combo:
@@ -397,30 +521,45 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
             if abs(theta[i]) <= max(2.0 * (se[i] if np.isfinite(se[i]) else 0.0), 1e-4):
                 why.append("the fixed Zb/Zf is 1: that is the ideal-gas cause, not another")
         score = n * np.log(mse + SIGMA_FLOOR**2) + k * np.log(n) + pen
-        sz, dv, de = month_effect(f)
+        sz, dv, de = self.month_effect(f)
         name = "+".join(combo)
-        fitted[name] = f
+        self.fitted[name] = f
         constant_shaped = all(c.startswith("base-") for c in combo)
-        reference = none_score if constant_shaped else min(none_score, constant_score)
+        reference = self.none_score if constant_shaped else min(self.none_score, self.constant_score)
         return {
             "cause": name, "description": cause_text(name), "device_type": device_type(name), "causes": comps,
             "score": float(score),
             "delta_bic": float(reference - score),
-            "reference": "none" if reference == none_score else "constant-ratio",
-            "r2": float(1.0 - mse / ss0) if ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse),
+            "reference": "none" if reference == self.none_score else "constant-ratio",
+            "r2": float(1.0 - mse / self.ss0) if self.ss0 > 0 else 0.0, "rms_residual_pct": 100.0 * np.sqrt(mse),
             "size_pct": sz, "volume_impact_m3": dv, "energy_impact_MJ": de / 1e6 if np.isfinite(de) else None,
-            "money_impact": de * price if (price is not None and np.isfinite(de)) else None,
+            "money_impact": self._money(de),
             "parameters": params, "parameter_standard_errors": [float(x) for x in se],
-            "currency": s.currency, "_combo": combo, "_why": why,
+            "currency": self.currency, "_combo": combo, "_why": why,
         }
 
-    # 2. weighted least squares on the intervals kept, the leading ones refitted with Z at the believed state
-    with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
-        linear = sorted((evaluate(c, False) for c in combos), key=lambda c: c["score"])
-        refit = [c["_combo"] for c in linear[:6] if any(causes_1[x].exact is not None for x in c["_combo"])]
-        exact = {c: evaluate(c, True) for c in refit}
-    candidates += [exact.get(c["_combo"], c) for c in linear]
-    candidates.sort(key=lambda c: c["score"])
+    def candidates(self, combos):
+        """Every explanation tried, best score first: the references, every combination by the
+        linearised models, the leading six refitted with Z at the believed state."""
+        out = self.references()
+        causes_1 = self.cause_sets[1.0]
+        with np.errstate(over="ignore", invalid="ignore", divide="ignore"):
+            linear = sorted((self.evaluate(c, False) for c in combos), key=lambda c: c["score"])
+            refit = [c["_combo"] for c in linear[:6] if any(causes_1[x].exact is not None for x in c["_combo"])]
+            exact = {c: self.evaluate(c, True) for c in refit}
+        out += [exact.get(c["_combo"], c) for c in linear]
+        out.sort(key=lambda c: c["score"])
+        return out
+
+
+# ------------------------------------------------------------------------------- crediting the findings
+def _credit(candidates, threshold_pct) -> list:
+    """Mark each candidate credited or not (with why not) and return the findings, material first.
+
+    A finding beats its reference by EVIDENCE_DELTA_BIC, explains half the deviation (R² >= 0.5),
+    changes the month by EVIDENCE_FLOOR_PCT [%], adds nothing to a better finding; at most five.
+    ``material``: month effect above threshold_pct [%]; ``rank`` from 1.
+    """
     findings = []
     for c in candidates:
         c.pop("_combo", None)
@@ -447,12 +586,22 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     findings.sort(key=lambda f: (not f["material"], f["score"]))
     for i, f in enumerate(findings):
         f["rank"] = i + 1
-    best = findings[0]["cause"] if findings else "none"
-    fr = np.exp(fitted[best])
+    return findings
+
+
+def _show_fit(iv, used, outlier, fr, vo, vt) -> None:
+    """Fill the frame with the best explanation's fitted ratio fr [-] and residual [%]; outliers not used."""
     idx = iv.index[used]
     iv.loc[idx, "fitted_ratio"] = fr
     iv.loc[idx, "residual_pct"] = 100.0 * (vt / (vo * fr) - 1.0)
     iv.loc[idx[outlier], "used"] = False
+
+
+def _result_warnings(findings, best, idx, outlier, size_obs, threshold_pct, n_not_compared) -> list:
+    """What the engineer should look at: outliers left out (first at idx[outlier][0]), a best
+    explanation leaving over 5 % unexplained, findings below the threshold [%], a difference
+    size_obs [%] nothing explains, and the intervals not compared."""
+    warnings = []
     if outlier.any():
         warnings.append(f"{int(outlier.sum())} interval(s) left out as outliers (corrector and our volume disagree "
                         f"beyond {OUTLIER_SIGMAS:g} robust standard deviations of the best fit; e.g. an interval "
@@ -467,14 +616,20 @@ def check_corrector(result, frame: pd.DataFrame, *, threshold_pct=None, pressure
     if not findings and abs(size_obs) > threshold_pct:
         warnings.append(f"the corrector differs from ours by {size_obs:+.3g} % and no misconfiguration tried "
                         "explains it with plausible settings: check its configuration and pulse factor")
-    if (~used & np.isfinite(theirs)).any():
-        warnings.append(f"{int((~used & np.isfinite(theirs)).sum())} interval(s) not compared "
+    if n_not_compared:
+        warnings.append(f"{n_not_compared} interval(s) not compared "
                         "(estimated, zero, missing volume or outlier)")
-    totals = {"intervals_compared": n, "intervals_outlier": int(outlier.sum()),
+    return warnings
+
+
+def _totals(vo, vt, hv, keep, price) -> dict:
+    """Totals over the intervals kept: ours and the corrector's volume [m3], their difference [m3],
+    in energy [MJ] (None without heating value) and money (with a price)."""
+    totals = {"intervals_compared": int(keep.sum()), "intervals_outlier": int((~keep).sum()),
               "volume_ours_m3": float(vo[keep].sum()), "volume_corrector_m3": float(vt[keep].sum()),
               "volume_difference_m3": float(vt[keep].sum() - vo[keep].sum()),
               "energy_difference_MJ": float(np.nansum((vt[keep] - vo[keep]) * hv[keep])) / 1e6
               if np.isfinite(hv).any() else None}
     if price is not None and totals["energy_difference_MJ"] is not None:
         totals["money_difference"] = totals["energy_difference_MJ"] * 1e6 * price
-    return CorrectorCheck(findings, candidates, iv, float(size_obs), float(threshold_pct), totals, warnings)
+    return totals
