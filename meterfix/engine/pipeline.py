@@ -447,6 +447,11 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
               flow_meter=None) -> MonthResult:
     """Correct every interval of a canonical log and total it.
 
+    The steps of the module docstring, in order: the inputs checked, absolute line pressure, the
+    analysis in force for each interval and what the run derives from it, Z at line conditions,
+    the meter kind's figures, the conversion to base conditions, the interval table with its flags
+    and gas days, the totals by gas day, month and analysis period, the findings and warnings.
+
     Parameters
     ----------
     frame : DataFrame
@@ -466,6 +471,68 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     -------
     MonthResult
     """
+    method = _check_inputs(frame, settings)
+    analyses = _analyses_in_order(analyses, method.name)
+    # the same columns without the frame's attrs: pandas deep-copies a frame's attrs into every
+    # column taken from it (the quality record is in them), which costs more than the column
+    frame = pd.DataFrame(frame, copy=False)
+    index = frame.index.copy()
+    n = len(frame)
+    duration = frame["duration"].to_numpy(float) if "duration" in frame.columns else np.full(n, np.nan)
+    p, atm, atm_source = absolute_pressure(frame, settings)
+    tl = frame["temperature_line"].to_numpy(float)
+    vl = frame["volume_line"].to_numpy(float)
+    which = _analysis_of_intervals(analyses, index, duration)
+    in_force = [_analysis_in_force(when, gas, settings, method.name) for when, gas in analyses]
+    z_line, z_range, z_reason = _z_at_line(in_force, which, p, tl, method.name)
+    z_b = np.array([a.z_base for a in in_force], float)[which]              # [-]
+    hv = np.array([a.heating_value for a in in_force], float)[which]        # [J/m3]
+    rho_b = np.array([a.density_base for a in in_force], float)[which]      # [kg/m3]
+    fm = _flow_meter_of(flow_meter, settings)
+    kind = _meter_kind(fm, frame, p, tl, vl, duration, which, in_force, settings, method.name)
+    if kind is not None:
+        vl = kind.volume_line
+    conv = _to_base(vl, p, tl, z_line, z_b, rho_b, hv, settings, kind, fm, which, in_force)
+    bad = ~np.isfinite(conv["volume_base"])
+    # the interval table, built in one go (column order is part of the output)
+    cols = {"duration": duration, "pressure_line": p, "pressure_atm": atm, "temperature_line": tl,
+            "volume_line": vl, "analysis": which, "z_line": z_line, "z_base": z_b,
+            **{c: conv[c] for c in ("factor_pressure", "factor_temperature", "factor_z", "volume_base",
+                                    "volume_base_ideal", "ideal_gas_error_pct", "mass")},
+            "heating_value": hv, "energy": conv["energy"],
+            "z_range": pd.Categorical.from_codes(z_range, dtype=_Z_RANGE_DTYPE),
+            "z_reason": z_reason}
+    sos_cols, sos = _speed_of_sound(fm, frame, p, tl, which, in_force, method.name, settings, index, duration)
+    for extra in (kind.columns if kind is not None else {}), (sos_cols or {}):
+        cols.update(extra)
+    all_flags = _add_flags(cols, frame, kind, sos, z_range, z_line, bad, vl)
+    day_list, day_codes = _gas_day(index, duration, settings)
+    cols["gas_day"] = day_list[day_codes]
+    days, months, periods = _period_totals(cols, day_list, day_codes, which, in_force)
+    df = pd.DataFrame(cols, index=index)
+    totals = _totals(cols)
+    flags = {c[5:]: int(np.count_nonzero(cols[c])) for c in all_flags}
+    findings = _findings(cols, index, days, settings.ideal_gas_threshold)
+    avg = _average_correction(cols, in_force, settings, method.name) if in_force[0].gas is not None or method.name == IDEAL_METHOD else {}
+    warn = _run_warnings(flags, totals, method.name, kind, sos)
+    method_record = {"name": method.name, "edition": method.edition, "range": method.range_text,
+                     "atmospheric_pressure_source": atm_source, "energy_standard": _energy_standard(in_force, settings)}
+    if kind is not None and kind.density_source:
+        method_record["density"] = kind.density_source
+    inputs = list(metadata.sources or []) if metadata is not None else []
+    return MonthResult(
+        settings=settings, intervals=df, gas_days=days, months=months, analysis_periods=periods, totals=totals,
+        findings=findings, average_correction=avg,
+        edits=edits if edits is not None else pd.DataFrame(columns=["time", "what", "original", "new", "method", "reason"]),
+        flags=flags, analyses=in_force, method=method_record,
+        inputs=inputs, log_metadata=metadata, warnings=warn,
+        flow_meter=kind.record if kind is not None else None, speed_of_sound_check=sos[0] if sos is not None else None,
+    )
+
+
+def _check_inputs(frame: pd.DataFrame, settings: Settings):
+    """The Z method of the run, once the inputs a run needs are there (base conditions, intervals,
+    the temperature and volume columns); else SettingsError naming the fix."""
     if settings.base_pressure is None or settings.base_temperature is None:
         raise SettingsError("no contract base conditions are set",
                             hint="give --base-pressure and --base-temperature, or --base PRESET")
@@ -476,94 +543,112 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         if col not in frame.columns:
             raise SettingsError(f"the canonical log has no '{col}' column",
                                 hint="map the source column with --column or the site file's [columns] table")
+    return method
+
+
+def _analyses_in_order(analyses, method: str) -> list:
+    """The analyses (effective_from or None, gas) in time order; one without gas (None) for an
+    ideal-gas run without analysis, else SettingsError."""
     analyses = list(analyses or [])
     if not analyses:
-        if method.name != IDEAL_METHOD:
+        if method != IDEAL_METHOD:
             raise SettingsError("no gas analysis is given",
                                 hint="give --composition FILE (an analysis) or --gas 'methane=0.95,...'")
         analyses = [(None, None)]
-    analyses = sorted(analyses, key=lambda a: pd.Timestamp.min.tz_localize("UTC") if a[0] is None else a[0])
+    return sorted(analyses, key=lambda a: pd.Timestamp.min.tz_localize("UTC") if a[0] is None else a[0])
 
-    # the same columns without the frame's attrs: pandas deep-copies a frame's attrs into every
-    # column taken from it (the quality record is in them), which costs more than the column
-    frame = pd.DataFrame(frame, copy=False)
-    index = frame.index.copy()
-    n = len(frame)
-    duration = frame["duration"].to_numpy(float) if "duration" in frame.columns else np.full(n, np.nan)
-    p, atm, atm_source = absolute_pressure(frame, settings)
-    tl = frame["temperature_line"].to_numpy(float)
-    vl = frame["volume_line"].to_numpy(float)
 
-    # analysis in force for each interval: the latest one whose effective time is at or before the
-    # interval's start
+def _analysis_of_intervals(analyses, index: pd.DatetimeIndex, duration: np.ndarray) -> np.ndarray:
+    """The analysis in force for each interval [position in ``analyses``]: the latest one whose
+    effective time is at or before the interval's start (end ``index`` less ``duration`` [s])."""
     eff = np.array([np.iinfo(np.int64).min if a[0] is None else pd.Timestamp(a[0]).as_unit("ns").value
                     for a in analyses], dtype=np.int64)
     starts = (index - pd.to_timedelta(np.nan_to_num(duration), unit="s")).as_unit("ns").asi8
     which = np.searchsorted(eff, starts, side="right") - 1
-    which = np.clip(which, 0, len(analyses) - 1)
+    return np.clip(which, 0, len(analyses) - 1)
 
+
+def _analysis_in_force(when, gas, settings: Settings, method: str) -> AnalysisInForce:
+    """What the run derives from one analysis at the contract base: Zb, molar mass [kg/mol], the
+    gross heating value [J/m3] and its source (ISO 6976 for a composition, unless one is supplied),
+    base density [kg/m3], relative density [-] and Wobbe index [J/m3]. No gas: Zb = 1."""
+    a = AnalysisInForce(when, gas)
+    if gas is None:
+        a.z_base = 1.0
+        return a
+    rb = evaluate_z(settings.base_pressure, settings.base_temperature, gas, method)
+    a.z_base = float(np.asarray(rb.z).reshape(-1)[0])
+    a.molar_mass = _molar_mass(gas)
+    if not (isinstance(gas, Composition) and settings.heating_value is None):
+        a.heating_value, a.heating_value_source = _heating_value(gas, settings)
+    a.density_base = float(K.density_at_base(settings.base_pressure, settings.base_temperature,
+                                             a.z_base, a.molar_mass))
+    if isinstance(gas, Composition):
+        _composition_energy(a, gas, settings, method)
+    return a
+
+
+def _composition_energy(a: AnalysisInForce, gas: Composition, settings: Settings, method: str) -> None:
+    """An analysis' ISO 6976 properties at the contract base (when no heating value is supplied):
+    heating value [J/m3], its US figures, relative density [-] and Wobbe index [J/m3], set on ``a``."""
+    from .. import energy as E
+    from ..energy.month import analysis_energy, us_heating_value
+
+    if settings.heating_value is None:
+        a.energy = analysis_energy(
+            gas, temperature_combustion=settings.combustion_temperature,
+            temperature_metering=settings.base_temperature, pressure_metering=settings.base_pressure,
+            edition=settings.energy_edition, z_metering=a.z_base)
+        a.heating_value, a.heating_value_source = float(a.energy.gross_volumetric), a.energy.source
+        a.heating_value_us = us_heating_value(gas, settings.energy_edition)
+    if a.energy is not None and np.isfinite(a.energy.relative_density):
+        a.relative_density = float(a.energy.relative_density)
+        a.wobbe_index = float(a.energy.wobbe_index)
+    else:
+        a.relative_density = float(E.relative_density(
+            gas, temperature_metering=settings.base_temperature, pressure_metering=settings.base_pressure,
+            z_metering=a.z_base, method=method))
+        if np.isfinite(a.heating_value):
+            a.wobbe_index = float(E.wobbe_index(a.heating_value, a.relative_density))
+
+
+def _z_at_line(in_force, which, p, tl, method: str):
+    """Z at line conditions of each interval with its analysis in force (1 without gas) [-], the
+    method's range class (int8, RANGE_NAMES) and the reason a state is outside it."""
+    n = len(which)
     z_line = np.full(n, np.nan)
     z_range = np.zeros(n, dtype=np.int8)
     z_reason = np.full(n, "", dtype=object)
-    hv = np.full(n, np.nan)
-    rho_b = np.full(n, np.nan)
-    z_b = np.full(n, np.nan)
-    in_force = []
-    for k, (when, gas) in enumerate(analyses):
-        a = AnalysisInForce(when, gas)
-        if gas is None:
-            a.z_base = 1.0
-        else:
-            rb = evaluate_z(settings.base_pressure, settings.base_temperature, gas, method.name)
-            a.z_base = float(np.asarray(rb.z).reshape(-1)[0])
-            a.molar_mass = _molar_mass(gas)
-            if not (isinstance(gas, Composition) and settings.heating_value is None):
-                a.heating_value, a.heating_value_source = _heating_value(gas, settings)
-            a.density_base = float(K.density_at_base(settings.base_pressure, settings.base_temperature,
-                                                     a.z_base, a.molar_mass))
-            if isinstance(gas, Composition):
-                from .. import energy as E
-                from ..energy.month import analysis_energy, us_heating_value
-
-                if settings.heating_value is None:
-                    a.energy = analysis_energy(
-                        gas, temperature_combustion=settings.combustion_temperature,
-                        temperature_metering=settings.base_temperature, pressure_metering=settings.base_pressure,
-                        edition=settings.energy_edition, z_metering=a.z_base)
-                    a.heating_value, a.heating_value_source = float(a.energy.gross_volumetric), a.energy.source
-                    a.heating_value_us = us_heating_value(gas, settings.energy_edition)
-                if a.energy is not None and np.isfinite(a.energy.relative_density):
-                    a.relative_density = float(a.energy.relative_density)
-                    a.wobbe_index = float(a.energy.wobbe_index)
-                else:
-                    a.relative_density = float(E.relative_density(
-                        gas, temperature_metering=settings.base_temperature, pressure_metering=settings.base_pressure,
-                        z_metering=a.z_base, method=method.name))
-                    if np.isfinite(a.heating_value):
-                        a.wobbe_index = float(E.wobbe_index(a.heating_value, a.relative_density))
-        in_force.append(a)
+    for k, a in enumerate(in_force):
         sel = which == k
         if not sel.any():
             continue
-        if gas is None:
+        if a.gas is None:
             z_line[sel] = 1.0
         else:
-            res = evaluate_z(p[sel], tl[sel], gas, method.name, speed_of_sound=False)  # Z only
+            res = evaluate_z(p[sel], tl[sel], a.gas, method, speed_of_sound=False)  # Z only
             z_line[sel] = np.broadcast_to(res.z, (int(sel.sum()),))
             z_range[sel] = np.broadcast_to(res.range_class, (int(sel.sum()),))
             z_reason[sel] = np.broadcast_to(res.reason, (int(sel.sum()),))
-        z_b[sel] = a.z_base
-        hv[sel] = a.heating_value
-        rho_b[sel] = a.density_base
+    return z_line, z_range, z_reason
 
-    fm = flow_meter if flow_meter is not None else getattr(settings, "flow_meter", None)
-    if isinstance(fm, dict):  # the settings' [flow_meter] table (SI values), checked together
+
+def _flow_meter_of(flow_meter, settings: Settings):
+    """The meter's kind (FlowMeter): the one given, else the settings' [flow_meter] table (SI values,
+    checked together), None for a plain volume meter."""
+    fm = flow_meter if flow_meter is not None else settings.flow_meter
+    if isinstance(fm, dict):
         from .flow_meter import parse_flow_meter
 
         fm = parse_flow_meter(fm) if fm else None
-    kind = _meter_kind(fm, frame, p, tl, vl, duration, which, in_force, settings, method.name)
-    if kind is not None:
-        vl = kind.volume_line
+    return fm
+
+
+def _to_base(vl, p, tl, z_line, z_b, rho_b, hv, settings: Settings, kind, fm, which, in_force) -> dict:
+    """The conversion of each interval to base conditions (AGA Report No. 7 / EN 12405-1 form,
+    common practice): Fp, Ft, Zb/Zf [-], base volume Vb = V Fp Ft Zb/Zf and the same with Z = 1
+    [m3], its ideal-gas error [%], mass [kg] and energy [J]. A measured mass (Coriolis, orifice)
+    gives Vb = m / ρb instead. The ideal-gas figure is left out where Vb has no result."""
     pb, tb = settings.base_pressure, settings.base_temperature
     with np.errstate(invalid="ignore", divide="ignore"):
         fp = K.factor_pressure(p, pb)
@@ -580,25 +665,29 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
             # the ideal-gas figures: rho_b(Z = 1) = Zb rho_b; an orifice's qm ~ sqrt(rho1) ~ 1/sqrt(Z1)
             vi = vb / z_b * (np.sqrt(z_line) if fm.kind == "orifice" else 1.0)
             energy = _energy_from_mass(mass, vb, hv, which, in_force)
-    bad = ~np.isfinite(vb)
-    vi = np.where(bad, np.nan, vi)
-    # the interval table, built in one go (column order is part of the output)
-    cols = {"duration": duration, "pressure_line": p, "pressure_atm": atm, "temperature_line": tl,
-            "volume_line": vl, "analysis": which, "z_line": z_line, "z_base": z_b, "factor_pressure": fp,
-            "factor_temperature": ft, "factor_z": fz, "volume_base": vb, "volume_base_ideal": vi,
-            "ideal_gas_error_pct": K.ideal_gas_error_pct(vi, vb), "mass": mass, "heating_value": hv,
-            "energy": energy,
-            "z_range": pd.Categorical.from_codes(z_range, dtype=_Z_RANGE_DTYPE),
-            "z_reason": z_reason}
-    sos_cols, sos = (None, None)
-    if fm is not None or "speed_of_sound" in frame.columns:
-        from .meter_kinds import speed_of_sound_check
+    vi = np.where(~np.isfinite(vb), np.nan, vi)
+    return {"factor_pressure": fp, "factor_temperature": ft, "factor_z": fz, "volume_base": vb,
+            "volume_base_ideal": vi, "ideal_gas_error_pct": K.ideal_gas_error_pct(vi, vb), "mass": mass,
+            "energy": energy}
 
-        threshold = getattr(settings, "speed_of_sound_threshold", None)
-        threshold = 0.2 if threshold is None else threshold
-        sos_cols, sos = speed_of_sound_check(frame, p, tl, which, in_force, method.name, threshold, index, duration)
-    for extra in (kind.columns if kind is not None else {}), (sos_cols or {}):
-        cols.update(extra)
+
+def _speed_of_sound(fm, frame, p, tl, which, in_force, method: str, settings: Settings, index, duration):
+    """The speed-of-sound check (engine.meter_kinds) when the meter has a kind or the log a
+    ``speed_of_sound`` column: its interval columns and (record, flagged mask), else (None, None)."""
+    if fm is None and "speed_of_sound" not in frame.columns:
+        return None, None
+    from .meter_kinds import speed_of_sound_check
+
+    threshold = settings.speed_of_sound_threshold
+    threshold = 0.2 if threshold is None else threshold
+    return speed_of_sound_check(frame, p, tl, which, in_force, method, threshold, index, duration)
+
+
+def _add_flags(cols: dict, frame, kind, sos, z_range, z_line, bad, vl) -> list:
+    """Add the flag_* columns to the interval table: the reader's, the meter kind's, the speed of
+    sound's, Z outside its range, no result; then ``estimated`` and ``flagged`` (any flag).
+    Returns the flag columns' names in order."""
+    n = len(vl)
     for c in frame.columns:
         if c.startswith("flag_"):
             cols[c] = frame[c].to_numpy(bool)
@@ -611,14 +700,17 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
     cols["estimated"] = frame["flag_estimated"].to_numpy(bool) if "flag_estimated" in frame.columns else np.zeros(n, bool)
     all_flags = [c for c in cols if c.startswith("flag_")]
     cols["flagged"] = np.logical_or.reduce([cols[c] for c in all_flags])
-    day_list, day_codes = _gas_day(index, duration, settings)
-    cols["gas_day"] = day_list[day_codes]
-    # months of the gas days, and the analyses that are in force somewhere in the log
+    return all_flags
+
+
+def _period_totals(cols: dict, day_list, day_codes, which, in_force) -> list:
+    """Totals by gas day, by month of gas day ('YYYY-MM') and by analysis period (with its
+    effective time, Zb and heating value [J/m3]), one DataFrame each (_group_totals)."""
     ym = np.array([d.year * 12 + d.month - 1 for d in day_list], dtype=np.int64)
     month_ym, month_of_day = np.unique(ym, return_inverse=True)
     month_keys = [f"{m // 12:04d}-{m % 12 + 1:02d}" for m in month_ym]
-    used, period_codes = np.unique(which, return_inverse=True)
-    days, months, periods = _group_totals(cols, [
+    used, period_codes = np.unique(which, return_inverse=True)  # the analyses in force somewhere in the log
+    return _group_totals(cols, [
         (day_codes, pd.Index(day_list, dtype=object, name="gas_day")),
         (month_of_day.reshape(-1)[day_codes], pd.Index(month_keys, name="month")),
         (period_codes.reshape(-1), pd.Index(used, name="analysis"),
@@ -626,14 +718,14 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
                              else pd.Timestamp(in_force[i].effective_from).isoformat() for i in used]},
          {"z_base": [in_force[i].z_base for i in used], "heating_value": [in_force[i].heating_value for i in used]}),
     ])
-    df = pd.DataFrame(cols, index=index)
-    totals = _totals(cols)
-    flags = {c[5:]: int(np.count_nonzero(cols[c])) for c in all_flags}
-    findings = _findings(cols, index, days, settings.ideal_gas_threshold)
-    avg = _average_correction(cols, in_force, settings, method.name) if in_force[0].gas is not None or method.name == IDEAL_METHOD else {}
+
+
+def _run_warnings(flags: dict, totals: dict, method: str, kind, sos) -> list:
+    """The run's warnings: intervals outside the method's range, volume without result, the meter
+    kind's findings and flags, a speed of sound off the analysis'."""
     warn = []
     if flags.get("z_outside_range"):
-        warn.append(f"{flags['z_outside_range']} interval(s) outside the range of {method.name}: see the z_range column")
+        warn.append(f"{flags['z_outside_range']} interval(s) outside the range of {method}: see the z_range column")
     if totals["intervals_without_result"]:
         warn.append(f"{totals['intervals_without_result']} interval(s) with volume but no corrected result "
                     f"({totals['uncorrected_volume_without_result_m3']:.6g} m3 uncorrected)")
@@ -646,19 +738,7 @@ def run_month(frame: pd.DataFrame, analyses, settings: Settings, *, metadata=Non
         warn.append(f"{sos[0]['flagged_intervals']} interval(s) where the meter's speed of sound differs from the "
                     f"analysis' by more than {sos[0]['threshold_pct']:g} %: a wrong analysis, temperature or "
                     f"pressure, or a meter fault")
-    method_record = {"name": method.name, "edition": method.edition, "range": method.range_text,
-                     "atmospheric_pressure_source": atm_source, "energy_standard": _energy_standard(in_force, settings)}
-    if kind is not None and kind.density_source:
-        method_record["density"] = kind.density_source
-    inputs = list(metadata.sources or []) if metadata is not None else []
-    return MonthResult(
-        settings=settings, intervals=df, gas_days=days, months=months, analysis_periods=periods, totals=totals,
-        findings=findings, average_correction=avg,
-        edits=edits if edits is not None else pd.DataFrame(columns=["time", "what", "original", "new", "method", "reason"]),
-        flags=flags, analyses=in_force, method=method_record,
-        inputs=inputs, log_metadata=metadata, warnings=warn,
-        flow_meter=kind.record if kind is not None else None, speed_of_sound_check=sos[0] if sos is not None else None,
-    )
+    return warn
 
 
 def _meter_kind(fm, frame, p, tl, vl, duration, which, in_force, settings, method: str):
