@@ -463,6 +463,11 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
                 blocks: int = 10, grouping: bool = True) -> dict:
     """Monte Carlo of the month total, and the JCGM 101 §8 validation of the GUM result.
 
+    The steps of the module docstring, in order: the terms sorted into the ways they enter the
+    model, the random inputs split into explicit intervals and an aggregated remainder, the
+    columns the trials are evaluated on (the intervals' sums, checked against every interval on
+    the first trials), the adaptive stages of trials (JCGM 101 §7.9.4), the summary.
+
     Parameters
     ----------
     model : IntervalModel          from :func:`meterfix.uncertainty.budget.build_model`
@@ -497,20 +502,60 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
     rng = np.random.default_rng(seed)
     n = model.volume.size
     A = model.n_analyses
-    V = model.volume
-    En = model.energy
-    has_e = En is not None
-    y_v = float(np.sum(V))
-    y_e = float(np.sum(En)) if has_e else 0.0
+    has_e = model.energy is not None
+    y_v = float(np.sum(model.volume))
+    y_e = float(np.sum(model.energy)) if has_e else 0.0
     # the digits are those of u as a month quotes it, in percent of the month's total
     dig_v, tol_v = _tolerance(gum_u_volume, n_dig)
     dig_e, tol_e = _tolerance(gum_u_energy or 0.0, n_dig)
     delta_v = abs(y_v) * tol_v
     delta_e = abs(y_e) * tol_e if has_e and gum_u_energy else 0.0
 
-    # ---- sort the terms into the ways they enter the model ----------------------------------
-    entries = []  # (kind, coefficient (n,), term, row): relative deviation of the quantity per unit draw
-    analysis_level = []  # (kind, u per analysis (A,), term)
+    entries, analysis_level, comp = _sort_terms(model)
+    rnd = _RandomSplit.of(model, entries, explicit_max)
+    exact_cols = _interval_columns(model, entries, rnd.explicit, A)
+    grouped_cols = _reduced_columns(model, entries, rnd.explicit, A, comp) if grouping else None
+    use = grouped_cols is not None and grouped_cols.weights.shape[0] < n
+    cols = grouped_cols if use else exact_cols
+    trials = _Trials(model, rng, entries, analysis_level, comp, rnd, chunk_elements)
+    cols, check = _check_grouping(trials, cols, grouped_cols, exact_cols, use, draws, y_v, delta_v, delta_e)
+    vol, ene, stages, e_stages, done = _adaptive_stages(trials, cols, draws, max_draws, coverage, delta_v,
+                                                         delta_e, progress)
+
+    spread = _stage_spread(stages) if len(stages) >= 2 else None
+    out = _summarise(vol[:done], y_v, gum_u_volume, coverage, n_dig, blocks, "m3", spread, done)
+    out.update({
+        "draws": int(done), "first_stage_draws": draws, "stage_draws": draws, "stages": len(stages),
+        "max_draws": int(max_draws), "seed": int(seed),
+        "generator": "numpy PCG64 (default_rng)", "coverage_probability": coverage, "n_dig": dig_v, "k_p": K_95,
+        "evaluation": check,
+        "random_explicit_intervals": int(rnd.explicit.size),
+        "random_aggregated_intervals": int(rnd.rest.size),
+        "random_aggregated_variance_share_pct": 100.0 * rnd.s_v / rnd.total if rnd.total > 0 else 0.0,
+        "random_aggregated_max_interval_share_pct": 100.0 * rnd.max_share,
+        "model": "measurement equation per interval, relative deviations multiplied exactly; Z by its "
+                 "second-order expansion in ln p and ln T, first order in composition; evaluated on the "
+                 "intervals' sums (moment-matched points, within 1e-8 of the per-interval sum)",
+    })
+    if has_e and gum_u_energy is not None:
+        out["energy"] = _summarise(ene[:done], y_e, gum_u_energy, coverage, n_dig, blocks, "J",
+                                   _stage_spread(e_stages) if len(e_stages) >= 2 else None, done)
+        out["energy"]["n_dig"] = dig_e
+    else:
+        out["energy"] = None
+    return out
+
+
+def _sort_terms(model):
+    """The budget's terms sorted into the ways they enter the model.
+
+    Returns (entries, analysis_level, comp): entries, (kind, coefficient (n,) [-], term, row) the
+    relative deviation of an interval's quantity per unit draw (pressure, temperature, meter and Z
+    inputs); analysis_level, (kind, u per analysis (A,) [-], term) for the base Z and the heating
+    value; comp, the composition term (or None).
+    """
+    entries = []
+    analysis_level = []
     comp = None
     for t in model.terms:
         if t.key in _PRESSURE_KINDS + _TEMPERATURE_KINDS + _METER_KINDS + _Z_KINDS:
@@ -530,117 +575,175 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
                     analysis_level.append((t.key, ua, t))
         elif t.key == "composition" and t.spec.standard > 0 and model.comp_line is not None:
             comp = t
+    return entries, analysis_level, comp
 
-    # ---- random inputs: explicit intervals and the aggregated remainder -----------------------
-    var_v, var_e, cov_ve = np.zeros(n), np.zeros(n), np.zeros(n)
-    for kind, coef, t, r in entries:
-        if t.mode != "independent":
-            continue
-        cv = t.c_volume[r] * t.u[r]
-        var_v += cv**2
-        if has_e:
-            ce = t.c_energy[r] * t.u[r]
-            var_e += ce**2
-            cov_ve += cv * ce
-    with_random = np.flatnonzero(var_v > 0)
-    if with_random.size <= explicit_max:
-        explicit = with_random
-    else:
-        order = np.argsort(-(V[with_random] ** 2) * var_v[with_random], kind="stable")
-        explicit = np.sort(with_random[order[:explicit_max]])
-    rest = np.setdiff1d(with_random, explicit)
-    s_v = float(np.sum(V[rest] ** 2 * var_v[rest]))
-    s_e = float(np.sum(En[rest] ** 2 * var_e[rest])) if has_e else 0.0
-    s_ve = float(np.sum(V[rest] * En[rest] * cov_ve[rest])) if has_e else 0.0
-    rest_max_share = float(np.max(V[rest] ** 2 * var_v[rest]) / s_v) if rest.size and s_v > 0 else 0.0
-    rv_total = float(np.sum(V**2 * var_v))
 
-    exact_cols = _interval_columns(model, entries, explicit, A)
-    grouped_cols = _reduced_columns(model, entries, explicit, A, comp) if grouping else None
-    use = grouped_cols is not None and grouped_cols.weights.shape[0] < n
-    cols = grouped_cols if use else exact_cols
-    mode = "interval sums" if use else "per interval"
+class _RandomSplit:
+    """The random (independent) inputs: the intervals drawn one by one and the aggregated remainder.
 
-    def draw_chunk(k):
+    explicit, rest : int arrays   intervals drawn explicitly (the ``explicit_max`` largest random
+                                  variances V_i² u_i²) and the rest, drawn as one normal per trial
+    s_v, s_e, s_ve : float        the remainder's variance of the base volume [m6], of the energy
+                                  [J²] and their covariance [m3 J]
+    max_share : float [-]         the largest share of one interval in s_v
+    total : float [m6]            the random variance of the base volume over every interval
+    """
+
+    def __init__(self, explicit, rest, s_v, s_e, s_ve, max_share, total):
+        self.explicit, self.rest = explicit, rest
+        self.s_v, self.s_e, self.s_ve = s_v, s_e, s_ve
+        self.max_share, self.total = max_share, total
+
+    @classmethod
+    def of(cls, model, entries, explicit_max):
+        """The split of the model's independent entries, up to ``explicit_max`` explicit intervals."""
+        V, En = model.volume, model.energy
+        has_e = En is not None
+        n = V.size
+        var_v, var_e, cov_ve = np.zeros(n), np.zeros(n), np.zeros(n)
+        for kind, coef, t, r in entries:
+            if t.mode != "independent":
+                continue
+            cv = t.c_volume[r] * t.u[r]
+            var_v += cv**2
+            if has_e:
+                ce = t.c_energy[r] * t.u[r]
+                var_e += ce**2
+                cov_ve += cv * ce
+        with_random = np.flatnonzero(var_v > 0)
+        if with_random.size <= explicit_max:
+            explicit = with_random
+        else:
+            order = np.argsort(-(V[with_random] ** 2) * var_v[with_random], kind="stable")
+            explicit = np.sort(with_random[order[:explicit_max]])
+        rest = np.setdiff1d(with_random, explicit)
+        s_v = float(np.sum(V[rest] ** 2 * var_v[rest]))
+        s_e = float(np.sum(En[rest] ** 2 * var_e[rest])) if has_e else 0.0
+        s_ve = float(np.sum(V[rest] * En[rest] * cov_ve[rest])) if has_e else 0.0
+        max_share = float(np.max(V[rest] ** 2 * var_v[rest]) / s_v) if rest.size and s_v > 0 else 0.0
+        return cls(explicit, rest, s_v, s_e, s_ve, max_share, float(np.sum(V**2 * var_v)))
+
+
+class _Trials:
+    """Drawing and evaluating blocks of trials, all from one generator (the order of the draws is
+    the same whatever the evaluation, so the same seed gives the same trials)."""
+
+    def __init__(self, model, rng, entries, analysis_level, comp, rnd: _RandomSplit, chunk_elements: int):
+        self.model, self.rng = model, rng
+        self.entries, self.analysis_level, self.comp = entries, analysis_level, comp
+        self.rnd = rnd
+        self.chunk_elements = chunk_elements
+        self.A = model.n_analyses
+        self.has_e = model.energy is not None
+
+    def draw(self, k):
+        """The draws of k trials: per-entry deviations (shared or per explicit interval), the
+        composition's, the analysis-level factors of volume fv and energy fe (k, A) [-], and two
+        standard normals for the aggregated remainder (None without one)."""
+        rng, model, explicit = self.rng, self.model, self.rnd.explicit
         dr = {"corr": {}, "ind": {}, "comp": None}
-        for j, (kind, coef, t, r) in enumerate(entries):
+        for j, (kind, coef, t, r) in enumerate(self.entries):
             if t.mode == "independent":
                 if explicit.size:
                     dr["ind"][j] = _draw(rng, t.spec.distribution, (k, explicit.size))
             else:
                 dr["corr"][j] = _draw(rng, t.spec.distribution, (k, 1))
-        if comp is not None:
-            dr["comp"] = _draw(rng, comp.spec.distribution, (k, model.comp_line.shape[0])) * comp.spec.standard
-        fv = np.ones((k, A))
-        fe = np.ones((k, A))
+        if self.comp is not None:
+            dr["comp"] = _draw(rng, self.comp.spec.distribution, (k, model.comp_line.shape[0])) * self.comp.spec.standard
+        fv = np.ones((k, self.A))
+        fe = np.ones((k, self.A))
         if dr["comp"] is not None:
             fv *= np.exp(dr["comp"] @ model.comp_base)
             fe *= np.exp(dr["comp"] @ np.where(model.hv_from_composition[:, None].T, model.comp_hm, model.comp_base))
-        for kind, ua, t in analysis_level:
+        for kind, ua, t in self.analysis_level:
             f = np.maximum(1.0 + _draw(rng, t.spec.distribution, (k, 1)) * ua[None, :], 0.0)
             if kind == "base_z":
                 fv *= f
                 fe *= np.where(model.hv_from_composition[None, :], 1.0, f)
             else:
                 fe *= f
-        z = rng.standard_normal((k, 2)) if s_v > 0 else None
+        z = rng.standard_normal((k, 2)) if self.rnd.s_v > 0 else None
         return dr, fv, fe, z
 
+    @staticmethod
     def _rows(dr, sl):
         return {"corr": {j: v[sl] for j, v in dr["corr"].items()}, "ind": {j: v[sl] for j, v in dr["ind"].items()},
                 "comp": None if dr["comp"] is None else dr["comp"][sl]}
 
-    def evaluate_block(dr, fv, fe, k, cols_):
-        """Totals of a block of k drawn trials, evaluated in slices of at most chunk_elements values."""
-        step = max(1, chunk_elements // max(cols_.weights.shape[0], 1))
+    def evaluate_block(self, dr, fv, fe, k, cols_):
+        """Totals of a block of k drawn trials [m3], [J], evaluated in slices of at most chunk_elements values."""
+        step = max(1, self.chunk_elements // max(cols_.weights.shape[0], 1))
         v = np.empty(k)
         e = np.empty(k)
         for a0 in range(0, k, step):
             sl = slice(a0, min(k, a0 + step))
             m = sl.stop - sl.start
-            v[sl], e[sl] = _totals(cols_, _evaluate(cols_, entries, _rows(dr, sl), m), fv[sl], fe[sl], A)
+            v[sl], e[sl] = _totals(cols_, _evaluate(cols_, self.entries, self._rows(dr, sl), m), fv[sl], fe[sl],
+                                   self.A)
         return v, e
 
-    def run(k, cols_):
-        dr, fv, fe, z = draw_chunk(k)
-        v, e = evaluate_block(dr, fv, fe, k, cols_)
+    def run(self, k, cols_):
+        """Month base volume [m3] and energy [J] of k new trials, the aggregated remainder added
+        (its volume and energy parts correlated as their covariance says)."""
+        s_v, s_e, s_ve = self.rnd.s_v, self.rnd.s_e, self.rnd.s_ve
+        dr, fv, fe, z = self.draw(k)
+        v, e = self.evaluate_block(dr, fv, fe, k, cols_)
         if z is not None:
             v = v + math.sqrt(s_v) * z[:, 0]
-            if has_e and s_e > 0:
+            if self.has_e and s_e > 0:
                 rho = s_ve / math.sqrt(s_v * s_e)
                 e = e + math.sqrt(s_e) * (rho * z[:, 0] + math.sqrt(max(1.0 - rho * rho, 0.0)) * z[:, 1])
         return v, e
 
-    # ---- check the grouping against the per-interval model on the first trials -----------------
+
+def _check_grouping(trials: _Trials, cols, grouped_cols, exact_cols, grouped: bool, draws, y_v, delta_v, delta_e):
+    """The intervals' sums checked against the per-interval model on the first trials.
+
+    The per-interval evaluation costs trials x intervals: on long logs fewer trials are checked (at
+    least CHECK_MIN), so that the check stays near CHECK_ELEMENTS values. A difference above δ/20
+    (delta_v [m3], delta_e [J]) falls back to the per-interval columns. The generator is put back,
+    so the trials that follow are the same either way. Returns (columns to use, the check's record).
+    """
+    n = trials.model.volume.size
+    mode = "interval sums" if grouped else "per interval"
     check = {"mode": mode, "columns": int(cols.weights.shape[0]), "sets": int(getattr(cols, "sets", 0)),
              "checked_trials": 0, "max_relative_difference": 0.0}
     if mode == "interval sums":
-        # the per-interval evaluation costs trials x intervals: on long logs fewer trials are
-        # checked (at least CHECK_MIN), so that the check stays near 2^25 values
+        rng = trials.rng
         k0 = min(draws, 1000, max(CHECK_MIN, CHECK_ELEMENTS // max(n, 1)))
         state = rng.bit_generator.state
-        dr, fv, fe, _ = draw_chunk(k0)
-        vg, eg = evaluate_block(dr, fv, fe, k0, grouped_cols)
-        vx, ex = evaluate_block(dr, fv, fe, k0, exact_cols)
+        dr, fv, fe, _ = trials.draw(k0)
+        vg, eg = trials.evaluate_block(dr, fv, fe, k0, grouped_cols)
+        vx, ex = trials.evaluate_block(dr, fv, fe, k0, exact_cols)
         diff_v = float(np.max(np.abs(vg - vx)))
-        diff_e = float(np.max(np.abs(eg - ex))) if has_e else 0.0
+        diff_e = float(np.max(np.abs(eg - ex))) if trials.has_e else 0.0
         check.update(checked_trials=k0, max_relative_difference=diff_v / y_v if y_v else 0.0)
-        if diff_v > delta_v / 20 or (has_e and delta_e and diff_e > delta_e / 20):
+        if diff_v > delta_v / 20 or (trials.has_e and delta_e and diff_e > delta_e / 20):
             cols, mode = exact_cols, "per interval"
             check.update(mode=mode, columns=n)
         rng.bit_generator.state = state
+    return cols, check
 
+
+def _adaptive_stages(trials: _Trials, cols, draws, max_draws, coverage, delta_v, delta_e, progress):
+    """The adaptive procedure of JCGM 101 §7.9.4: stages of ``draws`` trials until the month base
+    volume and energy are each stable to their tolerance delta_v [m3], delta_e [J], at most max_draws.
+
+    Returns (volume trials [m3], energy trials [J] or None, each stage's (mean, standard deviation,
+    low, high) for the volume and the energy, trials done).
+    """
     K = min(draws, BLOCK)  # trials drawn together: the same trials whatever the evaluation
+    has_e = trials.has_e
     vol = np.empty(max_draws)
     ene = np.empty(max_draws) if has_e else None
-    stages = []  # JCGM 101 §7.9.4: (mean, standard deviation, low, high) of each stage's own trials
+    stages = []
     e_stages = []
     done = 0
     while True:
         start, target = done, min(max_draws, done + draws)
         while done < target:
             k = min(K, target - done)
-            v, e = run(k, cols)
+            v, e = trials.run(k, cols)
             vol[done:done + k] = v
             if has_e:
                 ene[done:done + k] = e
@@ -655,29 +758,7 @@ def monte_carlo(model, *, gum_u_volume: float, gum_u_energy: float | None = None
         stable = _stages_stable(stages, delta_v) and (not has_e or _stages_stable(e_stages, delta_e))
         if stable or done >= max_draws:
             break
-
-    spread = _stage_spread(stages) if len(stages) >= 2 else None
-    out = _summarise(vol[:done], y_v, gum_u_volume, coverage, n_dig, blocks, "m3", spread, done)
-    out.update({
-        "draws": int(done), "first_stage_draws": draws, "stage_draws": draws, "stages": len(stages),
-        "max_draws": int(max_draws), "seed": int(seed),
-        "generator": "numpy PCG64 (default_rng)", "coverage_probability": coverage, "n_dig": dig_v, "k_p": K_95,
-        "evaluation": check,
-        "random_explicit_intervals": int(explicit.size),
-        "random_aggregated_intervals": int(rest.size),
-        "random_aggregated_variance_share_pct": 100.0 * s_v / rv_total if rv_total > 0 else 0.0,
-        "random_aggregated_max_interval_share_pct": 100.0 * rest_max_share,
-        "model": "measurement equation per interval, relative deviations multiplied exactly; Z by its "
-                 "second-order expansion in ln p and ln T, first order in composition; evaluated on the "
-                 "intervals' sums (moment-matched points, within 1e-8 of the per-interval sum)",
-    })
-    if has_e and gum_u_energy is not None:
-        out["energy"] = _summarise(ene[:done], y_e, gum_u_energy, coverage, n_dig, blocks, "J",
-                                   _stage_spread(e_stages) if len(e_stages) >= 2 else None, done)
-        out["energy"]["n_dig"] = dig_e
-    else:
-        out["energy"] = None
-    return out
+    return vol, ene, stages, e_stages, done
 
 
 def _block_spread(values, p, blocks):
