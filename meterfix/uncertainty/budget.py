@@ -40,7 +40,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
-from ..z import evaluate_z
+from ..z import IDEAL_METHOD, evaluate_z
 from ..z.base import EXTENDED, NORMAL, OUTSIDE
 from ..z.registry import get_method
 from .inputs import ATMOSPHERIC_DEFAULTS, HEATING_VALUE_DEFAULTS, INPUT_KEYS, InputSpec, relative_only as _relative_only
@@ -213,6 +213,10 @@ def _range_text(u_by_class: dict, k: float = 2.0) -> str:
 def build_model(result, parsed) -> IntervalModel:
     """The interval model of a month run: inputs resolved with their defaults, sensitivities.
 
+    The steps, in order: the intervals with a result, the derivatives of ln Z (made those of the
+    meter kind's effective Z), where each analysis' heating value comes from, then the terms of
+    the meter, the line state, the Z method, the analysis-bound inputs and the estimated intervals.
+
     Parameters
     ----------
     result : MonthResult
@@ -222,40 +226,93 @@ def build_model(result, parsed) -> IntervalModel:
     -------
     IntervalModel
     """
-    from ..gas.composition import Composition
-
-    df = result.intervals
-    s = result.settings
     method = get_method(result.method["name"])
-    vb_all = df["volume_base"].to_numpy(float)
-    used = np.isfinite(vb_all)
-    idx = np.flatnonzero(used)
-    n = idx.size
-    vb = vb_all[used]
-    en = df["energy"].to_numpy(float)[used] if "energy" in df else np.full(n, np.nan)
-    energy = en if n and np.isfinite(en).all() else None
+    x = _Intervals.of(result)
     notes = []
-    if n and energy is None and np.isfinite(en).any():
+    if x.n and x.energy is None and np.isfinite(x.en).any():
         notes.append("the heating value is not known for every interval: no energy uncertainty is stated")
-    analysis = df["analysis"].to_numpy(int)[used]
-    n_an = max(len(result.analyses), int(analysis.max()) + 1 if n else 1)
-    p = df["pressure_line"].to_numpy(float)[used]
-    patm = df["pressure_atm"].to_numpy(float)[used] if "pressure_atm" in df else np.full(n, np.nan)
-    t = df["temperature_line"].to_numpy(float)[used]
-    z = df["z_line"].to_numpy(float)[used]
-    vl = df["volume_line"].to_numpy(float)[used]
-    dur = df["duration"].to_numpy(float)[used]
-    est = df["estimated"].to_numpy(bool)[used] if "estimated" in df else np.zeros(n, bool)
-    rng = np.asarray(df["z_range"].cat.codes if hasattr(df["z_range"], "cat") else df["z_range"], int)[used]
+    fm = getattr(result, "flow_meter", None) or {}
+    kind = fm.get("kind", "volume")
+    # the line state acts through the density at the upstream tap with exponent 1/2 on an orifice's
+    # mass (qm ~ sqrt(rho1)) and not at all on a Coriolis meter's
+    f_rho = {"orifice": 0.5, "coriolis": 0.0}.get(kind, 1.0)
+    der = _z_derivatives(result, method.name, x, notes, f_rho)
+    annex_b, has_b, hv_comp = _heating_value_sources(result, x.n_an)
+    model = IntervalModel(used=x.used, volume=x.vb, energy=x.energy, analysis=x.analysis, n_analyses=x.n_an,
+                          gas_day=np.asarray(result.intervals["gas_day"].to_numpy(object))[x.used], pressure=x.p,
+                          pressure_atm=x.patm, temperature=x.t, z=x.z, dlnz_dlnp=der["p"], dlnz_dlnt=der["t"],
+                          d2lnz_dlnp2=der["pp"], d2lnz_dlnt2=der["tt"], d2lnz_dlnpdlnt=der["pt"],
+                          hv_from_composition=hv_comp, notes=notes)
+    add = _term_adder(model)
+    _meter_terms(model, add, parsed, result.intervals, x, fm, kind)
+    _line_state_terms(add, parsed, result, x, der, notes)
+    _z_terms(add, parsed, method, x, f_rho)
+    _analysis_bound_terms(model, add, parsed, result, method, x, annex_b, has_b, hv_comp)
+    if f_rho != 1.0:
+        _scale_composition_line(model, f_rho)
+    e_spec = parsed.resolve("estimated")
+    _relative_only(e_spec)
+    add("estimated", e_spec, float(np.sum(x.vl[x.est])), "m3", np.where(x.est, e_spec.standard, 0.0), 1.0, 1.0, x.est)
+    return model
 
-    # ---- derivatives of ln Z in ln p, ln T ------------------------------------------------
-    der = {k: np.zeros(n) for k in ("p", "t", "pp", "tt", "pt")}
+
+@dataclass
+class _Intervals:
+    """The figures of the intervals with a result (a finite base volume) that the model is built on.
+
+    used (N,) bool over ``result.intervals``; n of them; vb [m3] base volume, the weights of the
+    means; en [J] energy and ``energy`` the same when known for every interval (else None);
+    analysis (n,) int in force, n_an analyses; p, patm [Pa], t [K], z [-] line state; vl [m3]
+    line volume; dur [s]; est bool estimated; z_range int codes (RANGE_NAMES).
+    """
+
+    used: np.ndarray
+    n: int
+    vb: np.ndarray
+    en: np.ndarray
+    energy: np.ndarray | None
+    analysis: np.ndarray
+    n_an: int
+    p: np.ndarray
+    patm: np.ndarray
+    t: np.ndarray
+    z: np.ndarray
+    vl: np.ndarray
+    dur: np.ndarray
+    est: np.ndarray
+    z_range: np.ndarray
+
+    @classmethod
+    def of(cls, result):
+        df = result.intervals
+        vb_all = df["volume_base"].to_numpy(float)
+        used = np.isfinite(vb_all)
+        n = int(np.count_nonzero(used))
+        en = df["energy"].to_numpy(float)[used] if "energy" in df else np.full(n, np.nan)
+        analysis = df["analysis"].to_numpy(int)[used]
+        rng = np.asarray(df["z_range"].cat.codes if hasattr(df["z_range"], "cat") else df["z_range"], int)[used]
+        return cls(
+            used=used, n=n, vb=vb_all[used], en=en, energy=en if n and np.isfinite(en).all() else None,
+            analysis=analysis, n_an=max(len(result.analyses), int(analysis.max()) + 1 if n else 1),
+            p=df["pressure_line"].to_numpy(float)[used],
+            patm=df["pressure_atm"].to_numpy(float)[used] if "pressure_atm" in df else np.full(n, np.nan),
+            t=df["temperature_line"].to_numpy(float)[used], z=df["z_line"].to_numpy(float)[used],
+            vl=df["volume_line"].to_numpy(float)[used], dur=df["duration"].to_numpy(float)[used],
+            est=df["estimated"].to_numpy(bool)[used] if "estimated" in df else np.zeros(n, bool), z_range=rng)
+
+
+def _z_derivatives(result, method: str, x: _Intervals, notes: list, f_rho: float) -> dict:
+    """ln Z derivatives at each interval's state [-]: p, t first order in ln p and ln T, pp, tt,
+    pt second order (0 where Z cannot be evaluated: ideal gas, noted). For an orifice (f_rho ½)
+    or a Coriolis meter (0) they are made those of an effective Z, so that c_p = f (1 − ∂lnZ/∂lnp),
+    c_T = −f (1 + ∂lnZ/∂lnT), here and in the Monte Carlo."""
+    der = {k: np.zeros(x.n) for k in ("p", "t", "pp", "tt", "pt")}
     gases = [a.gas for a in result.analyses]
     for a in range(len(gases)):
-        sel = analysis == a
-        if not sel.any() or gases[a] is None or method.name == "ideal":
+        sel = x.analysis == a
+        if not sel.any() or gases[a] is None or method == IDEAL_METHOD:
             continue
-        d = z_log_derivatives(p[sel], t[sel], gases[a], method.name, z0=z[sel])
+        d = z_log_derivatives(x.p[sel], x.t[sel], gases[a], method, z0=x.z[sel])
         for k in der:
             der[k][sel] = d[k]
     bad = ~np.isfinite(der["p"]) | ~np.isfinite(der["t"])
@@ -264,33 +321,36 @@ def build_model(result, parsed) -> IntervalModel:
                      "their pressure and temperature sensitivities are taken as ideal gas (1, -1)")
     for k in der:
         der[k] = np.where(np.isfinite(der[k]), der[k], 0.0)
-    fm = getattr(result, "flow_meter", None) or {}
-    kind = fm.get("kind", "volume")
-    # the line state acts through the density at the upstream tap with exponent 1/2 on an orifice's
-    # mass (qm ~ sqrt(rho1)) and not at all on a Coriolis meter's: the derivatives of ln Z are made
-    # those of an effective Z, so that c_p = f (1 - dlnZ/dlnp), c_T = -f (1 + dlnZ/dlnT), here and in
-    # the Monte Carlo
-    f_rho = {"orifice": 0.5, "coriolis": 0.0}.get(kind, 1.0)
     if f_rho != 1.0:
         der = {"p": 1.0 - f_rho * (1.0 - der["p"]), "t": -1.0 + f_rho * (1.0 + der["t"]),
                "pp": f_rho * der["pp"], "tt": f_rho * der["tt"], "pt": f_rho * der["pt"]}
+    return der
 
-    # ISO 6976:2016 Annex B, where the analysis gave its standard uncertainties: u(Hv) of that analysis
-    # (composition and the standard's table values) is the heating-value input, and the composition
-    # term then acts on the energy through Z only (no double count); H does not follow the method's Z_b
+
+def _heating_value_sources(result, n_an: int):
+    """Where each analysis' heating value comes from: (annex_b (A,) [-] the relative u(Hv) of ISO
+    6976:2016 Annex B where the analysis gave its standard uncertainties, else nan; has_b (A,) bool;
+    hv_comp (A,) bool computed from the composition at base without Annex B figures).
+
+    With Annex B, u(Hv) of that analysis (composition and the standard's table values) is the
+    heating-value input and the composition term then acts on the energy through Z only (no double
+    count); H does not follow the method's Z_b.
+    """
+    from ..gas.composition import Composition
+
+    s = result.settings
     annex_b = np.array([_annex_b_relative(a) for a in result.analyses] + [np.nan] * (n_an - len(result.analyses)))
     has_b = np.isfinite(annex_b)
     hv_comp = np.array([isinstance(a.gas, Composition) and s.heating_value is None for a in result.analyses]
                        + [False] * (n_an - len(result.analyses)), bool) & ~has_b
-    model = IntervalModel(used=used, volume=vb, energy=energy, analysis=analysis, n_analyses=n_an,
-                          gas_day=np.asarray(df["gas_day"].to_numpy(object))[used], pressure=p, pressure_atm=patm,
-                          temperature=t, z=z, dlnz_dlnp=der["p"], dlnz_dlnt=der["t"], d2lnz_dlnp2=der["pp"],
-                          d2lnz_dlnt2=der["tt"], d2lnz_dlnpdlnt=der["pt"], hv_from_composition=hv_comp, notes=notes)
-    w = vb
-    ones = np.ones(n)
-    c_p = 1.0 - der["p"]
-    c_t = -1.0 - der["t"]
-    E = energy is not None
+    return annex_b, has_b, hv_comp
+
+
+def _term_adder(model: IntervalModel):
+    """``add(key, spec, value, unit, u, cv, ce, applies, ...)``: append one Term to the model, u the
+    standard uncertainty of each row and interval, cv, ce the sensitivities of ln V_b and ln E
+    (ce dropped without energy); a random input is independent across intervals, else correlated."""
+    E = model.energy is not None
 
     def add(key, spec, value, unit, u, cv, ce, applies, text=None, in_volume=True, rows_mode=None, label=None):
         u = np.atleast_2d(np.asarray(u, float))
@@ -300,13 +360,20 @@ def build_model(result, parsed) -> IntervalModel:
         model.terms.append(Term(key, label or INPUT_KEYS[key][0], spec, value, unit, u, cv, ce, mode, applies,
                                 text or spec.text, in_volume))
 
-    # ---- meter, by flow range -------------------------------------------------------------
+    return add
+
+
+def _meter_terms(model, add, parsed, df, x: _Intervals, fm: dict, kind: str) -> None:
+    """The meter's terms: the primary element's (orifice, Coriolis, calibration), or the volume
+    meter's by flow range (Qt to Qmax and below Qt, q = V/duration [m3/s]), or one figure."""
+    n, vl, notes = x.n, x.vl, model.notes
+    ones = np.ones(n)
     m_spec = parsed.resolve("meter")
     if kind in ("orifice", "coriolis") or (fm and "meter" not in parsed.given):
-        _meter_kind_terms(model, add, parsed, df, used, fm, vl, n)
+        _meter_kind_terms(model, add, parsed, df, x.used, fm, vl, n)
     elif parsed.meter_qt is not None or parsed.meter_qmax is not None:
         with np.errstate(invalid="ignore", divide="ignore"):
-            q = vl / dur
+            q = vl / x.dur
         low = np.zeros(n, bool)
         if parsed.meter_qt is not None:
             low |= np.isfinite(q) & (q < parsed.meter_qt)
@@ -325,7 +392,13 @@ def build_model(result, parsed) -> IntervalModel:
             label="meter")
     _relative_only(m_spec)
 
-    # ---- line pressure, atmospheric pressure, temperature --------------------------------------
+
+def _line_state_terms(add, parsed, result, x: _Intervals, der: dict, notes: list) -> None:
+    """Line pressure [Pa], atmospheric pressure [Pa] (gauge logs only; its default by source) and
+    line temperature [K], with c_p = 1 − ∂lnZ/∂lnp and c_T = −1 − ∂lnZ/∂lnT."""
+    n, p, t, patm, w = x.n, x.p, x.t, x.patm, x.vb
+    c_p = 1.0 - der["p"]
+    c_t = -1.0 - der["t"]
     p_spec = parsed.resolve("pressure")
     add("pressure", p_spec, _wmean(p, w), "Pa", p_spec.standard_at(p), c_p, c_p, np.ones(n, bool))
     gauge = np.isfinite(patm)
@@ -341,10 +414,14 @@ def build_model(result, parsed) -> IntervalModel:
     t_spec = parsed.resolve("temperature")
     add("temperature", t_spec, _wmean(t, w), "K", t_spec.standard_at(t), c_t, c_t, np.ones(n, bool))
 
-    # ---- Z method at line conditions, by range class -------------------------------------
+
+def _z_terms(add, parsed, method, x: _Intervals, f_rho: float) -> None:
+    """The Z method at line conditions [-], by range class: the z setting, or the method's stated
+    uncertainty in its normal and extended ranges (k = 2); outside its range twice that, assumed."""
+    n, z, w, rng = x.n, x.z, x.vb, x.z_range
     z_given = parsed.given.get("z")
     outside = rng == OUTSIDE
-    if method.name == "ideal":
+    if method.name == IDEAL_METHOD:
         z_spec = z_given or InputSpec("z", "0", True, 0.0, 0.0, is_default=True, source=method.uncertainty_source)
         uz = np.full(n, z_spec.standard if z_spec.relative else 0.0)
         text = z_spec.text
@@ -362,7 +439,7 @@ def build_model(result, parsed) -> IntervalModel:
         text = z_spec.text
     inside = ~outside
     add("z", z_spec, _wmean(z, w), "-", np.where(inside, uz, 0.0), -f_rho, -f_rho, inside, text=text)
-    if outside.any() and method.name != "ideal":
+    if outside.any() and method.name != IDEAL_METHOD:
         table = method.uncertainty_pct or {}
         base = z_spec.value if z_given is not None else float(table.get(EXTENDED, table.get(NORMAL, 0.0))) / 100
         zo = parsed.resolve("z_outside", f"{200 * base:g} %",
@@ -371,9 +448,13 @@ def build_model(result, parsed) -> IntervalModel:
         _relative_only(zo)
         add("z_outside", zo, _wmean(z, w, outside), "-", np.where(outside, zo.standard, 0.0), -f_rho, -f_rho, outside)
 
-    # ---- base Z, heating value, composition (bound to the analysis in force) -------------------
-    zb = df["z_base"].to_numpy(float)[used]
-    if method.name == "ideal":
+
+def _analysis_bound_terms(model, add, parsed, result, method, x: _Intervals, annex_b, has_b, hv_comp) -> None:
+    """The inputs bound to the analysis in force: base Z [-], heating value [J/m3] (ISO 6976:2016
+    Annex B where the analysis gave its uncertainties) and the composition."""
+    df, analysis, w, n_an = result.intervals, x.analysis, x.vb, x.n_an
+    zb = df["z_base"].to_numpy(float)[x.used]
+    if method.name == IDEAL_METHOD:
         zb_spec = parsed.given.get("base_z") or InputSpec("base_z", "0", True, 0.0, 0.0, is_default=True,
                                                           source="Z = 1 by definition with the ideal method")
     else:
@@ -382,8 +463,8 @@ def build_model(result, parsed) -> IntervalModel:
     hv_of = hv_comp[analysis]
     _analysis_term(model, add, "base_z", zb_spec, _wmean(zb, w), "-", zb_spec.standard, 1.0,
                    np.where(hv_of, 0.0, 1.0))
-    if E:
-        h = df["heating_value"].to_numpy(float)[used]
+    if x.energy is not None:
+        h = df["heating_value"].to_numpy(float)[x.used]
         dflt = HEATING_VALUE_DEFAULTS["composition" if hv_comp[: len(result.analyses)].all() else "supplied"]
         h_spec = parsed.resolve("heating_value", *dflt)
         uh = h_spec.standard_at(h)
@@ -399,14 +480,6 @@ def build_model(result, parsed) -> IntervalModel:
     from .composition import composition_term
 
     composition_term(model, result, parsed, add, method.name)
-    if f_rho != 1.0:
-        _scale_composition_line(model, f_rho)
-
-    # ---- estimated intervals ---------------------------------------------------------------
-    e_spec = parsed.resolve("estimated")
-    _relative_only(e_spec)
-    add("estimated", e_spec, float(np.sum(vl[est])), "m3", np.where(est, e_spec.standard, 0.0), 1.0, 1.0, est)
-    return model
 
 
 def _meter_kind_terms(model, add, parsed, df, used, fm: dict, vl, n: int) -> None:
