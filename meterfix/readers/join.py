@@ -44,28 +44,89 @@ def join_parts(parts, tables, meta, interval_label, column_map, register_digits,
     """Join the rows of one meter's files: time order, duplicates, durations, volumes → frame.
 
     ``parts`` are the per-file column dicts of :func:`meterfix.readers.logs._read_part`,
-    ``tables`` their RawTables, ``meta`` the LogMetadata being filled.
+    ``tables`` their RawTables, ``meta`` the LogMetadata being filled. The steps: the files must
+    log the same pressure; their rows joined; start labels taken to interval ends; time order
+    (first occurrence wins), a changing clock refused when no time zone is given, duplicates;
+    each interval's duration; the interval volume from the interval volume, the meter index or
+    the flow rate; the site's corrected volume from its index; the opening index reading.
     """
+    _same_pressure_kind(parts, meta)
+    meta.interval_label = parts[0]["label"][0] if len(parts[0]["label"]) else interval_label
+    df = _rows_of_all_files(parts, meta)
+    nominal = _interval_ends(df, meta)
+    order = np.lexsort((df["source_row"], df["source_file"], df["time"]))
+    if (np.diff(order) != 1).any():
+        df = {c: v[order] for c, v in df.items()}
+    if not timezone_given:
+        _refuse_clock_change(df, meta)
+    df = _dedupe(df, meta, overlap)
+    t = df["time"]
+    n = len(t)
+    dur = _durations(df, nominal)
+    df["duration"] = dur
+    for f in ("flag_rollover", "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_duplicate",
+              "flag_negative_volume", "flag_volume_mismatch"):
+        if f not in df:
+            df[f] = np.zeros(n, bool)
+    vol = np.asarray(df["volume_line"], dtype=float) if "volume_line" in df else np.full(n, np.nan)
+    sources = []
+    if "volume_line" in df:
+        sources.append("interval volume")
+    drop_first = False
+    idx_used = np.zeros(n, bool)
+    if "volume_index" in df and (~pd.isna(df["volume_index"])).any():
+        vol, idx_used, drop_first = _volumes_from_index(df, meta, vol, dur, register_digits, opening_index)
+        sources.append("meter index")
+    if "flow_rate" in df:
+        vol = _volumes_from_flow_rate(df, meta, vol, dur)
+        sources.append("flow rate")
+    df["flag_negative_volume"] = np.isfinite(vol) & (vol < 0) & ~idx_used
+    df["volume_line"] = vol
+    meta.volume_from = ", ".join(sources)
+    if "volume_corrected_site_index" in df and (~pd.isna(df["volume_corrected_site_index"])).any():
+        _site_corrected_from_index(df, dur)
+    if drop_first:
+        meta.notes.append(f"the first index reading ({meta.opening_index:g} m3 at "
+                          f"{pd.Timestamp(int(t[0]), tz='UTC').isoformat()}) opens the log; it is not an interval")
+        df = {c: v[1:] for c, v in df.items()}
+    if not len(df["time"]):
+        raise InputError("the log has no interval (an index log needs at least two readings)",
+                         file=meta.sources[0]["file"], hint="export a longer period")
+    return _finish(df, meta), meta
+
+
+def _same_pressure_kind(parts, meta) -> None:
+    """Refuse files of which some log gauge pressure and some absolute pressure."""
     kinds = {("pressure_gauge" if "pressure_gauge" in p else "pressure_line") for p in parts}
     if len(kinds) > 1:
         names = [s["file"] for s in meta.sources]
         raise InputError("the files disagree: some log gauge pressure, some absolute pressure", file=", ".join(names),
                          hint="map the pressure columns so that all files read the same quantity")
-    meta.interval_label = parts[0]["label"][0] if len(parts[0]["label"]) else interval_label
-    # the rows of all files as columns (name → array); the work below is on arrays
+
+
+def _rows_of_all_files(parts, meta) -> dict:
+    """The rows of all files as columns (name → array); columns a file lacks are NaN in its rows
+    (pandas' rules for the joined dtypes). Refused when no row has a readable time."""
     if len(parts) == 1:
         df = dict(parts[0])
-    else:  # columns a file lacks are NaN in its rows (pandas' rules for the joined dtypes)
+    else:
         joined = pd.concat([pd.DataFrame(p) for p in parts], ignore_index=True, sort=False)
         df = {c: joined[c].to_numpy() for c in joined.columns}
     if not len(df["time"]):
         raise InputError("no row of the log has a readable time", file=", ".join(s["file"] for s in meta.sources),
                          hint="check the time column: see metadata.dropped_rows")
+    return df
+
+
+def _interval_ends(df: dict, meta) -> float:
+    """The nominal interval [s] (median positive spacing of the stamps, else of the durations
+    given), and every start-labelled row taken to its interval's end: its own duration, else the
+    forward spacing within its file (in time order). Index readings are instants and stay.
+    Sets df['time'] [ns since epoch, int64] and df['duration'] [s]; refused with a single row."""
     t = df["time"].astype("datetime64[ns]").astype(np.int64)
     is_index = ~pd.isna(df["volume_index"]) if "volume_index" in df else np.zeros(len(t), bool)
     if "volume_line" in df:
         is_index &= pd.isna(df["volume_line"])
-    # start labels → end: forward spacing within each file (in time order)
     label_start = np.asarray(df["label"] == "start", dtype=bool)
     start = label_start & ~is_index  # index readings are instants
     if (label_start & is_index).any():
@@ -92,95 +153,80 @@ def join_parts(parts, tables, meta, interval_label, column_map, register_digits,
             own[order] = d
     df["time"] = t
     df["duration"] = own
-    # join in time order; first occurrence (file order, then row) wins. (file, row) is unique,
-    # so the order is fully determined
-    order = np.lexsort((df["source_row"], df["source_file"], t))
-    if (np.diff(order) != 1).any():
-        df = {c: v[order] for c, v in df.items()}
-    if not timezone_given:
-        _refuse_clock_change(df, meta)
-    df = _dedupe(df, meta, overlap)
-    t = df["time"]
-    n = len(t)
+    return nominal
+
+
+def _durations(df: dict, nominal: float) -> np.ndarray:
+    """Each row's interval duration [s]: its own when given and positive, else the backward spacing
+    to the previous row (nominal [s] where that is not an interval; an index reading covers none)."""
     own = np.asarray(df["duration"], dtype=float)
-    covers = np.zeros(n, bool)
+    covers = np.zeros(len(df["time"]), bool)
     if "volume_index" in df:
         covers = ~pd.isna(df["volume_index"])
         if "volume_line" in df:
             covers &= pd.isna(df["volume_line"])
-    d = _spacing_durations(t, nominal, covers, backward=True, local=True)
-    dur = np.where(np.isfinite(own) & (own > 0), own, d)
-    df["duration"] = dur
+    d = _spacing_durations(df["time"], nominal, covers, backward=True, local=True)
+    return np.where(np.isfinite(own) & (own > 0), own, d)
 
-    # volumes
-    for f in ("flag_rollover", "flag_meter_change", "flag_negative_delta", "flag_implausible_delta", "flag_duplicate",
-              "flag_negative_volume", "flag_volume_mismatch"):
-        if f not in df:
-            df[f] = np.zeros(n, bool)
-    vol = np.asarray(df["volume_line"], dtype=float) if "volume_line" in df else np.full(n, np.nan)
-    sources = []
+
+def _volumes_from_index(df: dict, meta, vol, dur, register_digits, opening_index):
+    """Interval volumes [m3] from the meter index where no interval volume is given: deltas of the
+    readings (rollover, meter change, negative and implausible deltas flagged), cross-checked
+    against the interval volumes; the register capacity [m3]; the opening index (given [m3], else
+    the first reading, whose row is then dropped). Returns (vol, rows from the index, drop_first)."""
+    reading = np.asarray(df["volume_index"], dtype=float)
+    delta, ro, ch, ng, imp, cap = _index_deltas(reading, _filled(df["volume_index_scale"], 1.0), dur,
+                                                register_digits)
     if "volume_line" in df:
-        sources.append("interval volume")
+        vol = _cross_check_index(vol, delta, _filled(df["volume_index_scale"], 1.0), ro | ch, df, meta)
+    use = ~np.isfinite(vol) & ~np.isnan(reading) & ~np.asarray(df["flag_volume_mismatch"], dtype=bool)
+    vol = np.where(use, delta, vol)
+    for f, m in (("flag_rollover", ro), ("flag_meter_change", ch), ("flag_negative_delta", ng),
+                 ("flag_implausible_delta", imp)):
+        df[f] = np.asarray(df[f], dtype=bool) | (m & use)
+    meta.register_capacity = float(np.nanmax(cap)) if np.isfinite(cap).any() else None
     drop_first = False
-    idx_used = np.zeros(n, bool)
-    if "volume_index" in df and (~pd.isna(df["volume_index"])).any():
-        reading = np.asarray(df["volume_index"], dtype=float)
-        delta, ro, ch, ng, imp, cap = _index_deltas(reading, _filled(df["volume_index_scale"], 1.0), dur,
-                                                    register_digits)
-        if "volume_line" in df:
-            vol = _cross_check_index(vol, delta, _filled(df["volume_index_scale"], 1.0), ro | ch, df, meta)
-        use = ~np.isfinite(vol) & ~np.isnan(reading) & ~np.asarray(df["flag_volume_mismatch"], dtype=bool)
-        vol = np.where(use, delta, vol)
-        idx_used = use
-        for f, m in (("flag_rollover", ro), ("flag_meter_change", ch), ("flag_negative_delta", ng),
-                     ("flag_implausible_delta", imp)):
-            df[f] = np.asarray(df[f], dtype=bool) | (m & use)
-        meta.register_capacity = float(np.nanmax(cap)) if np.isfinite(cap).any() else None
-        sources.append("meter index")
-        first = int(np.flatnonzero(~np.isnan(reading))[0])
-        if first == 0 and ("volume_line" not in df or not np.isfinite(df["volume_line"][0])):
-            if opening_index is not None:
-                if reading[0] < opening_index:
-                    raise InputError(f"the opening index {opening_index:g} m3 is above the first reading "
-                                     f"{reading[0]:g} m3", file=meta.sources[0]["file"],
-                                     hint="give the reading at the start of the first logged interval, in m3 "
-                                          "or with its unit, e.g. --opening-index '123456 ft3'")
-                vol[0] = reading[0] - opening_index
-                meta.opening_index = float(opening_index)
-                meta.notes.append(f"opening index {opening_index:g} m3 given: the first reading "
-                                  f"({reading[0]:g} m3) closes the first interval")
-            else:
-                meta.opening_index = float(reading[0])
-                drop_first = True
-    if "flow_rate" in df:
-        fr = np.asarray(df["flow_rate"], dtype=float)
-        fv = fr * dur
-        both = np.isfinite(vol) & np.isfinite(fv)
-        if both.sum() >= 3 and abs(np.sum(vol[both])) > 0:
-            off = np.sum(fv[both]) / np.sum(vol[both]) - 1.0
-            if abs(off) > FLOW_CHECK_REL:
-                meta.notes.append(f"flow rate x duration differs from the interval volumes by {100 * off:+.1f} % "
-                                  f"over {int(both.sum())} intervals (more than {100 * FLOW_CHECK_REL:g} %); the "
-                                  "interval volumes are used: check the flow-rate column's unit")
-        vol = np.where(np.isfinite(vol), vol, fv)
-        sources.append("flow rate")
-    df["flag_negative_volume"] = np.isfinite(vol) & (vol < 0) & ~idx_used
-    df["volume_line"] = vol
-    meta.volume_from = ", ".join(sources)
-    if "volume_corrected_site_index" in df and (~pd.isna(df["volume_corrected_site_index"])).any():
-        delta, ro, ch, ng, imp, _ = _index_deltas(np.asarray(df["volume_corrected_site_index"], dtype=float),
-                                                  _filled(df["volume_corrected_site_index_scale"], 1.0),
-                                                  dur, None)
-        site = np.asarray(df["volume_corrected_site"], dtype=float) if "volume_corrected_site" in df else np.full(n, np.nan)
-        df["volume_corrected_site"] = np.where(np.isfinite(site), site, delta)
-    if drop_first:
-        meta.notes.append(f"the first index reading ({meta.opening_index:g} m3 at "
-                          f"{pd.Timestamp(int(t[0]), tz='UTC').isoformat()}) opens the log; it is not an interval")
-        df = {c: v[1:] for c, v in df.items()}
-    if not len(df["time"]):
-        raise InputError("the log has no interval (an index log needs at least two readings)",
-                         file=meta.sources[0]["file"], hint="export a longer period")
-    return _finish(df, meta), meta
+    first = int(np.flatnonzero(~np.isnan(reading))[0])
+    if first == 0 and ("volume_line" not in df or not np.isfinite(df["volume_line"][0])):
+        if opening_index is not None:
+            if reading[0] < opening_index:
+                raise InputError(f"the opening index {opening_index:g} m3 is above the first reading "
+                                 f"{reading[0]:g} m3", file=meta.sources[0]["file"],
+                                 hint="give the reading at the start of the first logged interval, in m3 "
+                                      "or with its unit, e.g. --opening-index '123456 ft3'")
+            vol[0] = reading[0] - opening_index
+            meta.opening_index = float(opening_index)
+            meta.notes.append(f"opening index {opening_index:g} m3 given: the first reading "
+                              f"({reading[0]:g} m3) closes the first interval")
+        else:
+            meta.opening_index = float(reading[0])
+            drop_first = True
+    return vol, use, drop_first
+
+
+def _volumes_from_flow_rate(df: dict, meta, vol, dur) -> np.ndarray:
+    """Interval volumes [m3] from flow rate [m3/s] x duration [s] where none is known yet; a month
+    sum off the interval volumes by more than FLOW_CHECK_REL is noted (the volumes are used)."""
+    fr = np.asarray(df["flow_rate"], dtype=float)
+    fv = fr * dur
+    both = np.isfinite(vol) & np.isfinite(fv)
+    if both.sum() >= 3 and abs(np.sum(vol[both])) > 0:
+        off = np.sum(fv[both]) / np.sum(vol[both]) - 1.0
+        if abs(off) > FLOW_CHECK_REL:
+            meta.notes.append(f"flow rate x duration differs from the interval volumes by {100 * off:+.1f} % "
+                              f"over {int(both.sum())} intervals (more than {100 * FLOW_CHECK_REL:g} %); the "
+                              "interval volumes are used: check the flow-rate column's unit")
+    return np.where(np.isfinite(vol), vol, fv)
+
+
+def _site_corrected_from_index(df: dict, dur) -> None:
+    """The site corrector's corrected volume [m3] from its index where no interval value is given."""
+    n = len(df["time"])
+    delta, ro, ch, ng, imp, _ = _index_deltas(np.asarray(df["volume_corrected_site_index"], dtype=float),
+                                              _filled(df["volume_corrected_site_index_scale"], 1.0),
+                                              dur, None)
+    site = np.asarray(df["volume_corrected_site"], dtype=float) if "volume_corrected_site" in df else np.full(n, np.nan)
+    df["volume_corrected_site"] = np.where(np.isfinite(site), site, delta)
 
 
 def _refuse_clock_change(df: dict, meta) -> None:
