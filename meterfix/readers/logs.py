@@ -214,77 +214,21 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
 
     ``key`` names the table in ``meta.columns`` (the file name; a later segment of a file whose
     header repeats mid-file is 'file (from row N)'). Raises :class:`_RepeatedHeader` when a row
-    below the header is itself a header (the caller splits the table there).
+    below the header is itself a header (the caller splits the table there). The steps: the
+    columns mapped and recorded; the time column chosen; the times read (date-times, date and
+    hour numbers, or date and clock) and placed in UTC; the interval label; the rows whose time
+    cannot be placed left out and recorded; the numbers read in SI; time going backwards flagged.
     """
     where = {"file": t.file, "sheet": t.sheet, "row": t.header_row}
-    mapping: ColumnMapping = map_columns(t.header, column_map, where=where)
-    require_log_columns(mapping, t.header, where)
-    c = mapping.columns
+    c = _mapped_columns(t, column_map, meta, key, where)
     fname = Path(t.file).name
-    key = key or fname
-    meta.columns[key] = {n: s.header for n, s in c.items()}
-    meta.ignored_columns[key] = list(mapping.ignored)
-    for n, s in c.items():
-        meta.units.setdefault(n, s.unit_text)
-    meta.notes += [f"{fname}: {x}" for x in t.notes]
-
-    tcol = next((c[x] for x in ("interval_end", "interval_start", "time") if x in c), None)
-    hcol = next((c[x] for x in ("hour_ending", "hour_beginning") if x in c), None)
-    if tcol is None and hcol is not None and "date" not in c:
-        tcol = hcol  # a full date-time under an 'Hour ending' / 'Hour beginning' header
-    if tcol is None and "date" in c and "clock" not in c and hcol is None:
-        tcol = c["date"]
-    if tcol is None and "clock" in c and "date" not in c:
-        tcol = c["clock"]  # a 'Time' column alone holds the date too
+    tcol, hcol = _time_columns(c)
     t = _drop_summary_rows(t, c, tcol or c.get("date"), meta)
     n = len(t.cells)
     rows = t.rows
     # the columns of this part, in order (one frame is built from them at the end)
     part = {"source_file": np.full(n, k, dtype=np.int32), "source_row": rows}
-
-    # -- time
-    hour_nonexist = None
-    if tcol is not None:
-        naive, bad_t, is_utc = parse_datetimes(t.cells[tcol.index].to_numpy(), {**where, "row": None, "column": tcol.header})
-        zone = "utc" if is_utc else tcol.zone
-    elif "date" in c and hcol is not None:
-        # hour numbers: the hour's start is placed on the site's clock (the repeated autumn hour by
-        # order, as any wall time), its end is one hour later in absolute time: 'HE 2' written
-        # twice on the autumn night is 01:00-02:00 CDT, then 01:00-02:00 CST
-        d, bad_d = parse_dates(t.cells[c["date"].index].to_numpy(), {**where, "row": None, "column": c["date"].header})
-        h, bad_h, elapsed = _hour_numbers(t.cells[hcol.index].to_numpy(), hcol, t, rows)
-        local = (hcol.zone or c["date"].zone) != "utc"
-        if not elapsed and local and hcol.name == "hour_ending":
-            elapsed = _counts_elapsed(d, h, timezone)
-        hour = np.timedelta64(3600, "s").astype("timedelta64[ns]")
-        if elapsed:
-            # hours counted from the day's local midnight (25 on the long day): midnight placed on
-            # the clock, the hours added as elapsed time
-            mid, hour_nonexist, _ = localize(d, timezone) if local else (d, np.zeros(n, bool), None)
-            naive = mid + h
-            meta.notes.append(f"{fname}: '{hcol.header}' counts the hours of the clock-change days (1..23 or "
-                              "1..25): read as hours elapsed since the day's local midnight")
-        else:
-            wall = d + h - (hour if hcol.name == "hour_ending" else np.timedelta64(0, "ns"))
-            st, hour_nonexist, _ = localize(wall, timezone) if local else (wall, np.zeros(n, bool), None)
-            naive = st + hour
-        zone = "utc"
-        bad_t = bad_d | bad_h | np.isnat(naive)
-        tcol = hcol
-        meta.notes.append(f"{fname}: '{c['date'].header}' + '{hcol.header}' read as hour "
-                          + ("ending (1..24, 24 ends at midnight)" if hcol.name == "hour_ending"
-                             else "beginning (0..23)") + " on the site's clock")
-    elif "date" in c and "clock" in c:
-        _refuse_hour_numbers(t.cells[c["clock"].index].to_numpy(), c["clock"], t)
-        d, bad_d = parse_dates(t.cells[c["date"].index].to_numpy(), {**where, "row": None, "column": c["date"].header})
-        h, bad_h = parse_clock(t.cells[c["clock"].index].to_numpy(), {**where, "row": None, "column": c["clock"].header})
-        naive = d + h
-        bad_t = bad_d | bad_h | np.isnat(naive)
-        zone = c["clock"].zone or c["date"].zone
-        tcol = c["clock"]
-    else:
-        raise InputError("a time-of-day column without a date column", **where, column=c["clock"].header,
-                         hint="add a 'Date' column, or give one 'Interval end' column with date and time")
+    naive, bad_t, zone, tcol, hour_nonexist = _read_times(t, c, tcol, hcol, where, timezone, meta)
     if bad_t.any():
         heads = [int(i) for i in np.flatnonzero(bad_t)[:1000] if _score(list(t.cells.iloc[int(i)])) >= 200]
         if heads:
@@ -295,21 +239,137 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
         nonexist = hour_nonexist if hour_nonexist is not None else np.zeros(n, bool)
     else:
         utc, nonexist, _ = localize(naive, timezone)
-    hours_given = tcol.name in ("hour_ending", "hour_beginning") and hour_nonexist is not None
+    part["label"] = np.full(n, _row_label(tcol, hour_nonexist is not None, label, meta, fname), dtype=object)
+    drop, after_dropped = _rows_left_out(t, tcol, utc, bad_t, nonexist, meta)
+    part["time"] = utc
+    unreadable, missing = _read_numbers(t, c, part, meta)
+    part["flag_unreadable"] = unreadable | after_dropped
+    part["flag_missing"] = missing
+    if "status" in c:
+        st = t.cells[c["status"].index].astype(str).str.strip()
+        part["status"] = st.to_numpy(dtype=object)
+    # time going backwards within the file, in file order
+    ti = np.where(np.isnat(utc), np.iinfo(np.int64).min, utc.astype("datetime64[ns]").astype(np.int64))
+    prev_max = np.maximum.accumulate(np.concatenate([[np.iinfo(np.int64).min], ti[:-1]]))
+    part["flag_time_backwards"] = (ti < prev_max) & ~drop
+    if drop.any():
+        part = {name: v[~drop] for name, v in part.items()}
+    return part
+
+
+def _mapped_columns(t: RawTable, column_map, meta: LogMetadata, key, where) -> dict:
+    """The table's columns mapped to canonical names (canonical name → source column), the log's
+    required columns checked, and recorded in ``meta``: headers, ignored columns, units, notes."""
+    mapping: ColumnMapping = map_columns(t.header, column_map, where=where)
+    require_log_columns(mapping, t.header, where)
+    c = mapping.columns
+    fname = Path(t.file).name
+    key = key or fname
+    meta.columns[key] = {n: s.header for n, s in c.items()}
+    meta.ignored_columns[key] = list(mapping.ignored)
+    for n, s in c.items():
+        meta.units.setdefault(n, s.unit_text)
+    meta.notes += [f"{fname}: {x}" for x in t.notes]
+    return c
+
+
+def _time_columns(c: dict):
+    """The column holding the whole time (interval end or start, a time, a date-time under an
+    hour header, a date or a clock alone), or None, and the hour-number column (or None)."""
+    tcol = next((c[x] for x in ("interval_end", "interval_start", "time") if x in c), None)
+    hcol = next((c[x] for x in ("hour_ending", "hour_beginning") if x in c), None)
+    if tcol is None and hcol is not None and "date" not in c:
+        tcol = hcol  # a full date-time under an 'Hour ending' / 'Hour beginning' header
+    if tcol is None and "date" in c and "clock" not in c and hcol is None:
+        tcol = c["date"]
+    if tcol is None and "clock" in c and "date" not in c:
+        tcol = c["clock"]  # a 'Time' column alone holds the date too
+    return tcol, hcol
+
+
+def _read_times(t: RawTable, c: dict, tcol, hcol, where, timezone: str, meta: LogMetadata):
+    """Each row's time: from one column, from a date and hour numbers, or from a date and a clock.
+
+    Returns (naive datetime64 [ns], unreadable bool, zone of the naive times ('utc' or the
+    column's, None: the site's clock), the column that says the label, the hour numbers' local
+    times that do not exist (None unless hour numbers were placed on the site's clock)).
+    """
+    if tcol is not None:
+        naive, bad_t, is_utc = parse_datetimes(t.cells[tcol.index].to_numpy(), {**where, "row": None, "column": tcol.header})
+        return naive, bad_t, "utc" if is_utc else tcol.zone, tcol, None
+    if "date" in c and hcol is not None:
+        naive, bad_t, hour_nonexist = _times_from_hour_numbers(t, c, hcol, where, timezone, meta)
+        return naive, bad_t, "utc", hcol, hour_nonexist
+    if "date" in c and "clock" in c:
+        _refuse_hour_numbers(t.cells[c["clock"].index].to_numpy(), c["clock"], t)
+        d, bad_d = parse_dates(t.cells[c["date"].index].to_numpy(), {**where, "row": None, "column": c["date"].header})
+        h, bad_h = parse_clock(t.cells[c["clock"].index].to_numpy(), {**where, "row": None, "column": c["clock"].header})
+        naive = d + h
+        return naive, bad_d | bad_h | np.isnat(naive), c["clock"].zone or c["date"].zone, c["clock"], None
+    raise InputError("a time-of-day column without a date column", **where, column=c["clock"].header,
+                     hint="add a 'Date' column, or give one 'Interval end' column with date and time")
+
+
+def _times_from_hour_numbers(t: RawTable, c: dict, hcol, where, timezone: str, meta: LogMetadata):
+    """UTC interval ends [ns] from a date and hour numbers (ending 1..24 or beginning 0..23).
+
+    The hour's start is placed on the site's clock (the repeated autumn hour by order, as any wall
+    time), its end is one hour later in absolute time: 'HE 2' written twice on the autumn night is
+    01:00-02:00 CDT, then 01:00-02:00 CST. Hours counted 1..23 or 1..25 on the clock-change days
+    are hours elapsed since the day's local midnight. Returns (times, unreadable, nonexistent).
+    """
+    n = len(t.cells)
+    fname = Path(t.file).name
+    d, bad_d = parse_dates(t.cells[c["date"].index].to_numpy(), {**where, "row": None, "column": c["date"].header})
+    h, bad_h, elapsed = _hour_numbers(t.cells[hcol.index].to_numpy(), hcol, t, t.rows)
+    local = (hcol.zone or c["date"].zone) != "utc"
+    if not elapsed and local and hcol.name == "hour_ending":
+        elapsed = _counts_elapsed(d, h, timezone)
+    hour = np.timedelta64(3600, "s").astype("timedelta64[ns]")
+    if elapsed:
+        # hours counted from the day's local midnight (25 on the long day): midnight placed on
+        # the clock, the hours added as elapsed time
+        mid, hour_nonexist, _ = localize(d, timezone) if local else (d, np.zeros(n, bool), None)
+        naive = mid + h
+        meta.notes.append(f"{fname}: '{hcol.header}' counts the hours of the clock-change days (1..23 or "
+                          "1..25): read as hours elapsed since the day's local midnight")
+    else:
+        wall = d + h - (hour if hcol.name == "hour_ending" else np.timedelta64(0, "ns"))
+        st, hour_nonexist, _ = localize(wall, timezone) if local else (wall, np.zeros(n, bool), None)
+        naive = st + hour
+    meta.notes.append(f"{fname}: '{c['date'].header}' + '{hcol.header}' read as hour "
+                      + ("ending (1..24, 24 ends at midnight)" if hcol.name == "hour_ending"
+                         else "beginning (0..23)") + " on the site's clock")
+    return naive, bad_d | bad_h | np.isnat(naive), hour_nonexist
+
+
+def _row_label(tcol, hours_placed: bool, label: str, meta: LogMetadata, fname: str) -> str:
+    """Whether the rows' times are interval 'end' or 'start': what the header says (hour numbers
+    placed on the clock are ends), else the setting ``label``; a header overriding it is noted."""
+    hours_given = tcol.name in ("hour_ending", "hour_beginning") and hours_placed
     own_label = ("end" if tcol.name == "interval_end" or hours_given or tcol.name == "hour_ending"
                  else "start" if tcol.name in ("interval_start", "hour_beginning") else label)
     if own_label != label and not hours_given:
         meta.notes.append(f"{fname}: header '{tcol.header}' says interval {own_label}; read as such "
                           f"(setting was '{label}')")
-    part["label"] = np.full(n, own_label, dtype=object)
+    return own_label
+
+
+def _rows_left_out(t: RawTable, tcol, utc, bad_t, nonexist, meta: LogMetadata):
+    """The rows whose time cannot be placed, and the kept rows right after them (flagged).
+
+    A row whose time cannot be read is never placed by guess (a value enters a total only when
+    its interval is known): it is left out and recorded, the quality step sees the missing
+    interval (no result there, counted), and an index difference after it spans the whole gap.
+    Returns (left out, after a left-out row), bool arrays over the rows.
+    """
+    n = len(utc)
+    rows = t.rows
+    fname = Path(t.file).name
     drop = np.isnat(utc) | bad_t
     stray = _stray_times(utc, drop)
     drop |= stray
     raw_t = t.cells[tcol.index]
-    part["time"] = utc
-    # a row whose time cannot be read is never placed by guess (a value enters a total only when
-    # its interval is known): it is left out and recorded, the quality step sees the missing
-    # interval (no result there, counted), and an index difference after it spans the whole gap
     for i in np.flatnonzero(drop)[:_MAX_RECORDED]:
         reason = ("the local time does not exist (skipped by the clock change)" if nonexist[i]
                   else "the time is more than a day off the slot its neighbours leave (mistyped?)" if stray[i]
@@ -323,8 +383,16 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
         nxt = np.searchsorted(kept, np.flatnonzero(drop))
         nxt = nxt[nxt < len(kept)]
         after_dropped[kept[nxt]] = True
+    return drop, after_dropped
 
-    # -- numbers
+
+def _read_numbers(t: RawTable, c: dict, part: dict, meta: LogMetadata):
+    """The numeric columns read and converted to SI into ``part`` (a cell beyond any physical value
+    is unreadable); unreadable cells recorded; a required column with no readable number, or
+    empty, refused. Returns (rows with an unreadable cell, rows missing a required value)."""
+    n = len(t.cells)
+    rows = t.rows
+    fname = Path(t.file).name
     unreadable = np.zeros(n, bool)
     missing = np.zeros(n, bool)
     empty_columns = []
@@ -365,18 +433,7 @@ def _read_part(t: RawTable, k: int, timezone: str, label: str, column_map, meta:
                                  hint="write plain numbers in this column (the unit goes in the header), "
                                       "or map another column to it")
     _refuse_empty(empty_columns, c, t)
-    part["flag_unreadable"] = unreadable | after_dropped
-    part["flag_missing"] = missing
-    if "status" in c:
-        st = t.cells[c["status"].index].astype(str).str.strip()
-        part["status"] = st.to_numpy(dtype=object)
-    # time going backwards within the file, in file order
-    ti = np.where(np.isnat(utc), np.iinfo(np.int64).min, utc.astype("datetime64[ns]").astype(np.int64))
-    prev_max = np.maximum.accumulate(np.concatenate([[np.iinfo(np.int64).min], ti[:-1]]))
-    part["flag_time_backwards"] = (ti < prev_max) & ~drop
-    if drop.any():
-        part = {name: v[~drop] for name, v in part.items()}
-    return part
+    return unreadable, missing
 
 
 #: |value| in SI above which a cell is not a reading (10^12 Pa, K, m3 or m3/s: beyond anything a
