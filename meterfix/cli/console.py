@@ -133,7 +133,7 @@ def _print_reading(result) -> None:
     if oi is not None and "index" in vf:
         typer.echo(f"  opening index        {oi:,.6g} m3 (the reading that opens the log; "
                    "--opening-index sets the one before the first row)")
-    dropped = getattr(meta, "dropped_rows", None) or []
+    dropped = meta.dropped_rows or []
     if dropped:
         first = "; ".join(f"{d.get('file')} row {d.get('row')} '{d.get('value')}' ({d.get('reason')})" for d in dropped[:3])
         typer.echo(f"  {V.ROWS_LEFT_OUT:<20} {len(dropped)} (their intervals have no result): {first}"
@@ -169,7 +169,7 @@ def _print_without_result(result) -> None:
 
 def _print_meter_kind(result) -> None:
     """One line for the meter kind (orifice, Coriolis, calibration) and one for the speed-of-sound check."""
-    fm = getattr(result, "flow_meter", None) or {}
+    fm = result.flow_meter or {}
     mass = result.totals.get("mass_kg")
     if fm.get("kind") == "orifice":
         typer.echo(f"  meter                orifice plate, {fm['standard']}, {fm['taps']} taps, beta {fm['beta']:.4f}; "
@@ -178,7 +178,7 @@ def _print_meter_kind(result) -> None:
         typer.echo(f"  meter                Coriolis: mass {_num(mass / 1000.0)} t; base volume = mass / base density")
     elif fm.get("meter_error_correction_pct") is not None:
         typer.echo(f"  meter error correction {fm['meter_error_correction_pct']:+.2f} % ({fm['calibration']})")
-    sc = getattr(result, "speed_of_sound_check", None)
+    sc = result.speed_of_sound_check
     if sc:
         largest = sc.get("largest_deviation_pct")
         typer.echo(f"  speed of sound       {sc['compared_intervals']} intervals compared with {sc['method']}, "
@@ -203,7 +203,7 @@ def print_summary(result, written: dict) -> None:
     typer.echo(f"  base conditions      {du.exact('pressure', s.base_pressure)}, "
                f"{du.exact('temperature', s.base_temperature)}" + (f"   (preset {s.base})" if s.base else ""))
     _print_reading(result)
-    gm = getattr(result, "gas_month", None)
+    gm = result.gas_month
     if gm:
         typer.echo(f"  {_lc(V.GAS_MONTH):<20} {gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
                    f"logged ({gm['coverage_pct']:.4g} %)"

@@ -60,14 +60,14 @@ def detail_vector(gas, edition: str = "2016"):
     A composition read from an analysis keeps the components as reported (``gas.detail``); one
     built from the 21 Z components is used as it is (their names are the standard's).
     """
-    detail = getattr(gas, "detail", None) or {n: float(v) for n, v in gas.as_dict().items()}
+    detail = gas.detail or {n: float(v) for n, v in gas.as_dict().items()}
     x = I.vector(detail, edition)
     s = x.sum()
     if s > 0:
         x = x / s
-    u = getattr(gas, "detail_uncertainty", None)
+    u = gas.detail_uncertainty
     uv = I.vector(u, "2016") / s if u else None
-    return x, uv, getattr(gas, "correlation", None)
+    return x, uv, gas.correlation
 
 
 def analysis_energy(gas, *, temperature_combustion: float, temperature_metering: float, pressure_metering: float,

@@ -96,7 +96,7 @@ def coriolis_kind(frame, p, tl, duration, which, in_force, settings, method: str
     with np.errstate(invalid="ignore", divide="ignore"):
         vl = mass / rho_l
     neg = np.isfinite(mass) & (mass < 0)
-    if not getattr(settings, "bidirectional", False):
+    if not settings.bidirectional:
         mass = np.where(neg, np.nan, mass)  # reverse flow left out (counted without result), as for volumes
     rec = {"kind": "coriolis", "practice": "AGA Report No. 11: base volume = mass / base density",
            "mass_from": how, "density": src}

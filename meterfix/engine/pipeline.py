@@ -761,7 +761,7 @@ def _energy_from_mass(mass, vb, hv, which, in_force):
     """Energy [J] from a measured mass: m x Hm where ISO 6976 gives the mass-basis value, else Vb x Hv."""
     out = vb * hv
     for k, a in enumerate(in_force):
-        props = getattr(getattr(a, "energy", None), "properties", None)
+        props = a.energy.properties if a.energy is not None else None
         if props is None:
             continue
         sel = which == k

@@ -78,7 +78,7 @@ def read_month_with_frame(logs, settings: Settings, *, composition=None, gas=Non
         column_map=settings.columns or None, register_digits=settings.register_digits,
         sheet=settings.sheet, opening_index=settings.opening_index,
         timezone_given=(settings.sources or {}).get("timezone", "default") != "default",
-        overlap=getattr(settings, "overlap", None),
+        overlap=settings.overlap,
     )
     step(f"checking data quality of {len(frame):,} intervals", 0.3)
     frame, edits = quality.apply_quality(frame, policy=settings.substitution,
@@ -113,7 +113,7 @@ def _one_gas_month(frame, edits, settings: Settings):
     GasMonthSelection or None)."""
     from .gas_month import select_gas_month
 
-    month = getattr(settings, "month", None)
+    month = settings.month
     if not month:
         return frame, edits, None
     sel = select_gas_month(frame, month, timezone=settings.timezone, gas_day_start=settings.gas_day_start,

@@ -231,7 +231,7 @@ def build_model(result, parsed) -> IntervalModel:
     notes = []
     if x.n and x.energy is None and np.isfinite(x.en).any():
         notes.append("the heating value is not known for every interval: no energy uncertainty is stated")
-    fm = getattr(result, "flow_meter", None) or {}
+    fm = result.flow_meter or {}
     kind = fm.get("kind", "volume")
     # the line state acts through the density at the upstream tap with exponent 1/2 on an orifice's
     # mass (qm ~ sqrt(rho1)) and not at all on a Coriolis meter's
@@ -552,8 +552,8 @@ def _scale_composition_line(model, f: float) -> None:
 
 def _annex_b_relative(a) -> float:
     """Relative standard uncertainty u(Hv)/Hv of an analysis by ISO 6976:2016 Annex B, or NaN."""
-    props = getattr(getattr(a, "energy", None), "properties", None)
-    u = getattr(props, "standard_uncertainty", None)
+    props = a.energy.properties if a.energy is not None else None
+    u = props.standard_uncertainty if props is not None else None
     if not u:
         return np.nan
     key = "gross_heating_value_volumetric"

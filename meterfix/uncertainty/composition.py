@@ -21,7 +21,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from ..z import evaluate_z
+from ..z import IDEAL_METHOD, evaluate_z
 from .inputs import relative_only
 
 #: step in the log-perturbation of one mole fraction
@@ -68,7 +68,7 @@ def composition_term(model, result, parsed, add, method_name):
                 continue
             if hcomp is not None and hm > 0:
                 g_hm[r, a] = x[j] * (hcomp[j] / hm - 1.0)
-            if method_name == "ideal":
+            if method_name == IDEAL_METHOD:
                 continue
             pts_p = np.concatenate([[s.base_pressure], model.pressure[sel]])
             pts_t = np.concatenate([[s.base_temperature], model.temperature[sel]])
@@ -108,7 +108,7 @@ def composition_term(model, result, parsed, add, method_name):
     model.comp_line, model.comp_base, model.comp_hm = g_line, g_base, g_hm
     add("composition", spec, np.nan, "mol/mol", u, cv, ce, applies,
         text=f"{spec.text} of each mole fraction, renormalised", rows_mode="correlated")
-    if method_name == "ideal":
+    if method_name == IDEAL_METHOD:
         model.notes.append("ideal method: Z does not depend on the composition; the composition acts on the "
                            "heating value only")
 

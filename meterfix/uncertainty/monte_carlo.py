@@ -201,6 +201,7 @@ class _Columns:
         self.coefs = coefs                # list of (C,) arrays, one per per-interval entry
         self.comp_line = comp_line        # (R, C) or None
         self.explicit_pos = explicit_pos  # positions of the explicitly drawn random intervals
+        self.sets = 0                     # sets of intervals grouped into columns (0: one column per interval)
 
 
 def _interval_columns(model, entries, explicit, A):
@@ -706,7 +707,7 @@ def _check_grouping(trials: _Trials, cols, grouped_cols, exact_cols, grouped: bo
     """
     n = trials.model.volume.size
     mode = "interval sums" if grouped else "per interval"
-    check = {"mode": mode, "columns": int(cols.weights.shape[0]), "sets": int(getattr(cols, "sets", 0)),
+    check = {"mode": mode, "columns": int(cols.weights.shape[0]), "sets": int(cols.sets),
              "checked_trials": 0, "max_relative_difference": 0.0}
     if mode == "interval sums":
         rng = trials.rng

@@ -8,6 +8,7 @@ import math
 import numpy as np
 
 from .. import __version__
+from ..gas.composition import Composition
 from .source_record import log_record
 
 CAUTION = (
@@ -53,11 +54,12 @@ def _energy_record(a):
            "metering_temperature_K": p.temperature_metering, "metering_pressure_Pa": p.pressure_metering,
            **p.as_dict()}
     out["units"] = {k: u for k, u in ENERGY_UNITS.items() if k in out}
-    gas = getattr(a, "gas", None)
-    if getattr(gas, "sum_as_given", None) is not None:
-        out["analysis_total_as_given"] = gas.sum_as_given
-    if getattr(gas, "detail", None):
-        out["components"] = dict(gas.detail)
+    gas = a.gas
+    if isinstance(gas, Composition):  # a gross characterisation has no components
+        if gas.sum_as_given is not None:
+            out["analysis_total_as_given"] = gas.sum_as_given
+        if gas.detail:
+            out["components"] = dict(gas.detail)
     if a.heating_value_us:
         out["us_practice"] = a.heating_value_us
     return out
@@ -95,7 +97,7 @@ def build_summary(result) -> dict:
         "totals": t,
         # the gas month of the run: bounds [UTC], hours in it on the site's clock, hours logged,
         # coverage [%], intervals left out before and after (null when the log spans several months)
-        "gas_month": getattr(result, "gas_month", None),
+        "gas_month": result.gas_month,
         "average_correction": result.average_correction,
         "analyses": [{"number": i + 1, "effective_from": a.effective_from, "z_base": a.z_base, "molar_mass_kg_per_mol": a.molar_mass,
                       "heating_value_J_per_m3": a.heating_value, "heating_value_source": a.heating_value_source,

@@ -83,7 +83,7 @@ def _short(v):
 
 def _meter_kind_rows(ws, r, result, du):
     """The meter kind (orifice, Coriolis, calibration) and the speed-of-sound check on the Overview."""
-    fm = getattr(result, "flow_meter", None) or {}
+    fm = result.flow_meter or {}
     if fm.get("kind") == "orifice":
         r = _long_row(ws, r, "Meter", f"orifice plate, {fm['standard']}, {fm['taps']} taps, static tap {fm['static_tap']}")
         r = _row(ws, r, "Pipe diameter D", 1000.0 * fm["pipe_diameter_m"], "mm", "0.000",
@@ -103,7 +103,7 @@ def _meter_kind_rows(ws, r, result, du):
         r = _long_row(ws, r, "Density", result.method.get("density") or "")
     elif fm.get("meter_error_correction_pct") is not None:
         r = _row(ws, r, "Meter error correction", fm["meter_error_correction_pct"], "%", X.FMT_PCT, fm["calibration"])
-    sc = getattr(result, "speed_of_sound_check", None)
+    sc = result.speed_of_sound_check
     if sc:
         r = _row(ws, r, "Speed of sound beyond threshold", sc["flagged_intervals"], "intervals", X.FMT_INT,
                  f"of {sc['compared_intervals']} compared with {sc['method']}; threshold {sc['threshold_pct']:g} %, "
@@ -219,7 +219,7 @@ def write_overview(ws, result, du, *, interval_csv=None, intervals_in_sheet=True
     r = _long_row(ws, r, "Energy standard", m.get("energy_standard") or "")
     r = _row(ws, r, "Combustion reference temperature", s.combustion_temperature - 273.15, "°C", "0.00")
     r = _row(ws, r, "Gas day", f"starts {s.gas_day_start:02d}:00 local time", s.timezone)
-    gm = getattr(result, "gas_month", None)
+    gm = result.gas_month
     if gm:
         left = gm["intervals_before_month"] + gm["intervals_after_month"]
         r = _long_row(ws, r, V.GAS_MONTH, f"{gm['month']}: {gm['hours_logged']:g} of {gm['hours_in_month']:g} hours "
