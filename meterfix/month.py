@@ -8,6 +8,7 @@ from __future__ import annotations
 
 from .engine.run import _check_file, file_record, load_analyses, read_month, read_month_with_frame  # noqa: F401
 from .engine.pipeline import MonthResult  # noqa: F401  (re-exported for users of the month job)
+from .engine.flow_meter import CORIOLIS_METER, ORIFICE_METER
 from .engine.settings import Settings
 
 
@@ -54,7 +55,7 @@ def run_files(logs, settings: Settings, *, composition=None, gas=None, invoice=N
         result.inputs.append(file_record(invoice, "invoice"))
         result.reconciliation = RC.reconcile_invoice(result, _check_file(invoice))
     kind = (result.flow_meter or {}).get("kind")
-    if "volume_corrected_site" in frame.columns and kind in ("orifice", "coriolis"):
+    if "volume_corrected_site" in frame.columns and kind in (ORIFICE_METER, CORIOLIS_METER):
         # the causes it tries are those of a volume meter's PTZ conversion (checks/corrector_models.py)
         result.warnings.append(f"the site's corrected volume is not checked for a {kind} meter: the corrector check "
                                "models the conversion of a volume meter's reading")

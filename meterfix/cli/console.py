@@ -10,6 +10,7 @@ import numpy as np
 import typer
 
 from .. import vocabulary as V
+from ..engine.flow_meter import CORIOLIS_METER, ORIFICE_METER
 from ..vocabulary import flags_breakdown
 
 
@@ -171,10 +172,10 @@ def _print_meter_kind(result) -> None:
     """One line for the meter kind (orifice, Coriolis, calibration) and one for the speed-of-sound check."""
     fm = result.flow_meter or {}
     mass = result.totals.get("mass_kg")
-    if fm.get("kind") == "orifice":
+    if fm.get("kind") == ORIFICE_METER:
         typer.echo(f"  meter                orifice plate, {fm['standard']}, {fm['taps']} taps, beta {fm['beta']:.4f}; "
                    f"mass {_num(mass / 1000.0)} t")
-    elif fm.get("kind") == "coriolis":
+    elif fm.get("kind") == CORIOLIS_METER:
         typer.echo(f"  meter                Coriolis: mass {_num(mass / 1000.0)} t; base volume = mass / base density")
     elif fm.get("meter_error_correction_pct") is not None:
         typer.echo(f"  meter error correction {fm['meter_error_correction_pct']:+.2f} % ({fm['calibration']})")
@@ -214,7 +215,7 @@ def print_summary(result, written: dict) -> None:
     kinds = flags_breakdown({k: v for k, v in result.flags.items() if k != "estimated"})
     typer.echo(f"  intervals            {t['intervals']}  (flagged {flagged}" + (f": {kinds}" if kinds else "") + ")")
     _print_meter_kind(result)
-    if (result.flow_meter or {}).get("kind") in ("orifice", "coriolis"):
+    if (result.flow_meter or {}).get("kind") in (ORIFICE_METER, CORIOLIS_METER):
         # measured as mass: the volume at line conditions is mass / density at line
         typer.echo(f"  {_lc(V.UNCORRECTED_VOLUME):<20} {vol(t['uncorrected_volume_m3'])} at line conditions "
                    "(mass / density at line)")

@@ -35,6 +35,7 @@ from ..meters.error_curve import error_curve_checked
 from ..units import parse_quantity
 
 from .settings_table import METER_KINDS as KINDS
+from .settings_table import CORIOLIS_METER, ORIFICE_METER, VOLUME_METER  # noqa: F401  (re-exported)
 from .settings_table import SETTINGS
 
 STANDARDS = {"iso-5167-2:2003": O.STANDARD}
@@ -91,7 +92,7 @@ class FlowMeter:
     meter_factor : float or None [-]
     """
 
-    kind: str = "volume"
+    kind: str = VOLUME_METER
     standard: str | None = None
     pipe_diameter: float | None = None
     bore_diameter: float | None = None
@@ -196,11 +197,11 @@ def parse_flow_meter(table: dict | None, *, file=None) -> FlowMeter:
     if fm.error_curve is not None and fm.meter_factor is not None:
         fail("meter_factor", "both error_curve and meter_factor are given",
              "keep one: the error curve (error at each flow rate) or one meter factor")
-    if fm.kind != "volume" and (fm.error_curve is not None or fm.meter_factor is not None):
+    if fm.kind != VOLUME_METER and (fm.error_curve is not None or fm.meter_factor is not None):
         key = "error_curve" if fm.error_curve is not None else "meter_factor"
         fail(key, f"an error curve or meter factor is for volume meters, this meter is kind = '{fm.kind}'",
              f"remove {key} or set kind = \"volume\"")
-    if fm.kind == "orifice":
+    if fm.kind == ORIFICE_METER:
         std = str(raw.get("standard", "iso-5167-2:2003")).strip().lower().replace(" ", "-")
         if std not in STANDARDS:
             fail("standard", f"'{raw['standard']}' is not a supported orifice standard",

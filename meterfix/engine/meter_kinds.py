@@ -25,6 +25,7 @@ from ..meters import speed_of_sound as S
 from ..meters.density import gas_state
 from ..meters.viscosity import viscosity_lee_gonzalez_eakin_1966
 from .flow_meter import FlowMeter, bore_and_pipe_at
+from .flow_meter import CORIOLIS_METER, ORIFICE_METER, VOLUME_METER
 
 
 @dataclass
@@ -98,7 +99,7 @@ def coriolis_kind(frame, p, tl, duration, which, in_force, settings, method: str
     neg = np.isfinite(mass) & (mass < 0)
     if not settings.bidirectional:
         mass = np.where(neg, np.nan, mass)  # reverse flow left out (counted without result), as for volumes
-    rec = {"kind": "coriolis", "practice": "AGA Report No. 11: base volume = mass / base density",
+    rec = {"kind": CORIOLIS_METER, "practice": "AGA Report No. 11: base volume = mass / base density",
            "mass_from": how, "density": src}
     return KindResult(vl, mass, rho_b, {"density_line": rho_l}, {"negative_mass": neg}, rec, [], src)
 
@@ -150,7 +151,7 @@ def orifice_kind(frame, p, tl, duration, which, in_force, settings, method: str,
     cols = {"pressure_differential": dp, "pressure_upstream": p1, "density_line": rho1,
             "discharge_coefficient": flow.discharge_coefficient, "expansibility": flow.expansibility,
             "reynolds_pipe": flow.reynolds_pipe, "isentropic_exponent": kappa, "viscosity": mu}
-    rec = {"kind": "orifice", "standard": fm.standard, "taps": fm.taps, "static_tap": fm.static_tap,
+    rec = {"kind": ORIFICE_METER, "standard": fm.standard, "taps": fm.taps, "static_tap": fm.static_tap,
            "pipe_diameter_m": fm.pipe_diameter, "bore_diameter_m": fm.bore_diameter,
            "diameters_at_K": fm.diameters_at, "pipe_expansion_per_K": fm.pipe_expansion,
            "bore_expansion_per_K": fm.bore_expansion, "beta": fm.bore_diameter / fm.pipe_diameter,
@@ -215,7 +216,7 @@ def calibrated_volume(frame, vl, duration, fm: FlowMeter) -> KindResult:
     corrected = E.volume_corrected_for_error(vl, err)
     ind, cor = float(np.nansum(vl)), float(np.nansum(corrected))
     effect = 100.0 * (cor / ind - 1.0) if ind else None
-    rec = {"kind": "volume", "calibration": how, "error_curve": fm.error_curve, "meter_factor": fm.meter_factor,
+    rec = {"kind": VOLUME_METER, "calibration": how, "error_curve": fm.error_curve, "meter_factor": fm.meter_factor,
            "uncorrected_volume_indicated_m3": ind, "uncorrected_volume_after_meter_error_m3": cor,
            "meter_error_correction_pct": effect, "intervals_outside_curve": int(np.count_nonzero(outside))}
     return KindResult(corrected, None, None, {"volume_line_indicated": vl, "meter_error": err},

@@ -30,6 +30,7 @@ from ..z import IDEAL_METHOD, evaluate_z
 from ..z.base import OUTSIDE, RANGE_NAMES
 from ..z.registry import get_method
 from . import correct as K
+from .flow_meter import CORIOLIS_METER, ORIFICE_METER, VOLUME_METER
 from .settings import Settings
 
 #: molar mass of dry air [kg/mol] (ISO 6976:2016, 28.96546 g/mol; from memory)
@@ -663,7 +664,7 @@ def _to_base(vl, p, tl, z_line, z_b, rho_b, hv, settings: Settings, kind, fm, wh
             mass = kind.mass
             vb = mass / kind.density_base
             # the ideal-gas figures: rho_b(Z = 1) = Zb rho_b; an orifice's qm ~ sqrt(rho1) ~ 1/sqrt(Z1)
-            vi = vb / z_b * (np.sqrt(z_line) if fm.kind == "orifice" else 1.0)
+            vi = vb / z_b * (np.sqrt(z_line) if fm.kind == ORIFICE_METER else 1.0)
             energy = _energy_from_mass(mass, vb, hv, which, in_force)
     vi = np.where(~np.isfinite(vb), np.nan, vi)
     return {"factor_pressure": fp, "factor_temperature": ft, "factor_z": fz, "volume_base": vb,
@@ -743,16 +744,16 @@ def _run_warnings(flags: dict, totals: dict, method: str, kind, sos) -> list:
 
 def _meter_kind(fm, frame, p, tl, vl, duration, which, in_force, settings, method: str):
     """The meter kind's interval figures (engine.meter_kinds), or None for a plain volume meter."""
-    if fm is None or (fm.kind == "volume" and fm.error_curve is None and fm.meter_factor is None):
+    if fm is None or (fm.kind == VOLUME_METER and fm.error_curve is None and fm.meter_factor is None):
         return None
-    if in_force[0].gas is None and fm.kind != "volume":
+    if in_force[0].gas is None and fm.kind != VOLUME_METER:
         raise SettingsError(f"a {fm.kind} meter needs a gas analysis for its density",
                             hint="give --composition FILE (an analysis) or --gas 'methane=0.95,...'")
     from . import meter_kinds as MK
 
-    if fm.kind == "orifice":
+    if fm.kind == ORIFICE_METER:
         return MK.orifice_kind(frame, p, tl, duration, which, in_force, settings, method, fm)
-    if fm.kind == "coriolis":
+    if fm.kind == CORIOLIS_METER:
         return MK.coriolis_kind(frame, p, tl, duration, which, in_force, settings, method)
     return MK.calibrated_volume(frame, vl, duration, fm)
 

@@ -63,7 +63,6 @@ DEFAULT_METHOD = "aga8-detail"
 INTERVAL_LABELS = ("end", "start")
 SUBSTITUTION_POLICIES = ("none", "interpolate", "hold", "profile")
 ENERGY_EDITIONS = ("2016", "1995")
-OVERLAP_CHOICES = ("later", "earlier")
 
 
 @dataclass(frozen=True)
@@ -118,10 +117,13 @@ _M, _B, _A, _C, _E, _Q, _I, _ST, _R, _F, _U, _D, _K = (
     "The meter", "Contract base conditions", "Atmospheric pressure for gauge pressure", "Clock and gas day",
     "Compressibility and energy", "Findings and data quality", "Invoice", "Closed months", "Reading the log",
     "Input files", "Uncertainty inputs", "Display", "Meter kind and primary element")
-#: meter kinds (meterfix.engine.flow_meter) and tap arrangements of ISO 5167-2:2003
-METER_KINDS = ("volume", "orifice", "coriolis")
+#: meter kinds (meterfix.engine.flow_meter): a volume meter (with or without an error curve or meter
+#: factor), an orifice plate (differential pressure), a Coriolis meter (mass); tap arrangements of ISO 5167-2:2003
+VOLUME_METER, ORIFICE_METER, CORIOLIS_METER = "volume", "orifice", "coriolis"
+METER_KINDS = (VOLUME_METER, ORIFICE_METER, CORIOLIS_METER)
 ORIFICE_STANDARDS = ("iso-5167-2:2003",)
 from ..meters.orifice_iso5167 import TAPS as ORIFICE_TAPS  # noqa: E402  (corner, flange, d-d2)
+from ..readers.join import OVERLAP_CHOICES  # noqa: E402  (which file wins where files overlap)
 STATIC_TAPS = ("upstream", "downstream")
 
 _U_SRC = "meterfix.uncertainty.inputs (defaults with their sources in the workbook's Uncertainty sheet)"
@@ -216,7 +218,7 @@ SETTINGS: tuple[Setting, ...] = (
       example="invoice.xlsx"),
     # [flow_meter]: the meter's kind and primary element (meterfix.engine.flow_meter checks them together)
     S("kind", "choice", "meter kind: volume (counts volume at line conditions), orifice (differential pressure) "
-      "or coriolis (mass)", "volume", choices=METER_KINDS, table="flow_meter", section=_K, example="orifice"),
+      "or coriolis (mass)", VOLUME_METER, choices=METER_KINDS, table="flow_meter", section=_K, example="orifice"),
     S("standard", "choice", "orifice plates: the standard computed", "iso-5167-2:2003", choices=ORIFICE_STANDARDS,
       table="flow_meter", section=_K, example="iso-5167-2:2003"),
     S("pipe_diameter", "length", "orifice: internal pipe diameter D at diameters_at, e.g. '102.26 mm'", unit="m",

@@ -33,6 +33,9 @@ VOLUME_CHECK_SUM_REL = 0.01
 #: (flow rates are often instantaneous samples, so rows are not compared one by one)
 FLOW_CHECK_REL = 0.05
 _MAX_RECORDED = 1000
+#: which file wins where files overlap with different values (the ``overlap`` setting; default: refused)
+OVERLAP_LATER, OVERLAP_EARLIER = "later", "earlier"
+OVERLAP_CHOICES = (OVERLAP_LATER, OVERLAP_EARLIER)
 #: SI unit of each numeric canonical column (for messages)
 _SI_UNITS = {"pressure_gauge": "Pa", "pressure_line": "Pa", "pressure_atm": "Pa", "temperature_line": "K",
              "volume_line": "m3", "volume_index": "m3", "flow_rate": "m3/s", "volume_corrected_site": "m3",
@@ -334,7 +337,7 @@ def _dedupe(df: dict, meta, overlap=None) -> dict:
     df["flag_duplicate"] = np.zeros(n, bool)
     if not dup.any():
         return df
-    if overlap == "later":
+    if overlap == OVERLAP_LATER:
         # within each interval end, the later file's row first (then row order)
         order = np.lexsort((df["source_row"], -np.asarray(df["source_file"], dtype=np.int64), t))
         df = {c: v[order] for c, v in df.items()}

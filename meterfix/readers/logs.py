@@ -61,7 +61,7 @@ from .columns import ColumnMapping, _key, map_columns, require_log_columns
 from .tables import DEFAULT_LIMITS, Limits, RawTable, _looks_numeric, parse_table, to_numbers
 from .times import localize, parse_clock, parse_datetimes, parse_dates
 
-from .join import NUMERIC, READER_FLAGS, _MAX_RECORDED, join_parts  # noqa: F401  (READER_FLAGS: public)
+from .join import NUMERIC, OVERLAP_CHOICES, READER_FLAGS, _MAX_RECORDED, join_parts  # noqa: F401  (READER_FLAGS: public)
 
 
 @dataclass
@@ -675,7 +675,7 @@ def _assemble(tables, timezone, interval_label, column_map, register_digits, ope
               timezone_given=True, overlap=None):
     if interval_label not in ("end", "start"):
         raise SettingsError(f"interval label '{interval_label}' is not 'end' or 'start'")
-    if overlap not in (None, "later", "earlier"):
+    if overlap is not None and overlap not in OVERLAP_CHOICES:
         raise SettingsError(f"overlap '{overlap}' is not 'later' or 'earlier'",
                             hint="--overlap later keeps the later file's rows where files overlap, "
                                  "--overlap earlier the earlier file's (by the order of the files given)")

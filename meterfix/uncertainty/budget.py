@@ -40,6 +40,7 @@ from dataclasses import dataclass, field
 import numpy as np
 import pandas as pd
 
+from ..engine.flow_meter import CORIOLIS_METER, ORIFICE_METER, VOLUME_METER
 from ..z import IDEAL_METHOD, evaluate_z
 from ..z.base import EXTENDED, NORMAL, OUTSIDE
 from ..z.registry import get_method
@@ -232,10 +233,10 @@ def build_model(result, parsed) -> IntervalModel:
     if x.n and x.energy is None and np.isfinite(x.en).any():
         notes.append("the heating value is not known for every interval: no energy uncertainty is stated")
     fm = result.flow_meter or {}
-    kind = fm.get("kind", "volume")
+    kind = fm.get("kind", VOLUME_METER)
     # the line state acts through the density at the upstream tap with exponent 1/2 on an orifice's
     # mass (qm ~ sqrt(rho1)) and not at all on a Coriolis meter's
-    f_rho = {"orifice": 0.5, "coriolis": 0.0}.get(kind, 1.0)
+    f_rho = {ORIFICE_METER: 0.5, CORIOLIS_METER: 0.0}.get(kind, 1.0)
     der = _z_derivatives(result, method.name, x, notes, f_rho)
     annex_b, has_b, hv_comp = _heating_value_sources(result, x.n_an)
     model = IntervalModel(used=x.used, volume=x.vb, energy=x.energy, analysis=x.analysis, n_analyses=x.n_an,
@@ -369,7 +370,7 @@ def _meter_terms(model, add, parsed, df, x: _Intervals, fm: dict, kind: str) -> 
     n, vl, notes = x.n, x.vl, model.notes
     ones = np.ones(n)
     m_spec = parsed.resolve("meter")
-    if kind in ("orifice", "coriolis") or (fm and "meter" not in parsed.given):
+    if kind in (ORIFICE_METER, CORIOLIS_METER) or (fm and "meter" not in parsed.given):
         _meter_kind_terms(model, add, parsed, df, x.used, fm, vl, n)
     elif parsed.meter_qt is not None or parsed.meter_qmax is not None:
         with np.errstate(invalid="ignore", divide="ignore"):
@@ -490,7 +491,7 @@ def _meter_kind_terms(model, add, parsed, df, used, fm: dict, vl, n: int) -> Non
     ones = np.ones(n)
     allrows = np.ones(n, bool)
     kind = fm.get("kind")
-    if kind == "orifice":
+    if kind == ORIFICE_METER:
         beta = float(fm["beta"])
         b4 = beta ** 4
         dp = df["pressure_differential"].to_numpy(float)[used]
@@ -525,7 +526,7 @@ def _meter_kind_terms(model, add, parsed, df, used, fm: dict, vl, n: int) -> Non
                      "pipe_diameter": d_pipe}[key]
             add(key, spec, float(value), "Pa" if key == "differential_pressure" else "m", spec.standard * ones, c, c,
                 allrows)
-    elif kind == "coriolis":
+    elif kind == CORIOLIS_METER:
         spec = parsed.resolve("coriolis_mass")
         _relative_only(spec)
         add("coriolis_mass", spec, float(np.nansum(df["mass"].to_numpy(float)[used])), "kg", spec.standard * ones,

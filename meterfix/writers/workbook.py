@@ -27,6 +27,7 @@ import pandas as pd
 
 from .. import __version__
 from .. import vocabulary as V
+from ..engine.flow_meter import CORIOLIS_METER, ORIFICE_METER
 from . import workbook_charts as C
 from . import workbook_checks as K
 from . import workbook_history as H
@@ -84,7 +85,7 @@ def _short(v):
 def _meter_kind_rows(ws, r, result, du):
     """The meter kind (orifice, Coriolis, calibration) and the speed-of-sound check on the Overview."""
     fm = result.flow_meter or {}
-    if fm.get("kind") == "orifice":
+    if fm.get("kind") == ORIFICE_METER:
         r = _long_row(ws, r, "Meter", f"orifice plate, {fm['standard']}, {fm['taps']} taps, static tap {fm['static_tap']}")
         r = _row(ws, r, "Pipe diameter D", 1000.0 * fm["pipe_diameter_m"], "mm", "0.000",
                  f"at {fm['diameters_at_K'] - 273.15:g} °C")
@@ -98,7 +99,7 @@ def _meter_kind_rows(ws, r, result, du):
             r = _row(ws, r, "Month from its mean dp", av["month_mean_error_pct"], "%", X.FMT_PCT,
                      "the log has interval means of dp, not of sqrt(dp): each interval's flow is overstated by "
                      "the dp fluctuation within it")
-    elif fm.get("kind") == "coriolis":
+    elif fm.get("kind") == CORIOLIS_METER:
         r = _long_row(ws, r, "Meter", "Coriolis: base volume = mass / base density (AGA Report No. 11 practice)")
         r = _long_row(ws, r, "Density", result.method.get("density") or "")
     elif fm.get("meter_error_correction_pct") is not None:
