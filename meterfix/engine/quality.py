@@ -322,6 +322,10 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
                   limits: QualityLimits | None = None, timezone: str | None = None, bidirectional: bool = False):
     """Flag every row of a canonical log and optionally substitute short runs of bad values.
 
+    The steps: missing intervals inserted (gaps, breaks), negative interval volumes left out
+    unless the meter is bidirectional, the quality flags found (range, stuck, spike, flow at zero
+    pressure), one frame with every flag, then short runs of bad values substituted by ``policy``.
+
     Parameters
     ----------
     frame : DataFrame           canonical log from meterfix.readers.read_log (not modified)
@@ -363,8 +367,26 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
     if not own_duration:
         df["duration"] = nominal
     df, inserted, gap_n, flag_gap, breaks = _insert_gaps(df, nominal)
-    n = len(df)
-    negative = np.zeros(n, bool)
+    negative, edits = _leave_out_negative_volumes(df, bidirectional)
+    pcol = "pressure_gauge" if "pressure_gauge" in df else ("pressure_line" if "pressure_line" in df else None)
+    found = _found_flags(df, pcol, lim, flag_gap)
+    df = _with_quality_flags(df, found, own_duration, gap_n)
+    if policy != "none":
+        edits += _substitute(df, policy, pcol, found, negative, max_gap_intervals,
+                             timezone or attrs.get("timezone") or "UTC", inserted)
+    edit = pd.concat(edits, ignore_index=True) if edits else pd.DataFrame(columns=EDIT_COLUMNS)
+    if len(edit):
+        edit = edit.sort_values(["time", "what"], kind="stable").reset_index(drop=True)
+    df.attrs = attrs
+    df.attrs["quality"] = {"policy": policy, "max_gap_intervals": int(max_gap_intervals), **asdict(lim),
+                           "nominal_interval_s": nominal, "bidirectional": bool(bidirectional), "breaks": breaks}
+    return df, edit
+
+
+def _leave_out_negative_volumes(df: pd.DataFrame, bidirectional: bool):
+    """Negative interval volumes [m3] of a meter not declared bidirectional: set to NaN in ``df``
+    (raw values in ``volume_line_raw``), one edit row each. Returns (negative bool, list of edit frames)."""
+    negative = np.zeros(len(df), bool)
     edits = []
     if not bidirectional and "flag_negative_volume" in df and df["flag_negative_volume"].any():
         negative = df["flag_negative_volume"].to_numpy(bool)
@@ -375,7 +397,14 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
         edits.append(pd.DataFrame({"time": df.index[idx], "what": "volume_line", "original": raw[idx],
                                    "new": np.nan, "method": "left out",
                                    "reason": "negative interval volume (the meter is not declared bidirectional)"}))
-    pcol = "pressure_gauge" if "pressure_gauge" in df else ("pressure_line" if "pressure_line" in df else None)
+    return negative, edits
+
+
+def _found_flags(df: pd.DataFrame, pcol, lim: QualityLimits, flag_gap) -> dict:
+    """The quality flags found here, bool per row: gap, pressure [Pa] and temperature [K] out of
+    their limits, stuck readings while flowing, spikes (pressure, temperature, flow rate [m3/s]:
+    volumes compared as rates, intervals may differ), flow at zero pressure."""
+    n = len(df)
     vol = df["volume_line"].to_numpy(float) if "volume_line" in df else np.full(n, np.nan)
     flowing = np.isfinite(vol) & (vol > 0)
     with np.errstate(invalid="ignore", divide="ignore"):
@@ -389,7 +418,7 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
         zero = lim.zero_pressure_gauge if pcol == "pressure_gauge" else lim.zero_pressure_line
         zero_p = flowing & np.isfinite(p) & (p <= zero)
     t_ns = df.index.asi8 if isinstance(df.index, pd.DatetimeIndex) else None
-    found = {
+    return {
         "flag_gap": flag_gap,
         "flag_pressure_range": p_range,
         "flag_temperature_range": t_range,
@@ -399,9 +428,13 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
                        | _spikes(rate, lim.spike_window, lim.spike_z, t_ns)),
         "flag_flow_zero_pressure": zero_p,
     }
-    # one frame: the log's columns (flags found here replace the log's own), then the quality
-    # flags it lacks (False unless found here), the nominal duration where the log has none, and
-    # the gap counts
+
+
+def _with_quality_flags(df: pd.DataFrame, found: dict, own_duration: bool, gap_n) -> pd.DataFrame:
+    """One frame: the log's columns (flags found here replace the log's own), then the quality
+    flags it lacks (False unless found here), the nominal duration [s] where the log has none,
+    and the gap counts [intervals]."""
+    n = len(df)
     cols = {c: df[c] for c in df.columns if own_duration or c != "duration"}
     for f in QUALITY_FLAGS:
         if f in found:
@@ -411,42 +444,43 @@ def apply_quality(frame: pd.DataFrame, *, policy: str = "none", max_gap_interval
     if not own_duration:
         cols["duration"] = df["duration"]
     cols["gap_intervals"] = gap_n
-    df = pd.DataFrame(cols, index=df.index)
-    if policy != "none":
-        tz = timezone or attrs.get("timezone") or "UTC"
-        dur = df["duration"].to_numpy(float)
-        zero_p = df["flag_flow_zero_pressure"].to_numpy(bool)
-        for col, bad_extra, as_rate in ((pcol, p_range | zero_p, False), ("temperature_line", t_range, False),
-                                        ("volume_line", np.zeros(len(df), bool), True)):
-            if col is None or col not in df:
-                continue
-            x = df[col].to_numpy(float)
-            invalid = ~np.isfinite(x) | bad_extra
-            if not invalid.any():
-                continue
-            _, length = _runs(invalid)
-            fill = invalid & (length <= max_gap_intervals)
-            if not fill.any():
-                continue
-            y = np.where(invalid, np.nan, x / dur if as_rate else x)
-            new = _estimate(y, df.index, policy, tz)
-            if as_rate:
-                new = new * dur
-            fill &= np.isfinite(new) & ~(negative if as_rate else np.zeros(len(x), bool))
-            if not fill.any():
-                continue
-            if col + "_raw" not in df:
-                df[col + "_raw"] = x
-            df[col] = np.where(fill, new, x)
-            df["flag_estimated"] = df["flag_estimated"].to_numpy(bool) | fill
-            edits.append(_edit_rows(df, col, fill, x, new, policy, bad_extra, inserted))
-    edit = pd.concat(edits, ignore_index=True) if edits else pd.DataFrame(columns=EDIT_COLUMNS)
-    if len(edit):
-        edit = edit.sort_values(["time", "what"], kind="stable").reset_index(drop=True)
-    df.attrs = attrs
-    df.attrs["quality"] = {"policy": policy, "max_gap_intervals": int(max_gap_intervals), **asdict(lim),
-                           "nominal_interval_s": nominal, "bidirectional": bool(bidirectional), "breaks": breaks}
-    return df, edit
+    return pd.DataFrame(cols, index=df.index)
+
+
+def _substitute(df: pd.DataFrame, policy: str, pcol, found: dict, negative, max_gap_intervals: int, tz: str,
+                inserted) -> list:
+    """Fill runs of at most max_gap_intervals bad values by ``policy`` in ``df`` (pressure [Pa] and
+    temperature [K] as values, the volume [m3] as a rate; a left-out negative volume never), raw
+    values kept in ``<column>_raw``, filled rows flagged estimated. Returns the edit frames."""
+    edits = []
+    p_range, t_range = found["flag_pressure_range"], found["flag_temperature_range"]
+    dur = df["duration"].to_numpy(float)
+    zero_p = df["flag_flow_zero_pressure"].to_numpy(bool)
+    for col, bad_extra, as_rate in ((pcol, p_range | zero_p, False), ("temperature_line", t_range, False),
+                                    ("volume_line", np.zeros(len(df), bool), True)):
+        if col is None or col not in df:
+            continue
+        x = df[col].to_numpy(float)
+        invalid = ~np.isfinite(x) | bad_extra
+        if not invalid.any():
+            continue
+        _, length = _runs(invalid)
+        fill = invalid & (length <= max_gap_intervals)
+        if not fill.any():
+            continue
+        y = np.where(invalid, np.nan, x / dur if as_rate else x)
+        new = _estimate(y, df.index, policy, tz)
+        if as_rate:
+            new = new * dur
+        fill &= np.isfinite(new) & ~(negative if as_rate else np.zeros(len(x), bool))
+        if not fill.any():
+            continue
+        if col + "_raw" not in df:
+            df[col + "_raw"] = x
+        df[col] = np.where(fill, new, x)
+        df["flag_estimated"] = df["flag_estimated"].to_numpy(bool) | fill
+        edits.append(_edit_rows(df, col, fill, x, new, policy, bad_extra, inserted))
+    return edits
 
 
 def _estimate(y: np.ndarray, index: pd.DatetimeIndex, policy: str, tz: str) -> np.ndarray:
