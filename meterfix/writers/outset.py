@@ -8,7 +8,9 @@
   file system or not writable), marks the set complete, then renames each file into ``--out``,
   the summary JSON last (its presence marks a complete set). A failure before the move leaves
   nothing; a run killed during the move is finished by the next run into the folder (it finds
-  the set marked complete and moves the rest).
+  the set marked complete and moves the rest). Files written into the set are flushed to disk
+  (``fsync``) once each, at :meth:`OutputSet.commit`, before the set is marked complete; the
+  mark and the moves are made durable by an ``fsync`` of each folder.
 - **One run at a time**: an exclusive lock (``flock``) on the output folder is held from the
   check of the final names to the end of the move, so two runs into one folder never mix their
   files; the second waits, then finds the first one's outputs (and refuses them without
@@ -264,6 +266,13 @@ class OutputSet:
         """Where to write the output that will be ``out_dir/name``."""
         self.finals[name] = self.out / name
         return self.stage / name
+
+    def write(self, name: str, data: bytes) -> Path:
+        """Write the bytes of the output that will be ``out_dir/name`` (flushed to disk at :meth:`commit`)."""
+        tmp = self.path(name)
+        with open(tmp, "wb") as fh:
+            fh.write(data)
+        return tmp
 
     def outside(self, final) -> Path:
         """A temporary path for an output outside the folder (``--json``), moved with the set."""

@@ -131,5 +131,11 @@ def build_summary(result) -> dict:
 
 def summary_json(result_or_summary) -> str:
     """Deterministic JSON text (sorted keys, fixed float repr)."""
-    d = result_or_summary if isinstance(result_or_summary, dict) else build_summary(result_or_summary)
-    return json.dumps(_clean(d), indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
+    if isinstance(result_or_summary, dict):
+        return dumps_clean(_clean(result_or_summary))
+    return dumps_clean(build_summary(result_or_summary))
+
+
+def dumps_clean(summary: dict) -> str:
+    """The JSON text of a summary dict that is JSON-safe already (as :func:`build_summary` returns it)."""
+    return json.dumps(summary, indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"

@@ -21,14 +21,15 @@ def interval_table(result, *, times_as_text: bool = True) -> pd.DataFrame:
     ``interval_end_utc`` is ISO 8601 text (``2026-10-01T05:00:00Z``) or, with
     ``times_as_text=False``, a UTC timestamp column (for Parquet).
     """
+    return _with_times(result, _interval_columns(result), times_as_text)
+
+
+def _interval_columns(result) -> dict:
+    """The interval table's columns after its time, {header with unit: array}."""
     from ..engine.pipeline import INTERVAL_UNITS
 
     df = result.intervals
     cols = {}
-    if times_as_text:
-        cols["interval_end_utc"] = df.index.strftime("%Y-%m-%dT%H:%M:%SZ")
-    else:
-        cols["interval_end_utc"] = pd.DatetimeIndex(df.index).tz_convert("UTC").as_unit("ns")
     for c in df.columns:
         if c == "flagged":
             continue
@@ -40,8 +41,27 @@ def interval_table(result, *, times_as_text: bool = True) -> pd.DataFrame:
         elif c == "analysis":
             col = col + 1  # analyses are numbered from 1, as in the workbook and the summary
         cols[name] = col.to_numpy()
+    return cols
+
+
+def _with_times(result, cols: dict, times_as_text: bool) -> pd.DataFrame:
+    idx = result.intervals.index
+    if times_as_text:
+        t = idx.strftime("%Y-%m-%dT%H:%M:%SZ")
+    else:
+        t = pd.DatetimeIndex(idx).tz_convert("UTC").as_unit("ns")
     # one frame from the columns at once (column by column insertion costs a copy each)
-    return pd.DataFrame(cols, index=pd.RangeIndex(len(df)))
+    return pd.DataFrame({"interval_end_utc": t, **cols}, index=pd.RangeIndex(len(idx)))
+
+
+def interval_tables(result) -> tuple[pd.DataFrame, pd.DataFrame]:
+    """(CSV table, Parquet table) of the intervals, built and neutralised once for both: the same
+    columns as :func:`interval_table` after :func:`_neutralised`, times as text for the CSV and as
+    UTC timestamps for Parquet (the times are ISO 8601 text of our own, which never reads as a formula)."""
+    cols = _interval_columns(result)
+    fixed = _neutralised(pd.DataFrame(cols, index=pd.RangeIndex(len(result.intervals))))
+    cols = {c: fixed[c].to_numpy() for c in fixed.columns}
+    return _with_times(result, cols, True), _with_times(result, cols, False)
 
 
 def _neutralised(df: pd.DataFrame) -> pd.DataFrame:
@@ -78,12 +98,13 @@ def _csv_field(v) -> str:
     return buf.getvalue()[:-1]
 
 
-def _csv_bytes(df: pd.DataFrame) -> bytes:
+def _csv_bytes(df: pd.DataFrame, *, neutralised: bool = False) -> bytes:
     """CSV bytes, the same as ``DataFrame.to_csv(index=False, float_format="%.10g")`` writes (tested),
     several times faster on long logs: every row is one ``%`` of a row format (floats ``%.10g``,
     integers ``%d``); a float column with missing values, and each distinct text, are formatted
     once as text (missing values empty, text quoted by the csv module's minimal rule)."""
-    df = _neutralised(df)
+    if not neutralised:
+        df = _neutralised(df)
     header = ",".join(_csv_field(c) for c in df.columns) + "\n"
     specs, arrays = [], []
     for c in df.columns:
@@ -144,10 +165,14 @@ def interval_parquet_bytes(result) -> bytes:
     and floats keep every digit. The bytes are the same for the same result and pyarrow version
     (no write time is stored).
     """
+    return _parquet_bytes(_neutralised(interval_table(result, times_as_text=False)))
+
+
+def _parquet_bytes(df: pd.DataFrame) -> bytes:
+    """Parquet bytes of a neutralised interval table (see :func:`interval_parquet_bytes`)."""
     import pyarrow as pa
     import pyarrow.parquet as pq
 
-    df = _neutralised(interval_table(result, times_as_text=False))
     obj = df.select_dtypes(include=["object", "string"]).columns
     for c in obj:
         df[c] = df[c].astype(object).where(df[c].notna(), None)
@@ -174,10 +199,15 @@ def gas_day_table(result) -> pd.DataFrame:
     return df
 
 
-def write_gas_day_csv(result, path, *, overwrite: bool = False):
+def gas_day_csv_bytes(result) -> bytes:
+    """The gas-day table as CSV bytes (infinite values empty)."""
     df = gas_day_table(result)
     df = df.replace([np.inf, -np.inf], np.nan)
-    return write_bytes(path, _csv_bytes(df.reset_index(drop=True)), overwrite=overwrite)
+    return _csv_bytes(df.reset_index(drop=True))
+
+
+def write_gas_day_csv(result, path, *, overwrite: bool = False):
+    return write_bytes(path, gas_day_csv_bytes(result), overwrite=overwrite)
 
 
 #: edit record column → SI unit of its values
@@ -214,3 +244,8 @@ def edits_table(result) -> pd.DataFrame:
 def write_edits_csv(result, path, *, overwrite: bool = False):
     """Write the quality edit record as CSV, atomically (a header only when nothing was substituted)."""
     return write_bytes(path, _csv_bytes(edits_table(result)), overwrite=overwrite)
+
+
+def edits_csv_bytes(result) -> bytes:
+    """The quality edit record as CSV bytes."""
+    return _csv_bytes(edits_table(result))
