@@ -43,12 +43,11 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     :class:`~meterfix.errors.OutputError` and leaves no output.
     """
     from .outset import OutputSet, os_error
-    from .tables import _csv_bytes, _parquet_bytes
 
     out = Path(out_dir)
     stem = output_stem(result)
     from .summary import dumps_clean
-    from .tables import edits_csv_bytes, gas_day_csv_bytes, interval_tables
+    from .tables import edits_csv_bytes, gas_day_csv_bytes, interval_bytes
 
     summary = dumps_clean(build_summary(result) if summary is None else summary)
     write_workbook = None
@@ -77,11 +76,11 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     try:
         with OutputSet(out, overwrite=overwrite) as outs:
             outs.check_finals(names.values())
-            csv_table, parquet_table = interval_tables(result)
-            outs.write(names["intervals"], _csv_bytes(csv_table, neutralised=True))
-            if "parquet" in names:
-                outs.write(names["parquet"], _parquet_bytes(parquet_table))
-            del csv_table, parquet_table
+            csv, parquet = interval_bytes(result, parquet="parquet" in names)
+            outs.write(names["intervals"], csv)
+            if parquet is not None:
+                outs.write(names["parquet"], parquet)
+            del csv, parquet
             outs.write(names["gas_days"], gas_day_csv_bytes(result))
             outs.write(names["edits"], edits_csv_bytes(result))
             if write_workbook is not None:
