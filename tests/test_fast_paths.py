@@ -196,11 +196,12 @@ def test_interval_csv_bytes_are_pandas_to_csv():
 def test_csv_bytes_with_constant_and_neighbouring_discrete_columns_are_pandas_to_csv(tmp_path):
     # reference: pandas DataFrame.to_csv with the writer's options. Constant numbers (0.0 and -0.0
     # never mixed, NaN, an integer) are formatted once; neighbouring booleans and texts are joined
-    # into one field per distinct combination; the interval table through interval_bytes is the
+    # into one field per distinct combination; the interval table through interval_columns is the
     # interval CSV write_interval_csv writes
     import io
 
-    from meterfix.writers.tables import _csv_bytes, _neutralised, interval_bytes, write_interval_csv
+    from meterfix.writers.tables import (_csv_bytes, _neutralised, interval_columns, interval_csv_bytes,
+                                        write_interval_csv)
     from workbook_month import plain_month
 
     def ref(df):
@@ -218,5 +219,5 @@ def test_csv_bytes_with_constant_and_neighbouring_discrete_columns_are_pandas_to
     assert _csv_bytes(df) == ref(df)
     assert _csv_bytes(df.iloc[:0]) == ref(df.iloc[:0])
     r, _ = plain_month()
-    csv, _ = interval_bytes(r, parquet=False)
+    csv = interval_csv_bytes(r, interval_columns(r))
     assert csv == write_interval_csv(r, tmp_path / "i.csv").read_bytes()

@@ -47,7 +47,8 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     out = Path(out_dir)
     stem = output_stem(result)
     from .summary import dumps_clean
-    from .tables import edits_csv_bytes, gas_day_csv_bytes, interval_bytes
+    from .tables import (edits_csv_bytes, gas_day_csv_bytes, interval_columns, interval_csv_bytes,
+                         interval_parquet_of)
 
     summary = dumps_clean(build_summary(result) if summary is None else summary)
     write_workbook = None
@@ -76,11 +77,11 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     try:
         with OutputSet(out, overwrite=overwrite) as outs:
             outs.check_finals(names.values())
-            csv, parquet = interval_bytes(result, parquet="parquet" in names)
-            outs.write(names["intervals"], csv)
-            if parquet is not None:
-                outs.write(names["parquet"], parquet)
-            del csv, parquet
+            cols = interval_columns(result)  # once for both files; each file's bytes freed when written
+            outs.write(names["intervals"], interval_csv_bytes(result, cols))
+            if "parquet" in names:
+                outs.write(names["parquet"], interval_parquet_of(result, cols))
+            del cols
             outs.write(names["gas_days"], gas_day_csv_bytes(result))
             outs.write(names["edits"], edits_csv_bytes(result))
             if write_workbook is not None:

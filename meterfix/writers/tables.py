@@ -54,14 +54,23 @@ def _with_times(result, cols: dict, times_as_text: bool) -> pd.DataFrame:
     return pd.DataFrame({"interval_end_utc": t, **cols}, index=pd.RangeIndex(len(idx)))
 
 
-def interval_bytes(result, *, parquet: bool) -> tuple[bytes, bytes | None]:
-    """(CSV bytes, Parquet bytes or None) of the interval table, its columns built and neutralised
-    once for both: the same bytes as :func:`write_interval_csv` and :func:`interval_parquet_bytes`
-    write (the times are ISO 8601 text of our own, which never reads as a formula)."""
-    cols = {c: _neutralised_array(a) if a.dtype == object else a for c, a in _interval_columns(result).items()}
+def interval_columns(result) -> dict:
+    """The interval table's columns after its time, neutralised, {header with unit: array}: built
+    once for :func:`interval_csv_bytes` and :func:`interval_parquet_of` (the same bytes as
+    :func:`write_interval_csv` and :func:`interval_parquet_bytes` write)."""
+    return {c: _neutralised_array(a) if a.dtype == object else a for c, a in _interval_columns(result).items()}
+
+
+def interval_csv_bytes(result, cols: dict) -> bytes:
+    """The interval CSV from :func:`interval_columns` (the times are ISO 8601 text of our own,
+    which never reads as a formula)."""
     times = result.intervals.index.strftime("%Y-%m-%dT%H:%M:%SZ")
-    csv = _csv_bytes_of(["interval_end_utc", *cols], [np.asarray(times, dtype=object), *cols.values()])
-    return csv, (_parquet_bytes(_with_times(result, cols, False)) if parquet else None)
+    return _csv_bytes_of(["interval_end_utc", *cols], [np.asarray(times, dtype=object), *cols.values()])
+
+
+def interval_parquet_of(result, cols: dict) -> bytes:
+    """The interval Parquet file from :func:`interval_columns` (needs pyarrow)."""
+    return _parquet_bytes(_with_times(result, cols, False))
 
 
 def _neutralised_array(a: np.ndarray) -> np.ndarray:
