@@ -10,6 +10,7 @@ import csv
 import json
 import shutil
 
+import numpy as np
 import pytest
 from typer.testing import CliRunner
 
@@ -17,6 +18,7 @@ from meterfix.balance.writers import DAY_COLUMNS
 from meterfix.cli import app
 from meterfix.cli.demo import zone_folder
 from test_store import _pg_database  # a new database on the test server, dropped afterwards
+from test_zone_fixture import expected_ufg, make_zone
 
 STEM = "Brackenfold_zone_2026-11"
 
@@ -65,6 +67,25 @@ def test_demo_zone_finds_the_drifting_meter(closed):
     assert f["meter"] == "BF-D3 Kestrel mill" and f["from_gas_day"] == "2026-11-14"
     assert f["bias_pct"] == pytest.approx(2.0, abs=0.3)
     assert {"meter", "bias_pct", "from_gas_day", "evidence"} <= set(f)
+    # by construction (the generator's true flows balance exactly): the UFG is the meters' errors, the
+    # mill's 2 % among them; the logs' rounding moves it by less than 1e-5 of the receipts
+    _, truth = make_zone.build()
+    _, month = expected_ufg(truth)
+    assert s["ufg_m3"] == pytest.approx(month, abs=1e-5 * s["receipts_m3"])
+    mill = truth["meters"]["BF-D3"]
+    drift_effect = -float((mill["measured"] - mill["true"]).sum())
+    noise = make_zone.NOISE * np.sqrt(sum(float((m["true"] ** 2).sum()) for m in truth["meters"].values()))
+    assert abs(s["ufg_m3"] - drift_effect) < 4 * noise   # the rest is the meters' hourly noise
+    assert s["consistent"]   # 2 % of one small delivery stays within the zone's uncertainty: found by its shape
+    # the Coriolis and the orifice meter: their month as the generator measured it, to 1e-6
+    kinds = {}
+    for p in (out / "meters").glob("*/*_summary.json"):
+        m = json.loads(p.read_text(encoding="utf-8"))
+        kinds[m["meter"]] = (m.get("flow_meter") or {}).get("kind", "volume")
+    assert kinds["BF-D4"] == "coriolis" and kinds["BF-D5"] == "orifice" and kinds["BF-D3"] == "volume"
+    rows = {m["name"].split()[0]: m for m in s["meters"]}
+    for mid in ("BF-D4", "BF-D5"):
+        assert rows[mid]["volume_m3"] == pytest.approx(truth["meters"][mid]["measured"].sum(), rel=1e-6)
     rec = s["reconciliation"]
     assert {"chi2", "chi2_limit", "meters"} <= set(rec)
     assert {"name", "measured_m3", "reconciled_m3", "normalized_adjustment"} <= set(rec["meters"][0])
