@@ -29,6 +29,23 @@ AT_INVOICE_BASE = "at the invoice's base"
 AT_CORRECTOR_BASE = "at the corrector's base"
 GAS_MONTH = "Gas month"                              # gas days of one calendar month, from the gas-day start
 ROWS_LEFT_OUT = "rows left out"                      # rows of a log not used (time unreadable, not on the clock)
+BASE_CONDITIONS = "Base conditions"                  # "101.325 kPa abs, 0 °C" (DisplayUnits.base_text)
+
+# --- the system balance (meterfix.balance): one label per part of the balance ----------------------
+RECEIPTS = "Receipts"                                # receipts_m3: gas entering the system, at base
+DELIVERIES = "Deliveries"                            # deliveries_m3
+OWN_USE = "Own use"                                  # own_use_m3: the system's own consumption (fuel, heaters)
+FIXED_QUANTITIES = "Fixed quantities"                # fixed_m3: estimated quantities (vents, purges)
+LINEPACK_CHANGE = "Linepack change"                  # linepack_change_m3: gas held in the pipe, closing − opening
+UFG = "UFG"                                          # ufg_m3 = receipts − deliveries − own use − fixed − Δlinepack
+UFG_LONG = "Unaccounted-for gas (UFG)"
+UFG_OF_RECEIPTS = "UFG, % of receipts"               # ufg_pct
+VERDICT = "Verdict"                                  # consistent: |UFG| within its expanded uncertainty
+WHICH_METER = "Which meter"                          # the meter search (findings)
+RECONCILED = "Reconciled"                            # VDI 2048-1 reconciled value
+NORMALIZED_ADJUSTMENT = "Normalized adjustment"      # VDI 2048-1 gross-error test statistic
+ROLES = {"receipt": "receipt", "delivery": "delivery", "own_use": "own use"}
+METER_KINDS = {"volume": "volume meter", "orifice": "orifice plate", "coriolis": "Coriolis meter"}
 
 QUANTITY_LABELS = {
     "volume_line": UNCORRECTED_VOLUME, "volume_base": BASE_VOLUME, "volume_base_ideal": BASE_VOLUME_IDEAL,

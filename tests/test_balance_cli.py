@@ -92,7 +92,7 @@ def test_demo_zone_finds_the_drifting_meter(closed):
     # the fixed quantity on its day, the restated meter said so, the caution on the console
     assert s["days"][7]["fixed_m3"] == pytest.approx(1200.0)
     assert any("restated" in n and "BF-D4" in n for n in s["notes"])
-    assert "not an approved conversion device" in text and "BF-D3 Kestrel mill (delivery) reads +2." in text
+    assert "not an approved conversion device" in text and "BF-D3 Kestrel mill (delivery, volume meter) reads +2." in text
     # the daily CSV and the workbook
     with open(out / f"{STEM}_balance_days.csv", newline="", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
@@ -235,3 +235,49 @@ def test_meters_of_another_gas_day_or_energy_reference_exit_2(zone, tmp_path, ke
     r = _run("balance", d / "small.toml", "--out", tmp_path / "o", "--quiet")
     assert r.exit_code == 2 and words in r.output, r.output
     assert not list((tmp_path / "o").glob("*_balance*"))
+
+
+def test_console_and_workbook_speak_the_vocabulary_in_the_base_units(closed, zone, tmp_path):
+    """The balance's console and workbook use the labels of meterfix.vocabulary and the display units of
+    the balance's base, as `meterfix correct` does: kPa abs, °C, m3 at base, GJ; on a US base (14.73 psia,
+    60 degF) psia, °F, Mcf at base, MMBtu. The JSON stays SI under its contract keys."""
+    from openpyxl import load_workbook
+
+    from meterfix import vocabulary as V
+
+    store, out, text = closed
+    assert "  base conditions      101.325 kPa abs, 0 °C; gas day from 06:00 (Europe/Berlin)" in text
+    for label in (V.RECEIPTS, V.DELIVERIES, V.FIXED_QUANTITIES, V.LINEPACK_CHANGE):
+        line = next(ln for ln in text.splitlines() if ln.startswith(f"  {label.lower():<20} "))
+        assert line.endswith(" m3 at base"), line
+    assert "5 volume meters, 1 orifice plate, 1" in text
+    s = json.loads((out / f"{STEM}_balance.json").read_text(encoding="utf-8"))
+    assert {m["name"].split()[0]: m["kind"] for m in s["meters"]} == {
+        "BF-R1": "volume", "BF-R2": "volume", "BF-D1": "volume", "BF-D2": "volume", "BF-D3": "volume",
+        "BF-D4": "coriolis", "BF-D5": "orifice"}
+    wb = load_workbook(out / f"{STEM}_balance.xlsx")
+    ws = wb["Balance"]
+    cells = [c for row in ws.iter_rows(values_only=True) for c in row if c is not None]
+    assert f"{V.BASE_VOLUME} [m3 {V.AT_BASE}]" in cells and f"{V.ENERGY} [GJ]" in cells
+    for label in (V.RECEIPTS, V.DELIVERIES, V.OWN_USE, V.FIXED_QUANTITIES, V.LINEPACK_CHANGE, V.UFG_LONG):
+        assert label in cells
+    kinds = [r[2] for r in wb["Meters"].iter_rows(min_row=2, values_only=True)]
+    assert sorted(set(kinds)) == ["Coriolis meter", "orifice plate", "volume meter"]
+    # the same months on a US base
+    p = _edit(zone, tmp_path, 'base_pressure = "101.325 kPa"\nbase_temperature = "0 degC"',
+              'base_pressure = "14.73 psia"\nbase_temperature = "60 degF"')
+    r = _run("balance", p, "--out", tmp_path / "us", "--from-store", store)
+    assert r.exit_code == 0, r.output
+    assert "  base conditions      14.73 psia, 60 °F;" in r.output
+    receipts = next(ln for ln in r.output.splitlines() if ln.startswith("  receipts "))
+    assert receipts.endswith(" Mcf at base") and "MMBtu (k = 2)" in r.output
+    us = json.loads((tmp_path / "us" / f"{STEM}_balance.json").read_text(encoding="utf-8"))
+    # Mcf = 1000 ft3 = 28.316846592 m3 (NIST SP 811, ft = 0.3048 m exactly); shown rounded to the UFG's u
+    shown = float(receipts.split()[1].replace(",", ""))
+    assert shown == pytest.approx(us["receipts_m3"] / 28.316846592, abs=us["ufg_expanded_uncertainty_m3"] / 28.3)
+    flat = " ".join(r.output.split())   # the console wraps long lines
+    assert "restated from their base 14.6959 psia, 32 °F to the balance's 14.73 psia, 60 °F" in flat
+    assert "meter 'BF-D4 Fennick kiln works' restated from its base 14.6959 psia, 59 °F" in flat
+    wb = load_workbook(tmp_path / "us" / f"{STEM}_balance.xlsx")
+    cells = [c for row in wb["Balance"].iter_rows(values_only=True) for c in row if c is not None]
+    assert f"{V.BASE_VOLUME} [Mcf {V.AT_BASE}]" in cells and f"{V.ENERGY} [MMBtu]" in cells
