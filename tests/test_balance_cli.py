@@ -66,6 +66,8 @@ def test_demo_zone_finds_the_drifting_meter(closed):
     # the invented truth: BF-D3 reads 2 % high from gas day 2026-11-14 (fixtures/make_zone.py)
     assert f["meter"] == "BF-D3 Kestrel mill" and f["from_gas_day"] == "2026-11-14"
     assert f["bias_pct"] == pytest.approx(2.0, abs=0.3)
+    # the true 2 % lies within the fit's expanded uncertainty (k = 2) at the found onset
+    assert abs(f["bias_pct"] - 100 * make_zone.DRIFT) <= f["bias_expanded_uncertainty_pct"] < 1.0
     assert {"meter", "bias_pct", "from_gas_day", "evidence"} <= set(f)
     # by construction (the generator's true flows balance exactly): the UFG is the meters' errors, the
     # mill's 2 % among them; the logs' rounding moves it by less than 1e-5 of the receipts
@@ -92,7 +94,9 @@ def test_demo_zone_finds_the_drifting_meter(closed):
     # the fixed quantity on its day, the restated meter said so, the caution on the console
     assert s["days"][7]["fixed_m3"] == pytest.approx(1200.0)
     assert any("restated" in n and "BF-D4" in n for n in s["notes"])
-    assert "not an approved conversion device" in text and "BF-D3 Kestrel mill (delivery, volume meter) reads +2." in text
+    flat = " ".join(text.split())   # the console wraps long lines
+    assert "not an approved conversion device" in flat
+    assert "BF-D3 Kestrel mill (delivery, volume meter) reads +2.15 % ± 0.32 % (k = 2) from gas day 2026-11-14" in flat
     # the daily CSV and the workbook
     with open(out / f"{STEM}_balance_days.csv", newline="", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
@@ -281,3 +285,13 @@ def test_console_and_workbook_speak_the_vocabulary_in_the_base_units(closed, zon
     wb = load_workbook(tmp_path / "us" / f"{STEM}_balance.xlsx")
     cells = [c for row in wb["Balance"].iter_rows(values_only=True) for c in row if c is not None]
     assert f"{V.BASE_VOLUME} [Mcf {V.AT_BASE}]" in cells and f"{V.ENERGY} [MMBtu]" in cells
+
+
+def test_running_again_into_the_same_folder_says_so(closed, zone):
+    """An earlier run's outputs in --out: one line naming the file and the fix, before any meter is run
+    (not a meter 'without a result')."""
+    _, out, _ = closed
+    r = _run("balance", zone / "balance.toml", "--out", out)
+    lines = [ln for ln in r.output.strip().splitlines() if ln.strip()]
+    assert r.exit_code == 2 and len(lines) == 1, r.output
+    assert "output already exists" in lines[0] and "--overwrite" in lines[0] and "no result" not in lines[0]

@@ -74,7 +74,8 @@ def balance_summary(result: BalanceResult, *, closing: dict | None = None) -> di
                    "gas_day": f.gas_day} for f in result.fixed],
         "findings": [{"meter": f.meter, "role": f.role, "bias_pct": f.bias_pct, "from_gas_day": f.from_gas_day,
                       "evidence": f.evidence, "credited": f.credited, "delta_bic": f.delta_bic,
-                      "effect_m3": f.effect_m3} for f in result.findings],
+                      "effect_m3": f.effect_m3, "bias_expanded_uncertainty_pct": f.bias_expanded_uncertainty_pct}
+                     for f in result.findings],
         "search": result.search_text,
         "reconciliation": None if rec is None else {
             "method": "VDI 2048 Blatt 1 (2000): weighted least squares under the balance constraint, full covariance",
@@ -210,12 +211,14 @@ def build_workbook(summary: dict):
     r = X.section(fws, 1, f"{V.WHICH_METER}: the daily {V.UFG} fitted to one meter reading high or low from a gas day")
     r = X.note(fws, r, summary["search"], span=6)
     r += 1
-    frows = [(f["meter"], V.ROLES.get(f["role"], f["role"]), f["bias_pct"], f["from_gas_day"], f["delta_bic"],
-              "credited" if f["credited"] else "tried, not credited", f["evidence"]) for f in summary["findings"]]
-    X.write_table(fws, r, 1, ["Meter", "Role", "Reads high by [%]", "From gas day", "ΔBIC against no meter [-]",
-                              "Status", "Evidence"], frows, [None, None, X.FMT_PCT2, None, "0.0", None, None])
-    X.wrap_rows(fws, r + 1, r + len(frows), [7])
-    X.set_widths(fws, {"A": 32, "B": 10, "C": 12, "D": 12, "E": 12, "F": 18, "G": 70})
+    frows = [(f["meter"], V.ROLES.get(f["role"], f["role"]), f["bias_pct"], f.get("bias_expanded_uncertainty_pct"),
+              f["from_gas_day"], f["delta_bic"], "credited" if f["credited"] else "tried, not credited", f["evidence"])
+             for f in summary["findings"]]
+    X.write_table(fws, r, 1, ["Meter", "Role", "Reads high by [%]", "U (k = 2) [%]", "From gas day",
+                              "ΔBIC against no meter [-]", "Status", "Evidence"], frows,
+                  [None, None, X.FMT_PCT2, X.FMT_PCT2, None, "0.0", None, None])
+    X.wrap_rows(fws, r + 1, r + len(frows), [8])
+    X.set_widths(fws, {"A": 32, "B": 10, "C": 12, "D": 10, "E": 12, "F": 12, "G": 18, "H": 70})
     return book
 
 

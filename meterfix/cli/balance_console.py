@@ -110,9 +110,11 @@ def print_balance(s: dict, written: dict, *, runner: str, seconds=(0.0, 0.0), cl
     credited = next((f for f in s["findings"] if f["credited"]), None)
     if credited:
         what = f"{V.ROLES.get(credited['role'], credited['role'])}, {V.METER_KINDS.get(kinds.get(credited['meter']), '')}"
-        b = credited["bias_pct"]
-        _line(_lc(V.WHICH_METER), f"{credited['meter']} ({what.rstrip(', ')}) reads {_signed(f'{b:.2f}', b)} % "
-              f"from gas day {credited['from_gas_day']}", echo)
+        b, ub = credited["bias_pct"], credited.get("bias_expanded_uncertainty_pct")
+        size = (f"{_signed(_num(b, ub / 2), b)} % ± {_unc(ub)} % (k = 2)" if _finite(ub) and ub > 0
+                else f"{_signed(f'{b:.2f}', b)} %")
+        _line(_lc(V.WHICH_METER), f"{credited['meter']} ({what.rstrip(', ')}) reads {size} from gas day "
+              f"{credited['from_gas_day']}", echo)
         _line("", f"evidence: {credited['evidence']}", echo)
         _line("", f"its error put {_signed(vol(credited['effect_m3'], U / 2), credited['effect_m3'])} "
                   "into the month's UFG" + ("; found in the shape of the daily UFG: the month's total alone is within "
@@ -146,4 +148,4 @@ def print_balance(s: dict, written: dict, *, runner: str, seconds=(0.0, 0.0), cl
     echo("  defers to the contract, legal-metrology rules and licensed practice.")
     echo("  outputs:")
     for kind, path in written.items():
-        echo(f"    {kind:<11} {path}")
+        echo(f"    {kind:<11} {path}" + ("  (each meter's month, as `meterfix fleet` writes it)" if kind == "meters" else ""))
