@@ -179,7 +179,9 @@ def search(ufg, sigma, volumes, signs, names, roles, gas_days) -> tuple[list, st
     credited = [f for f in findings if f.credited]
     if credited:
         f = credited[0]
-        text = (f"{f.meter} reads {f.bias_pct:+.2f} % from gas day {f.from_gas_day} "
+        u = f.bias_expanded_uncertainty_pct
+        text = (f"{f.meter} reads {f.bias_pct:+.2f} %" + (f" ± {u:.2f} % (k = 2)" if np.isfinite(u) else "")
+                + f" from gas day {f.from_gas_day} "
                 f"(ΔBIC {f.delta_bic:.0f} against no meter)")
     else:
         text = f"no meter credited: {len(findings)} tried, none explains the daily UFG decisively better than a constant loss"

@@ -150,6 +150,7 @@ def build_workbook(summary: dict):
     rec = summary["reconciliation"]
     top = r
     r = X.write_table(ws, r, 1, ["Result", "Value"], [
+        ("Meters", V.meters_text(summary["meters"])),
         (V.UFG_OF_RECEIPTS, summary["ufg_pct"]),
         (f"{V.UFG} in standard uncertainties", summary["ufg_standard_uncertainties"]),
         (V.VERDICT, verdict),

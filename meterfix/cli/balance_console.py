@@ -32,29 +32,6 @@ def _signed(text: str, v) -> str:
     return ("+" if _finite(v) and v > 0 else "") + text
 
 
-def _kinds(meters: list) -> str:
-    """'5 volume meters, 1 orifice plate, 1 Coriolis meter' in the order of V.METER_KINDS."""
-    counts = {}
-    for m in meters:
-        k = m.get("kind") or "volume"
-        counts[k] = counts.get(k, 0) + 1
-    out = []
-    for k in list(V.METER_KINDS) + sorted(set(counts) - set(V.METER_KINDS)):
-        n = counts.get(k)
-        if n:
-            word = V.METER_KINDS.get(k, k)
-            out.append(f"{n} {word}{'s' if n > 1 else ''}")
-    return ", ".join(out)
-
-
-def _roles(meters: list) -> str:
-    counts = {}
-    for m in meters:
-        counts[m["role"]] = counts.get(m["role"], 0) + 1
-    words = {"receipt": ("receipt", "receipts"), "delivery": ("delivery", "deliveries"), "own_use": ("own use", "own use")}
-    return ", ".join(f"{counts[r]} {words[r][counts[r] > 1]}" for r in words if counts.get(r))
-
-
 def print_balance(s: dict, written: dict, *, runner: str, seconds=(0.0, 0.0), closing=None, from_store=None,
                   echo=typer.echo) -> None:
     from ..writers.xlsx_common import DisplayUnits
@@ -70,7 +47,7 @@ def print_balance(s: dict, written: dict, *, runner: str, seconds=(0.0, 0.0), cl
     echo(f"meterfix balance: {s['name']}, {_lc(V.GAS_MONTH)} {s['month']}")
     meters = s.get("meters") or []
     how = f"months {runner}" if runner.startswith("from ") else f"months run on {runner}"
-    _line("meters", f"{len(meters)} ({_roles(meters)}): {_kinds(meters)}; {how} in {seconds[0]:.1f} s, "
+    _line("meters", f"{V.meters_text(meters)}; {how} in {seconds[0]:.1f} s, "
                     f"balance {seconds[1]:.2f} s", echo)
     _line(_lc(V.BASE_CONDITIONS), du.base_text(bc["pressure_Pa"], bc["temperature_K"])
           + f"; gas day from {s['gas_day']['start_hour']:02d}:00 ({s['gas_day']['timezone']})", echo)
