@@ -175,3 +175,22 @@ def test_a_spike_inside_a_smooth_log_is_still_flagged():
     f.iloc[300, 2] *= 1.5
     q, _ = apply_quality(f)
     assert list(np.flatnonzero(q["flag_spike"].to_numpy())) == [100, 306]  # 300 moves by the 6 inserted rows
+
+
+def test_no_spike_flags_on_a_smooth_log_written_with_few_digits():
+    # a SCADA export rounds its readings (temperature to 0.1 degF, pressure to 0.01 psi): on a smooth
+    # log the residuals are then 0 or one step and their MAD is 0; such steps are no spike (the rule's
+    # resolution floor, engine/quality.py _spikes), while a real jump in the same log still is
+    n = 24 * 4 * 5
+    h = np.arange(n)
+    idx = pd.date_range("2026-10-31 05:15", periods=n, freq="15min", tz="UTC")
+    deg_f = np.round(55.0 + 5.0 * np.sin(h / 40.0), 1)
+    psi = np.round(600.0 + 15.0 * np.sin(h / 20.0), 2)
+    frame = pd.DataFrame({"pressure_gauge": psi * 6894.757293168361,
+                          "temperature_line": (deg_f - 32.0) * 5.0 / 9.0 + 273.15,
+                          "volume_line": np.round(25.0 + 3.0 * np.sin(h / 10.0), 3), "duration": 900.0}, index=idx)
+    q, _ = apply_quality(frame)
+    assert not q["flag_spike"].any()
+    frame.iloc[200, 1] += 5.0  # a 9 degF jump
+    q, _ = apply_quality(frame)
+    assert list(np.flatnonzero(q["flag_spike"].to_numpy())) == [200]

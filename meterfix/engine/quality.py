@@ -30,7 +30,9 @@ Flags (boolean ``flag_*`` columns; the reader's own flags are kept)
                             consecutive, evenly spaced rows are tested: not the ends of the log,
                             not the rows beside a gap or break (a one-sided median follows the
                             trend, so smooth data would be flagged there); of the points within
-                            ``spike_window`` // 2 rows only the largest z is flagged
+                            ``spike_window`` // 2 rows only the largest z is flagged; a residual
+                            of at most two steps of the reading's resolution (a value written to
+                            0.1 degF moves in whole steps) is never a spike
 ``flag_flow_zero_pressure`` volume through the meter while the pressure reads zero
 ``flag_rollover``, ``flag_meter_change``, ``flag_negative_delta``, ``flag_implausible_delta``,
 ``flag_unreadable``, ``flag_missing``   (reader)
@@ -264,6 +266,14 @@ def _testable(x: np.ndarray, half: int, t_ns: np.ndarray | None) -> np.ndarray:
     return ok
 
 
+def _resolution(x: np.ndarray) -> float:
+    """The step a reading is written in: the median spacing of its distinct finite values (the
+    quantum of a rounded reading; for a reading with all its digits, a tiny fraction of its range)."""
+    v = np.unique(x[np.isfinite(x)])
+    d = np.diff(v)
+    return float(np.median(d)) if len(d) else 0.0
+
+
 def _spikes(x: np.ndarray, window: int, z_max: float, t_ns: np.ndarray | None = None) -> np.ndarray:
     """The spike rule (``flag_spike``).
 
@@ -276,7 +286,10 @@ def _spikes(x: np.ndarray, window: int, z_max: float, t_ns: np.ndarray | None = 
     z-score 0.6745 r / MAD exceeds ``z_max`` (MAD: median |r| over the tested points; Iglewicz &
     Hoaglin 1993, threshold 3.5 their recommendation) and is the largest |z| within ``window // 2``
     rows on either side (a spike moves its neighbours' medians too: only the spike is flagged; of
-    two spikes that close, the larger).
+    two spikes that close, the larger). A reading written with few digits (0.1 degF, a whole kPa)
+    moves in whole steps on a smooth log, and its residuals are 0 or one step, so its MAD says
+    nothing: a residual of at most two steps of the reading's resolution (the median spacing of its
+    distinct values) is never a spike.
     """
     half = max(1, window // 2)
     if np.isfinite(x).sum() < max(window, 5):
@@ -295,6 +308,7 @@ def _spikes(x: np.ndarray, window: int, z_max: float, t_ns: np.ndarray | None = 
             return np.zeros(len(x), bool)
         z = r / (1.253314 * mean_ad)
     az = np.where(ok & np.isfinite(z), np.abs(z), 0.0)
+    az[np.abs(np.nan_to_num(r)) <= 2.0 * _resolution(x)] = 0.0
     # a spike also moves the medians of its neighbours: of the points within one half-window only
     # the largest |z| is flagged
     peak = az > 0
