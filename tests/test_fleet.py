@@ -238,10 +238,15 @@ def test_meters_of_a_lost_local_worker_are_run_again(tmp_path):
             feeder.join(timeout=10)
     text = output.decode()
     assert run.returncode == 0, text
-    assert "run again after their worker was lost: slow-m5" in text
+    again = next(ln for ln in text.splitlines() if "run again after their worker was lost:" in ln)
+    assert "slow-m5" in again
     rows = {r["meter_folder"]: r for r in json.loads((out / "fleet_summary.json").read_text())}
     assert rows["slow-m5"]["status"] == "ok" and rows["slow-m5"]["attempts"] == 2
-    assert rows["lark-hollow-1"]["attempts"] == 1
+    # the other meter had written its outputs; whether its row had come back before the pool broke is a
+    # matter of timing: if not, it is run again too and replaces the outputs this run wrote (never an
+    # error, never an older run's files)
+    assert rows["lark-hollow-1"]["status"] == "ok" and rows["lark-hollow-1"]["attempts"] in (1, 2)
+    assert ("lark-hollow-1" in again) == (rows["lark-hollow-1"]["attempts"] == 2)
 
 
 def test_fleet_totals_group_by_base_month_and_energy_reference():
