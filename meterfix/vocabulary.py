@@ -29,6 +29,43 @@ AT_INVOICE_BASE = "at the invoice's base"
 AT_CORRECTOR_BASE = "at the corrector's base"
 GAS_MONTH = "Gas month"                              # gas days of one calendar month, from the gas-day start
 ROWS_LEFT_OUT = "rows left out"                      # rows of a log not used (time unreadable, not on the clock)
+BASE_CONDITIONS = "Base conditions"                  # "101.325 kPa abs, 0 °C" (DisplayUnits.base_text)
+
+# --- the system balance (meterfix.balance): one label per part of the balance ----------------------
+RECEIPTS = "Receipts"                                # receipts_m3: gas entering the system, at base
+DELIVERIES = "Deliveries"                            # deliveries_m3
+OWN_USE = "Own use"                                  # own_use_m3: the system's own consumption (fuel, heaters)
+FIXED_QUANTITIES = "Fixed quantities"                # fixed_m3: estimated quantities (vents, purges)
+LINEPACK_CHANGE = "Linepack change"                  # linepack_change_m3: gas held in the pipe, closing − opening
+UFG = "UFG"                                          # ufg_m3 = receipts − deliveries − own use − fixed − Δlinepack
+UFG_LONG = "Unaccounted-for gas (UFG)"
+UFG_OF_RECEIPTS = "UFG, % of receipts"               # ufg_pct
+VERDICT = "Verdict"                                  # consistent: |UFG| within its expanded uncertainty
+WHICH_METER = "Which meter"                          # the meter search (findings)
+RECONCILED = "Reconciled"                            # VDI 2048-1 reconciled value
+NORMALIZED_ADJUSTMENT = "Normalized adjustment"      # VDI 2048-1 gross-error test statistic
+ROLES = {"receipt": "receipt", "delivery": "delivery", "own_use": "own use"}
+METER_KINDS = {"volume": "volume meter", "orifice": "orifice plate", "coriolis": "Coriolis meter"}
+_PLURALS = {"receipt": "receipts", "delivery": "deliveries", "own use": "own use"}
+
+
+def counted(words: list) -> str:
+    """'2 receipts, 5 deliveries' or '5 volume meters, 1 orifice plate': how many of each word, in first-seen
+    order (plural by an 's', or the few irregular ones)."""
+    counts = {}
+    for w in words:
+        counts[w] = counts.get(w, 0) + 1
+    return ", ".join(f"{n} {w if n == 1 else _PLURALS.get(w, w + 's')}" for w, n in counts.items())
+
+
+def meters_text(meters: list) -> str:
+    """'7 (2 receipts, 5 deliveries): 5 volume meters, 1 orifice plate, 1 Coriolis meter' from a balance's
+    meter rows (dicts with role and kind), roles and kinds in the order of ROLES and METER_KINDS."""
+    roles = sorted((m["role"] for m in meters), key=lambda r: list(ROLES).index(r) if r in ROLES else len(ROLES))
+    kinds = sorted((m.get("kind") or "volume" for m in meters),
+                   key=lambda k: list(METER_KINDS).index(k) if k in METER_KINDS else len(METER_KINDS))
+    return (f"{len(meters)} ({counted([ROLES.get(r, r) for r in roles])}): "
+            f"{counted([METER_KINDS.get(k, k) for k in kinds])}")
 
 QUANTITY_LABELS = {
     "volume_line": UNCORRECTED_VOLUME, "volume_base": BASE_VOLUME, "volume_base_ideal": BASE_VOLUME_IDEAL,

@@ -10,6 +10,7 @@ import csv
 import json
 import shutil
 
+import numpy as np
 import pytest
 from typer.testing import CliRunner
 
@@ -17,6 +18,7 @@ from meterfix.balance.writers import DAY_COLUMNS
 from meterfix.cli import app
 from meterfix.cli.demo import zone_folder
 from test_store import _pg_database  # a new database on the test server, dropped afterwards
+from test_zone_fixture import expected_ufg, make_zone
 
 STEM = "Brackenfold_zone_2026-11"
 
@@ -64,14 +66,37 @@ def test_demo_zone_finds_the_drifting_meter(closed):
     # the invented truth: BF-D3 reads 2 % high from gas day 2026-11-14 (fixtures/make_zone.py)
     assert f["meter"] == "BF-D3 Kestrel mill" and f["from_gas_day"] == "2026-11-14"
     assert f["bias_pct"] == pytest.approx(2.0, abs=0.3)
+    # the true 2 % lies within the fit's expanded uncertainty (k = 2) at the found onset
+    assert abs(f["bias_pct"] - 100 * make_zone.DRIFT) <= f["bias_expanded_uncertainty_pct"] < 1.0
     assert {"meter", "bias_pct", "from_gas_day", "evidence"} <= set(f)
+    # by construction (the generator's true flows balance exactly): the UFG is the meters' errors, the
+    # mill's 2 % among them; the logs' rounding moves it by less than 1e-5 of the receipts
+    _, truth = make_zone.build()
+    _, month = expected_ufg(truth)
+    assert s["ufg_m3"] == pytest.approx(month, abs=1e-5 * s["receipts_m3"])
+    mill = truth["meters"]["BF-D3"]
+    drift_effect = -float((mill["measured"] - mill["true"]).sum())
+    noise = make_zone.NOISE * np.sqrt(sum(float((m["true"] ** 2).sum()) for m in truth["meters"].values()))
+    assert abs(s["ufg_m3"] - drift_effect) < 4 * noise   # the rest is the meters' hourly noise
+    assert s["consistent"]   # 2 % of one small delivery stays within the zone's uncertainty: found by its shape
+    # the Coriolis and the orifice meter: their month as the generator measured it, to 1e-6
+    kinds = {}
+    for p in (out / "meters").glob("*/*_summary.json"):
+        m = json.loads(p.read_text(encoding="utf-8"))
+        kinds[m["meter"]] = (m.get("flow_meter") or {}).get("kind", "volume")
+    assert kinds["BF-D4"] == "coriolis" and kinds["BF-D5"] == "orifice" and kinds["BF-D3"] == "volume"
+    rows = {m["name"].split()[0]: m for m in s["meters"]}
+    for mid in ("BF-D4", "BF-D5"):
+        assert rows[mid]["volume_m3"] == pytest.approx(truth["meters"][mid]["measured"].sum(), rel=1e-6)
     rec = s["reconciliation"]
     assert {"chi2", "chi2_limit", "meters"} <= set(rec)
     assert {"name", "measured_m3", "reconciled_m3", "normalized_adjustment"} <= set(rec["meters"][0])
     # the fixed quantity on its day, the restated meter said so, the caution on the console
     assert s["days"][7]["fixed_m3"] == pytest.approx(1200.0)
     assert any("restated" in n and "BF-D4" in n for n in s["notes"])
-    assert "not an approved conversion device" in text and "BF-D3 Kestrel mill (delivery) reads +2." in text
+    flat = " ".join(text.split())   # the console wraps long lines
+    assert "not an approved conversion device" in flat
+    assert "BF-D3 Kestrel mill (delivery, volume meter) reads +2.15 % ± 0.32 % (k = 2) from gas day 2026-11-14" in flat
     # the daily CSV and the workbook
     with open(out / f"{STEM}_balance_days.csv", newline="", encoding="utf-8") as fh:
         rows = list(csv.DictReader(fh))
@@ -214,3 +239,59 @@ def test_meters_of_another_gas_day_or_energy_reference_exit_2(zone, tmp_path, ke
     r = _run("balance", d / "small.toml", "--out", tmp_path / "o", "--quiet")
     assert r.exit_code == 2 and words in r.output, r.output
     assert not list((tmp_path / "o").glob("*_balance*"))
+
+
+def test_console_and_workbook_speak_the_vocabulary_in_the_base_units(closed, zone, tmp_path):
+    """The balance's console and workbook use the labels of meterfix.vocabulary and the display units of
+    the balance's base, as `meterfix correct` does: kPa abs, °C, m3 at base, GJ; on a US base (14.73 psia,
+    60 degF) psia, °F, Mcf at base, MMBtu. The JSON stays SI under its contract keys."""
+    from openpyxl import load_workbook
+
+    from meterfix import vocabulary as V
+
+    store, out, text = closed
+    assert "  base conditions      101.325 kPa abs, 0 °C; gas day from 06:00 (Europe/Berlin)" in text
+    for label in (V.RECEIPTS, V.DELIVERIES, V.FIXED_QUANTITIES, V.LINEPACK_CHANGE):
+        line = next(ln for ln in text.splitlines() if ln.startswith(f"  {label.lower():<20} "))
+        assert line.endswith(" m3 at base"), line
+    assert "5 volume meters, 1 orifice plate, 1" in text
+    s = json.loads((out / f"{STEM}_balance.json").read_text(encoding="utf-8"))
+    assert {m["name"].split()[0]: m["kind"] for m in s["meters"]} == {
+        "BF-R1": "volume", "BF-R2": "volume", "BF-D1": "volume", "BF-D2": "volume", "BF-D3": "volume",
+        "BF-D4": "coriolis", "BF-D5": "orifice"}
+    wb = load_workbook(out / f"{STEM}_balance.xlsx")
+    ws = wb["Balance"]
+    cells = [c for row in ws.iter_rows(values_only=True) for c in row if c is not None]
+    assert f"{V.BASE_VOLUME} [m3 {V.AT_BASE}]" in cells and f"{V.ENERGY} [GJ]" in cells
+    for label in (V.RECEIPTS, V.DELIVERIES, V.OWN_USE, V.FIXED_QUANTITIES, V.LINEPACK_CHANGE, V.UFG_LONG):
+        assert label in cells
+    kinds = [r[2] for r in wb["Meters"].iter_rows(min_row=2, values_only=True)]
+    assert sorted(set(kinds)) == ["Coriolis meter", "orifice plate", "volume meter"]
+    # the same months on a US base
+    p = _edit(zone, tmp_path, 'base_pressure = "101.325 kPa"\nbase_temperature = "0 degC"',
+              'base_pressure = "14.73 psia"\nbase_temperature = "60 degF"')
+    r = _run("balance", p, "--out", tmp_path / "us", "--from-store", store)
+    assert r.exit_code == 0, r.output
+    assert "  base conditions      14.73 psia, 60 °F;" in r.output
+    receipts = next(ln for ln in r.output.splitlines() if ln.startswith("  receipts "))
+    assert receipts.endswith(" Mcf at base") and "MMBtu (k = 2)" in r.output
+    us = json.loads((tmp_path / "us" / f"{STEM}_balance.json").read_text(encoding="utf-8"))
+    # Mcf = 1000 ft3 = 28.316846592 m3 (NIST SP 811, ft = 0.3048 m exactly); shown rounded to the UFG's u
+    shown = float(receipts.split()[1].replace(",", ""))
+    assert shown == pytest.approx(us["receipts_m3"] / 28.316846592, abs=us["ufg_expanded_uncertainty_m3"] / 28.3)
+    flat = " ".join(r.output.split())   # the console wraps long lines
+    assert "restated from their base 14.6959 psia, 32 °F to the balance's 14.73 psia, 60 °F" in flat
+    assert "meter 'BF-D4 Fennick kiln works' restated from its base 14.6959 psia, 59 °F" in flat
+    wb = load_workbook(tmp_path / "us" / f"{STEM}_balance.xlsx")
+    cells = [c for row in wb["Balance"].iter_rows(values_only=True) for c in row if c is not None]
+    assert f"{V.BASE_VOLUME} [Mcf {V.AT_BASE}]" in cells and f"{V.ENERGY} [MMBtu]" in cells
+
+
+def test_running_again_into_the_same_folder_says_so(closed, zone):
+    """An earlier run's outputs in --out: one line naming the file and the fix, before any meter is run
+    (not a meter 'without a result')."""
+    _, out, _ = closed
+    r = _run("balance", zone / "balance.toml", "--out", out)
+    lines = [ln for ln in r.output.strip().splitlines() if ln.strip()]
+    assert r.exit_code == 2 and len(lines) == 1, r.output
+    assert "output already exists" in lines[0] and "--overwrite" in lines[0] and "no result" not in lines[0]

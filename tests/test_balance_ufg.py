@@ -70,6 +70,22 @@ def test_meter_reading_high_from_a_date_is_found():
     assert f.bias_pct == pytest.approx(2.0, abs=0.15)
     assert f.from_gas_day == "2026-10-14"
     assert f.delta_bic >= 10
+    # its uncertainty, solved independently: the weighted line y = L + β g at that onset as a matrix
+    # problem (numpy lstsq), cov = s² (Xᵀ W X)⁻¹ with s² = RSS_w / (n − 3) (L, β and the onset fitted)
+    m = next(x for x in meters if x.name == f.meter)
+    k = DAYS.index(f.from_gas_day)
+    y = b.volume.ufg
+    g = -m.volume * (np.arange(len(DAYS)) >= k)
+    w = 1.0 / b.volume.u_random_ufg ** 2
+    X = np.column_stack([np.ones_like(g), g])
+    sw = np.sqrt(w)
+    coef, *_ = np.linalg.lstsq(X * sw[:, None], y * sw, rcond=None)
+    rss = float(np.sum(w * (y - X @ coef) ** 2))
+    cov = rss / (len(y) - 3) * np.linalg.inv(X.T @ (X * w[:, None]))
+    beta = coef[1]
+    assert f.bias_pct == pytest.approx(100 * beta / (1 - beta), rel=1e-9)
+    assert f.bias_expanded_uncertainty_pct == pytest.approx(200 * np.sqrt(cov[1, 1]) / (1 - beta) ** 2, rel=1e-6)
+    assert abs(f.bias_pct - 2.0) <= f.bias_expanded_uncertainty_pct
     # the two receipts of the invented zone share one flow profile (0.6 and 0.4 of the zone): a step
     # in either fits as well as in the other, so neither is credited, and the finding says why
     meters, fixed, dlp = zone(drift_meter="R2 East intake", drift=0.015, onset=20, seed=11)

@@ -191,3 +191,33 @@ def test_interval_csv_bytes_are_pandas_to_csv():
         assert _csv_bytes(mixed) == ref(mixed)
     finally:
         T._CSV_ROWS = old_rows
+
+
+def test_csv_bytes_with_constant_and_neighbouring_discrete_columns_are_pandas_to_csv(tmp_path):
+    # reference: pandas DataFrame.to_csv with the writer's options. Constant numbers (0.0 and -0.0
+    # never mixed, NaN, an integer) are formatted once; neighbouring booleans and texts are joined
+    # into one field per distinct combination; the interval table through interval_columns is the
+    # interval CSV write_interval_csv writes
+    import io
+
+    from meterfix.writers.tables import (_csv_bytes, _neutralised, interval_columns, interval_csv_bytes,
+                                        write_interval_csv)
+    from workbook_month import plain_month
+
+    def ref(df):
+        buf = io.StringIO()
+        _neutralised(df).to_csv(buf, index=False, lineterminator="\n", float_format="%.10g")
+        return buf.getvalue().encode("utf-8")
+
+    rng = np.random.default_rng(21)
+    n = 40
+    df = pd.DataFrame({"zero": np.zeros(n), "negzero": np.full(n, -0.0), "nan": np.full(n, np.nan),
+                       "k": np.full(n, 7, dtype=np.int64), "c": np.full(n, 1.0 / 3.0),
+                       "b1": rng.random(n) < 0.3, "t": rng.choice(["a,b", "=x", None, "ok"], n),
+                       "b2": rng.random(n) < 0.5, "x": rng.standard_normal(n), "b3": rng.random(n) < 0.1,
+                       "mixed": np.where(rng.random(n) < 0.5, 0.0, -0.0)})
+    assert _csv_bytes(df) == ref(df)
+    assert _csv_bytes(df.iloc[:0]) == ref(df.iloc[:0])
+    r, _ = plain_month()
+    csv = interval_csv_bytes(r, interval_columns(r))
+    assert csv == write_interval_csv(r, tmp_path / "i.csv").read_bytes()

@@ -99,23 +99,38 @@ def assemble(cfg: BalanceConfig, summaries: dict, *, month: str | None = None) -
                             hint="a balance adds energy at one reference: set combustion_temperature alike in the "
                                  "meters' site.toml")
     t_comb = next(iter(tc.values()))
+    from ..units import parse_unit
+    from ..writers.xlsx_common import DisplayUnits
+
     if cfg.pressure_base is None:
         b = summaries[first.name][0]["base_conditions"]
         pb, tb = float(b["pressure_Pa"]), float(b["temperature_K"])
-        notes.append(f"base conditions {pb / 1000:.3f} kPa, {tb - 273.15:.2f} °C: those of meter '{first.name}'")
+        notes.append(f"base conditions {DisplayUnits.for_base(pb, tb).base_text(pb, tb)}: those of meter "
+                     f"'{first.name}'")
     else:
         pb, tb = cfg.pressure_base, cfg.temperature_base
+    du = DisplayUnits.for_base(pb, tb)
     meters = []
+    restated = {}   # one note for the meters restated alike: {text: [names]}
     for e in cfg.meters:
         s, source = summaries[e.name]
         m = meter_month(s, name=e.name, role=e.role, gas_days=days, correlation_group=e.correlation_group,
                         pressure_base=pb, temperature_base=tb, source=source, file=file)
         for n in m.notes:
-            notes.append(f"meter '{e.name}' {n}")
+            if n.startswith("restated from its base"):
+                restated.setdefault(n, []).append(e.name)
+            else:
+                notes.append(f"meter '{e.name}' {n}")
         wo = (s.get("totals") or {}).get("intervals_without_result") or 0
         if wo:
             notes.append(f"meter '{e.name}': {wo} interval(s) without a result are not in its month (see its summary)")
         meters.append(m)
+    for n, names in restated.items():
+        if len(names) == 1:
+            notes.append(f"meter '{names[0]}' {n}")
+        else:
+            who = ", ".join(f"'{x}'" for x in names[:-1]) + f" and '{names[-1]}'"
+            notes.append(f"meters {who} {n.replace('restated from its base', 'restated from their base', 1)}")
     # heating value of the fixed quantities: the receipts' month average (said so)
     rec = [m for m in meters if m.role == "receipt" and m.energy is not None]
     hv_r = (sum(np.nansum(m.energy) for m in rec) / sum(np.nansum(m.volume) for m in rec)) if rec else None
@@ -125,7 +140,7 @@ def assemble(cfg: BalanceConfig, summaries: dict, *, month: str | None = None) -
             raise SettingsError(f"fixed quantity '{f.name}': gas day {f.gas_day} is not in gas month {mo}", file=file,
                                 hint="give a gas day of the balance's month, or leave gas_day out")
     if fixed and hv_r is not None:
-        notes.append(f"fixed quantities in energy at the receipts' month heating value {hv_r / 1e6:.4f} MJ/m3")
+        notes.append(f"fixed quantities in energy at the receipts' month heating value {du.exact('heating_value', hv_r)}")
     start_hour, tz = int(gd0.get("start_hour", 0)), gd0.get("timezone", "UTC")
     bounds = boundaries(mo, start_hour, tz)
     lps = []
@@ -156,6 +171,8 @@ def assemble(cfg: BalanceConfig, summaries: dict, *, month: str | None = None) -
         lps.append(linepack(lp.name, bounds, pb_, tb_, volume=lp.volume, gas=gas, method=cfg.method, pressure_base=pb,
                             temperature_base=tb, heating_value=hv, u_volume_rel=lp.u_volume_rel,
                             u_pressure_rel=lp.u_pressure_rel, u_temperature=lp.u_temperature))
-        notes.append(f"linepack '{lp.name}': {lp.volume:g} m3 geometric, Z by {cfg.method} with {what}")
+        geo = f"{lp.volume:.6g} m3" + ("" if du.names["volume"] == "m3" else
+                                        f" ({float(parse_unit('ft3', 'volume').from_si(lp.volume)):,.0f} ft3)")
+        notes.append(f"linepack '{lp.name}': {geo} geometric, Z by {cfg.method} with {what}")
     return compute_balance(cfg.name, mo, meters, fixed, lps, days, gas_day_start_hour=start_hour, timezone=tz,
                            pressure_base=pb, temperature_base=tb, temperature_combustion=t_comb, notes=notes)

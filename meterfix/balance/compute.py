@@ -76,7 +76,7 @@ class BalanceResult:
             v = float(np.nansum(m.volume))
             ur = float(np.sqrt(np.nansum(np.asarray(m.u_random) ** 2)))
             us = m.u_systematic_rel * v
-            row = {"name": m.name, "role": m.role, "correlation_group": m.correlation_group,
+            row = {"name": m.name, "role": m.role, "kind": m.kind, "correlation_group": m.correlation_group,
                    "volume_m3": v, "energy_J": None if m.energy is None else float(np.nansum(m.energy)),
                    "u_random_m3": ur, "u_systematic_m3": us,
                    "expanded_uncertainty_m3": COVERAGE_FACTOR * float(np.hypot(ur, us)),

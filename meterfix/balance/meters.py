@@ -81,6 +81,7 @@ def meter_month(summary: dict, *, name: str, role: str, gas_days: list, correlat
     us = float(unc["systematic_standard_uncertainty_pct"]) / 100.0
     use = unc.get("systematic_standard_uncertainty_energy_pct")
     notes = []
+    kind = (summary.get("flow_meter") or {}).get("kind") or "volume"
     base = summary.get("base_conditions") or {}
     pb, tb = float(base.get("pressure_Pa")), float(base.get("temperature_K"))
     if pressure_base is not None and (abs(pb - pressure_base) > 1e-6 or abs(tb - temperature_base) > 1e-9):
@@ -88,12 +89,14 @@ def meter_month(summary: dict, *, name: str, role: str, gas_days: list, correlat
         z1 = z_at_base(summary, pressure_base, temperature_base)
         f = (pb / pressure_base) * (temperature_base / tb) * (z1 / z0)
         vol, ur = vol * f, ur * f
-        notes.append(f"restated from its base {pb / 1000:.3f} kPa, {tb - 273.15:.2f} °C to the balance's "
-                     f"{pressure_base / 1000:.3f} kPa, {temperature_base - 273.15:.2f} °C (factor {f:.6f}, "
-                     f"Z at base {z0:.6f} → {z1:.6f})")
+        from ..writers.xlsx_common import DisplayUnits
+
+        du = DisplayUnits.for_base(pressure_base, temperature_base)
+        notes.append(f"restated from its base {du.base_text(pb, tb)} to the balance's "
+                     f"{du.base_text(pressure_base, temperature_base)} (factor {f:.6f}, Z at base {z0:.6f} → {z1:.6f})")
     has_e = bool(np.any(np.isfinite(en))) and use is not None
     return MeterMonth(name=name, role=role, gas_days=list(gas_days), volume=vol, energy=en if has_e else None,
                       u_random=np.where(np.isfinite(vol), np.nan_to_num(ur), np.nan), u_systematic_rel=us,
                       u_random_energy=np.nan_to_num(ure) if has_e else None,
                       u_systematic_energy_rel=float(use) / 100.0 if has_e else None,
-                      correlation_group=correlation_group, source=source, notes=notes) if D else None
+                      correlation_group=correlation_group, kind=kind, source=source, notes=notes) if D else None

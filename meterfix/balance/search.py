@@ -53,6 +53,9 @@ class Finding:
     evidence : str                why credited or not, in words
     effect_m3 : float [m3]        what the error put into the month's UFG (s_m β Σ g)
     at_bound : bool               the fit wanted more than ±MAX_BIAS
+    bias_expanded_uncertainty_pct : float [%]   U (k = 2) of b at that onset: the least-squares
+                                  standard error of β with the scale from the residuals, RSS/(n − 3)
+                                  (L, β and the onset fitted), through db/dβ = 1/(1 − β)²
     """
 
     meter: str
@@ -64,11 +67,13 @@ class Finding:
     evidence: str
     effect_m3: float
     at_bound: bool = False
+    bias_expanded_uncertainty_pct: float = float("nan")
 
     def to_dict(self) -> dict:
         return {"meter": self.meter, "role": self.role, "bias_pct": self.bias_pct, "from_gas_day": self.from_gas_day,
                 "delta_bic": self.delta_bic, "credited": self.credited, "evidence": self.evidence,
-                "effect_m3": self.effect_m3, "at_bound": self.at_bound}
+                "effect_m3": self.effect_m3, "at_bound": self.at_bound,
+                "bias_expanded_uncertainty_pct": self.bias_expanded_uncertainty_pct}
 
 
 def _rev_cumsum(a):
@@ -159,9 +164,13 @@ def search(ufg, sigma, volumes, signs, names, roles, gas_days) -> tuple[list, st
                              f"better than any other meter (next {runner:.0f})"), True
         else:
             why, credited = f"fits less well than {names[order[0]]} (ΔBIC {dbic_i:.0f})", False
+        # var(β) = s² Sw / det with the scale s² = RSS / (n − 3) (a weighted line through L and β)
+        u_beta = float(np.sqrt(max(rss[i, k], 0.0) / max(n - 3, 1) * Sw / det[i, k])) if det[i, k] > 0 else np.nan
+        u_bias = u_beta / (1.0 - b_) ** 2
         findings.append(Finding(meter=names[i], role=roles[i], bias_pct=100.0 * bias, from_gas_day=gas_days[k],
                                 delta_bic=dbic_i if np.isfinite(dbic_i) else float("nan"), credited=credited,
-                                evidence=why, effect_m3=effect, at_bound=bool(at_bound[i, k])))
+                                evidence=why, effect_m3=effect, at_bound=bool(at_bound[i, k]),
+                                bias_expanded_uncertainty_pct=200.0 * u_bias))
     # meters whose flow barely varies over the month: a steady error in them is a constant loss
     wm0 = (w[None, :] * G).sum(axis=1) / Sw
     shape0 = ((w[None, :] * (G - wm0[:, None]) ** 2).sum(axis=1) / Sw) / np.maximum(
@@ -170,7 +179,9 @@ def search(ufg, sigma, volumes, signs, names, roles, gas_days) -> tuple[list, st
     credited = [f for f in findings if f.credited]
     if credited:
         f = credited[0]
-        text = (f"{f.meter} reads {f.bias_pct:+.2f} % from gas day {f.from_gas_day} "
+        u = f.bias_expanded_uncertainty_pct
+        text = (f"{f.meter} reads {f.bias_pct:+.2f} %" + (f" ± {u:.2f} % (k = 2)" if np.isfinite(u) else "")
+                + f" from gas day {f.from_gas_day} "
                 f"(ΔBIC {f.delta_bic:.0f} against no meter)")
     else:
         text = f"no meter credited: {len(findings)} tried, none explains the daily UFG decisively better than a constant loss"

@@ -42,6 +42,7 @@ class MeterMonth:
     u_random_energy : ndarray (D,) or None [J]
     u_systematic_energy_rel : float or None [-]
     correlation_group : str or None
+    kind : str                           the meter's kind: volume, orifice or coriolis (its summary's flow_meter)
     source : str                         where the month came from (run, written summary, store version)
     notes : list of str
     """
@@ -56,6 +57,7 @@ class MeterMonth:
     u_random_energy: np.ndarray | None = None
     u_systematic_energy_rel: float | None = None
     correlation_group: str | None = None
+    kind: str = "volume"
     source: str = ""
     notes: list = field(default_factory=list)
 

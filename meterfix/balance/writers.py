@@ -74,7 +74,8 @@ def balance_summary(result: BalanceResult, *, closing: dict | None = None) -> di
                    "gas_day": f.gas_day} for f in result.fixed],
         "findings": [{"meter": f.meter, "role": f.role, "bias_pct": f.bias_pct, "from_gas_day": f.from_gas_day,
                       "evidence": f.evidence, "credited": f.credited, "delta_bic": f.delta_bic,
-                      "effect_m3": f.effect_m3} for f in result.findings],
+                      "effect_m3": f.effect_m3, "bias_expanded_uncertainty_pct": f.bias_expanded_uncertainty_pct}
+                     for f in result.findings],
         "search": result.search_text,
         "reconciliation": None if rec is None else {
             "method": "VDI 2048 Blatt 1 (2000): weighted least squares under the balance constraint, full covariance",
@@ -104,88 +105,121 @@ def write_days_csv(summary: dict, path) -> None:
 
 # --------------------------------------------------------------------------- workbook
 def build_workbook(summary: dict):
-    """The balance workbook as a :class:`meterfix.writers.xlsx_common.Book`."""
+    """The balance workbook as a :class:`meterfix.writers.xlsx_common.Book`: the labels of
+    meterfix.vocabulary, volumes and energy in the display units of the balance's base (m3 and GJ;
+    Mcf and MMBtu on a US base), every volume at base."""
+    import datetime as _dt
+
+    from .. import vocabulary as V
     from ..writers import xlsx_common as X
     from ..writers.workbook_charts import ChartSpec, Ref
 
+    bc = summary["base_conditions"]
+    du = X.DisplayUnits.for_base(bc["pressure_Pa"], bc["temperature_K"])
+    vl, el = f"{du.label('volume')} {V.AT_BASE}", du.label("energy")
+
+    def vol(v):
+        return du.scalar("volume", v)
+
+    def en(v):
+        return du.scalar("energy", v)
+
     book = X.Book(title=f"{summary['name']} balance {summary['month']}", subject="system balance (meterfix)")
     ws = book.create_sheet("Balance")
-    r = X.section(ws, 1, f"{summary['name']}: balance of gas month {summary['month']}")
-    bc = summary["base_conditions"]
-    r = X.note(ws, r, f"Base volumes at {bc['pressure_Pa'] / 1000:.3f} kPa and {bc['temperature_K'] - 273.15:.2f} °C; "
-               f"gas day from {summary['gas_day']['start_hour']:02d}:00 {summary['gas_day']['timezone']}. "
-               "Uncertainties are expanded (k = 2) from each meter's GUM budget.", span=4)
+    r = X.section(ws, 1, f"{summary['name']}: balance of {V.GAS_MONTH.lower()} {summary['month']}")
+    r = X.note(ws, r, f"{V.BASE_CONDITIONS} {du.base_text(bc['pressure_Pa'], bc['temperature_K'])}; gas day from "
+               f"{summary['gas_day']['start_hour']:02d}:00 ({summary['gas_day']['timezone']}). "
+               f"{V.UFG} = {V.RECEIPTS.lower()} − {V.DELIVERIES.lower()} − {V.OWN_USE.lower()} − "
+               f"{V.FIXED_QUANTITIES.lower()} − {V.LINEPACK_CHANGE.lower()}. Uncertainties are expanded (k = 2) "
+               "from each meter's GUM budget.", span=4)
     r += 1
     e = summary.get("energy") or {}
-    rows = [("Receipts", summary["receipts_m3"], e.get("receipts_J")),
-            ("Deliveries", summary["deliveries_m3"], e.get("deliveries_J")),
-            ("Own use", summary["own_use_m3"], e.get("own_use_J")),
-            ("Fixed quantities", summary["fixed_m3"], e.get("fixed_J")),
-            ("Linepack change", summary["linepack_change_m3"], e.get("linepack_change_J")),
-            ("Unaccounted-for gas (UFG)", summary["ufg_m3"], e.get("ufg_J")),
-            ("UFG expanded uncertainty (k = 2)", summary["ufg_expanded_uncertainty_m3"], e.get("ufg_expanded_uncertainty_J"))]
-    r = X.write_table(ws, r, 1, ["Quantity", "Base volume [m3]", "Energy [GJ]"],
-                      [(a, b, None if c is None else c / 1e9) for a, b, c in rows], [None, X.FMT_VOLUME, X.FMT_ENERGY])
+    rows = [(V.RECEIPTS, summary["receipts_m3"], e.get("receipts_J")),
+            (V.DELIVERIES, summary["deliveries_m3"], e.get("deliveries_J")),
+            (V.OWN_USE, summary["own_use_m3"], e.get("own_use_J")),
+            (V.FIXED_QUANTITIES, summary["fixed_m3"], e.get("fixed_J")),
+            (V.LINEPACK_CHANGE, summary["linepack_change_m3"], e.get("linepack_change_J")),
+            (V.UFG_LONG, summary["ufg_m3"], e.get("ufg_J")),
+            (f"{V.UFG}, {V.EXPANDED_UNCERTAINTY[0].lower()}{V.EXPANDED_UNCERTAINTY[1:]}",
+             summary["ufg_expanded_uncertainty_m3"], e.get("ufg_expanded_uncertainty_J"))]
+    r = X.write_table(ws, r, 1, ["Quantity", f"{V.BASE_VOLUME} [{vl}]", f"{V.ENERGY} [{el}]"],
+                      [(a, vol(b), en(c)) for a, b, c in rows], [None, X.FMT_VOLUME, X.FMT_ENERGY])
     r += 1
     verdict = ("consistent: the UFG lies within its expanded uncertainty" if summary["consistent"] else
                "not consistent: the UFG lies outside its expanded uncertainty")
+    rec = summary["reconciliation"]
+    top = r
     r = X.write_table(ws, r, 1, ["Result", "Value"], [
-        ("UFG as % of receipts", summary["ufg_pct"]),
-        ("UFG in standard uncertainties", summary["ufg_standard_uncertainties"]),
-        ("Verdict", verdict),
-        ("Which meter", summary["search"]),
-        ("Reconciliation χ² (limit)", None if not summary["reconciliation"] else
-         f"{summary['reconciliation']['chi2']:.3g} ({summary['reconciliation']['chi2_limit']:.3g})")],
-        [None, X.FMT_PCT2])
+        ("Meters", V.meters_text(summary["meters"])),
+        (V.UFG_OF_RECEIPTS, summary["ufg_pct"]),
+        (f"{V.UFG} in standard uncertainties", summary["ufg_standard_uncertainties"]),
+        (V.VERDICT, verdict),
+        (V.WHICH_METER, summary["search"]),
+        ("Reconciliation χ² (95 % limit)", None if not rec else f"{rec['chi2']:.3g} ({rec['chi2_limit']:.3g})")],
+        [None, "0.00"])
+    X.wrap_rows(ws, top + 1, r - 1, [2])
     r += 1
     for n in summary["notes"]:
         r = X.note(ws, r, n, span=4)
     X.note(ws, r + 1, summary["caution"], span=4)
-    X.set_widths(ws, {"A": 34, "B": 22, "C": 18, "D": 18})
+    X.set_widths(ws, {"A": 34, "B": 44, "C": 18, "D": 18})
 
     dws = book.create_sheet("Daily")
-    headers = ["Gas day", "Receipts [m3]", "Deliveries [m3]", "Own use [m3]", "Fixed [m3]", "Linepack change [m3]",
-               "UFG [m3]", "UFG [% of receipts]", "UFG − U [m3]", "UFG + U [m3]", "U (k = 2) [m3]"]
-    import datetime as _dt
-
-    drows = [(_dt.date.fromisoformat(d["gas_day"]), d["receipts_m3"], d["deliveries_m3"], d["own_use_m3"], d["fixed_m3"], d["linepack_change_m3"],
-              d["ufg_m3"], d["ufg_pct"], d["ufg_m3"] - d["ufg_expanded_uncertainty_m3"],
-              d["ufg_m3"] + d["ufg_expanded_uncertainty_m3"], d["ufg_expanded_uncertainty_m3"]) for d in summary["days"]]
-    last = X.write_table(dws, 1, 1, headers, drows, [X.FMT_DATE] + [X.FMT_VOLUME] * 6 + [X.FMT_PCT2] + [X.FMT_VOLUME] * 3) - 1
+    headers = ["Gas day", f"{V.RECEIPTS} [{vl}]", f"{V.DELIVERIES} [{vl}]", f"{V.OWN_USE} [{vl}]",
+               f"{V.FIXED_QUANTITIES} [{vl}]", f"{V.LINEPACK_CHANGE} [{vl}]", f"{V.UFG} [{vl}]",
+               f"{V.UFG_OF_RECEIPTS} [%]", f"{V.UFG} − U [{vl}]", f"{V.UFG} + U [{vl}]", f"U (k = 2) [{vl}]"]
+    drows = [(_dt.date.fromisoformat(d["gas_day"]), vol(d["receipts_m3"]), vol(d["deliveries_m3"]),
+              vol(d["own_use_m3"]), vol(d["fixed_m3"]), vol(d["linepack_change_m3"]), vol(d["ufg_m3"]), d["ufg_pct"],
+              vol(d["ufg_m3"] - d["ufg_expanded_uncertainty_m3"]), vol(d["ufg_m3"] + d["ufg_expanded_uncertainty_m3"]),
+              vol(d["ufg_expanded_uncertainty_m3"])) for d in summary["days"]]
+    last = X.write_table(dws, 1, 1, headers, drows, [X.FMT_DATE] + [X.FMT_VOLUME] * 6 + [X.FMT_PCT2]
+                         + [X.FMT_VOLUME] * 3) - 1
+    X.wrap_rows(dws, 1, 1, range(1, len(headers) + 1))
     dws.freeze = (2, 2)
+    X.set_widths(dws, {c: 14 for c in "ABCDEFGHIJK"})
     if last >= 2:
-        ch = ChartSpec("scatter", "straight", "Daily UFG and its expanded uncertainty (k = 2)",
+        ch = ChartSpec("scatter", "straight", f"Daily {V.UFG} and its expanded uncertainty (k = 2)",
                        x_axis={"name": "Gas day", "num_format": "dd mmm", "major_gridlines": {"visible": False},
                                "label_position": "low"},
-                       y_axis={"name": "Base volume [m3]", "major_gridlines": {"visible": True}})
+                       y_axis={"name": f"{V.UFG} [{vl}]", "major_gridlines": {"visible": True}})
+        ch.height_cm = 7.0   # under a month's 31 rows on one landscape page
         x = Ref("Daily", "A", 2, last)
-        ch.series = [{"name": "UFG", "x": x, "y": Ref("Daily", "G", 2, last), "colour": "1F4E79", "width": 2.25},
-                     {"name": "UFG − U", "x": x, "y": Ref("Daily", "I", 2, last), "colour": "A6A6A6", "width": 1.0},
-                     {"name": "UFG + U", "x": x, "y": Ref("Daily", "J", 2, last), "colour": "A6A6A6", "width": 1.0}]
-        dws.add_chart(ch, "M2")
+        ch.series = [{"name": V.UFG, "x": x, "y": Ref("Daily", "G", 2, last), "colour": "1F4E79", "width": 2.25},
+                     {"name": f"{V.UFG} − U", "x": x, "y": Ref("Daily", "I", 2, last), "colour": "A6A6A6",
+                      "width": 1.0},
+                     {"name": f"{V.UFG} + U", "x": x, "y": Ref("Daily", "J", 2, last), "colour": "A6A6A6",
+                      "width": 1.0}]
+        dws.add_chart(ch, f"A{last + 3}")   # under the table: the sheet prints one page wide, legibly
 
     mws = book.create_sheet("Meters")
-    mrows = [(m["name"], m["role"].replace("_", " "), m.get("correlation_group") or "", m["volume_m3"],
-              None if m.get("energy_J") is None else m["energy_J"] / 1e9, m["expanded_uncertainty_m3"], m["share_pct"],
-              m.get("reconciled_m3"), m.get("reconciled_expanded_uncertainty_m3"), m.get("normalized_adjustment"),
-              m["source"]) for m in summary["meters"]]
-    X.write_table(mws, 1, 1, ["Meter", "Role", "Correlation group", "Month base volume [m3]", "Energy [GJ]",
-                              "U (k = 2) [m3]", "Share of the UFG variance [%]", "Reconciled [m3]",
-                              "Reconciled U (k = 2) [m3]", "Normalized adjustment [-]", "Month from"],
-                  mrows, [None, None, None, X.FMT_VOLUME, X.FMT_ENERGY, X.FMT_VOLUME, X.FMT_PCT2, X.FMT_VOLUME,
+    mrows = [(m["name"], V.ROLES.get(m["role"], m["role"]), V.METER_KINDS.get(m.get("kind") or "volume", m.get("kind")),
+              m.get("correlation_group") or "", vol(m["volume_m3"]), en(m.get("energy_J")),
+              vol(m["expanded_uncertainty_m3"]), m["share_pct"], vol(m.get("reconciled_m3")),
+              vol(m.get("reconciled_expanded_uncertainty_m3")), m.get("normalized_adjustment"), m["source"])
+             for m in summary["meters"]]
+    X.write_table(mws, 1, 1, ["Meter", "Role", "Kind", "Correlation group", f"{V.BASE_VOLUME}, month [{vl}]",
+                              f"{V.ENERGY} [{el}]", f"U (k = 2) [{vl}]", f"Share of the {V.UFG} variance [%]",
+                              f"{V.RECONCILED} [{vl}]", f"{V.RECONCILED} U (k = 2) [{vl}]",
+                              f"{V.NORMALIZED_ADJUSTMENT} [-]", "Month from"],
+                  mrows, [None, None, None, None, X.FMT_VOLUME, X.FMT_ENERGY, X.FMT_VOLUME, X.FMT_PCT2, X.FMT_VOLUME,
                           X.FMT_VOLUME, X.FMT_FACTOR, None])
+    X.wrap_rows(mws, 1, 1, range(1, 13))
+    X.set_widths(mws, {"A": 30, "B": 9, "C": 14, "D": 11, "E": 14, "F": 12, "G": 11, "H": 12, "I": 14, "J": 13,
+                       "K": 13, "L": 24})
     mws.freeze = (2, 2)
 
     fws = book.create_sheet("Findings")
-    r = X.section(fws, 1, "Which meter: the daily UFG fitted to one meter reading high or low from a gas day")
+    r = X.section(fws, 1, f"{V.WHICH_METER}: the daily {V.UFG} fitted to one meter reading high or low from a gas day")
     r = X.note(fws, r, summary["search"], span=6)
     r += 1
-    frows = [(f["meter"], f["role"].replace("_", " "), f["bias_pct"], f["from_gas_day"], f["delta_bic"],
-              "credited" if f["credited"] else "tried, not credited", f["evidence"]) for f in summary["findings"]]
-    X.write_table(fws, r, 1, ["Meter", "Role", "Reads high by [%]", "From gas day", "ΔBIC against no meter [-]",
-                              "Status", "Evidence"], frows, [None, None, X.FMT_PCT2, None, "0.0", None, None])
-    X.wrap_rows(fws, r + 1, r + len(frows), [7])
-    X.set_widths(fws, {"G": 70})
+    frows = [(f["meter"], V.ROLES.get(f["role"], f["role"]), f["bias_pct"], f.get("bias_expanded_uncertainty_pct"),
+              f["from_gas_day"], f["delta_bic"], "credited" if f["credited"] else "tried, not credited", f["evidence"])
+             for f in summary["findings"]]
+    X.write_table(fws, r, 1, ["Meter", "Role", "Reads high by [%]", "U (k = 2) [%]", "From gas day",
+                              "ΔBIC against no meter [-]", "Status", "Evidence"], frows,
+                  [None, None, X.FMT_PCT2, X.FMT_PCT2, None, "0.0", None, None])
+    X.wrap_rows(fws, r + 1, r + len(frows), [8])
+    X.set_widths(fws, {"A": 32, "B": 10, "C": 12, "D": 10, "E": 12, "F": 12, "G": 18, "H": 70})
     return book
 
 

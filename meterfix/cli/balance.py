@@ -159,6 +159,15 @@ def run_balance(balance_file, out, *, month=None, workers=1, scheduler=None, sto
         raise SettingsError("--by and --reason go with a store", hint="add --store FILE_OR_URL, or drop them")
     cfg = read_balance_config(balance_file, month=month)
     check_output_folder(out)
+    if not overwrite:   # an earlier run's outputs: said as such, before any meter is run
+        from ..errors import InputError
+
+        earlier = sorted(Path(out).glob("*_balance.json"))
+        if not from_store:   # the meters' months are written under meters/ too
+            earlier += sorted(Path(out).glob("meters/*/*_summary.json"))
+        if earlier:
+            raise InputError("output already exists", file=earlier[0],
+                             hint="pass --overwrite or choose another --out folder")
     protect_inputs([Path(balance_file)] + [p for e in cfg.meters for p in e.folder.rglob("*") if p.is_file()]
                    + [lp.pressure_log for lp in cfg.linepacks])
     _check_linepack_logs(cfg, month or cfg.month, options)   # before any meter is run
@@ -206,6 +215,9 @@ def run_balance(balance_file, out, *, month=None, workers=1, scheduler=None, sto
         closing = {"version": row["version"], "closed_at": row["closed_at"], "store": st.name}
     from .balance_console import print_balance
 
-    print_balance(summary, written, runner=runner, seconds=(t_meters, t_bal), closing=closing,
+    shown = dict(written)
+    if not from_store:
+        shown["meters"] = Path(out) / "meters"   # each meter's outputs, as `meterfix fleet` writes them
+    print_balance(summary, shown, runner=runner, seconds=(t_meters, t_bal), closing=closing,
                   from_store=parts if from_store else None, echo=echo)
     return 0

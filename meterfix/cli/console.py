@@ -81,15 +81,19 @@ class _Display:
 
     KINDS = ("volume", "energy", "pressure", "temperature")
 
-    def __init__(self, settings):
+    def __init__(self, settings=None, *, units=None):
+        """From a run's settings, or from ``units`` (a DisplayUnits: a balance's, on its base)."""
         from ..errors import SettingsError
         from ..units import parse_unit
         from ..writers.xlsx_common import DisplayUnits
 
-        try:
-            du = DisplayUnits.for_settings(settings)
-        except SettingsError:  # a bad display unit is refused by the writers; fall back here
-            du = DisplayUnits(None)
+        du = units
+        if du is None:
+            try:
+                du = DisplayUnits.for_settings(settings)
+            except SettingsError:  # a bad display unit is refused by the writers; fall back here
+                du = DisplayUnits(None)
+        self.du = du
         self.units = {k: parse_unit(du.names[k], k) for k in self.KINDS}
         self.names = {k: du.label(k) for k in self.KINDS}
 
@@ -98,7 +102,7 @@ class _Display:
 
     def exact(self, kind, si):
         """'14.73 psia': a stated value (a base condition) to six significant digits, no trailing zeros."""
-        return f"{self.value(kind, si):.6g} {self.names[kind]}"
+        return self.du.exact(kind, si)
 
     def text(self, kind, si, u_si=None):
         """'35,890,000 m3': the value in the display unit, rounded to its uncertainty [same SI unit]."""

@@ -184,7 +184,7 @@ def _exit_code(result, fail_on) -> int:
 def demo_command(
     folder: Path = typer.Argument(Path("meterfix-demo"), help="Folder for the demo outputs."),
     overwrite: bool = typer.Option(False, "--overwrite", help="Replace existing outputs."),
-    zone: bool = typer.Option(False, "--zone", help="Instead: the balance of an invented distribution zone (two receipts, five deliveries, a linepack section, one meter drifting high)."),
+    zone: bool = typer.Option(False, "--zone", help="Instead: the balance of an invented distribution zone (two receipts, five deliveries on volume, orifice and Coriolis meters, a linepack section, one meter drifting high)."),
 ):
     """Run an invented month (a 40-bar industrial meter) and print where the outputs are."""
     try:

@@ -22,7 +22,6 @@ Options given on the command line apply to every meter and win over each site fi
 from __future__ import annotations
 
 import glob
-import json
 from pathlib import Path
 
 from ..errors import InputError, MeterfixError, SettingsError
@@ -127,6 +126,7 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
     try:
         from ..month import run_files
         from ..writers import output_stem, write_outputs
+        from ..writers.summary import build_summary
 
         settings = meter_settings(meter_dir, options)
         logs, comp, inv = meter_inputs(meter_dir, settings)
@@ -134,10 +134,14 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
                "uncertainty": uncertainty, "options": {k: v for k, v in options.items() if v is not None}}
         target = output_folder(out_dir, settings)
 
+        summaries = []
+
         def write(result):
             stem = output_stem(result)
+            summaries.append(build_summary(result))  # written as the JSON summary, and the row is made from it
             return write_outputs(result, target, overwrite=overwrite or interrupted(target, stem)
-                                 or written_since(target, stem, replace_since), run=run, workbook=workbooks)
+                                 or written_since(target, stem, replace_since), run=run, workbook=workbooks,
+                                 summary=summaries[-1])
 
         closing = None
         if closer is None:
@@ -147,9 +151,8 @@ def run_meter(meter_dir, out_dir, options: dict, *, overwrite: bool = False, wor
             result, written, closing = closer.run(
                 settings, lambda: run_files(logs, settings, composition=comp, invoice=inv, uncertainty=uncertainty,
                                             with_frame=True), write, base_dir=meter_dir)
-        # the row says what the meter's own summary says: read back as written (cheaper than building it again)
-        summary = json.loads(Path(written["summary"]).read_text(encoding="utf-8"))
-        row = fleet_row(meter_dir.name, summary, written, out_dir)
+        # the row says what the meter's own summary says: the JSON-safe dict that was written
+        row = fleet_row(meter_dir.name, summaries[-1], written, out_dir)
         row["flagged_intervals"] = int(result.intervals["flagged"].sum())
         row["_display_units"] = dict(settings.display_units or {})
         if closing is not None:

@@ -6,8 +6,7 @@ from pathlib import Path
 
 from .atomic import safe_name, write_text
 from .summary import build_summary, summary_json
-from .tables import (parquet_available, write_edits_csv, write_gas_day_csv, write_interval_csv,
-                     write_interval_parquet)
+from .tables import parquet_available
 
 
 def output_stem(result) -> str:
@@ -18,7 +17,7 @@ def output_stem(result) -> str:
 
 
 def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, run=None,
-                  workbook: bool = True) -> dict:
+                  workbook: bool = True, summary: dict | None = None) -> dict:
     """Write every output of a month run into ``out_dir``; returns {kind: path}.
 
     ``run`` describes how the month was run from files (see meterfix.writers.manifest); the run
@@ -31,7 +30,11 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     a copy of the summary, when given).
 
     ``workbook=False`` leaves the workbook out (``meterfix fleet`` without ``--workbooks``); the other
-    outputs are the same.
+    outputs are the same. ``summary`` is the result's :func:`build_summary` when the caller has
+    built it already (the fleet row is made from the same dict), else it is built here.
+
+    Each table is built once (the interval table serves the CSV and the Parquet file), and every
+    file of the set is flushed to disk once, when the set is committed.
 
     The set is complete or absent (:mod:`meterfix.writers.outset`): everything is computed
     first, the files are written into a temporary folder beside ``out_dir`` under a lock on
@@ -43,7 +46,11 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
 
     out = Path(out_dir)
     stem = output_stem(result)
-    summary = summary_json(result)
+    from .summary import dumps_clean
+    from .tables import (edits_csv_bytes, gas_day_csv_bytes, interval_columns, interval_csv_bytes,
+                         interval_parquet_of)
+
+    summary = dumps_clean(build_summary(result) if summary is None else summary)
     write_workbook = None
     if workbook:
         try:
@@ -70,17 +77,18 @@ def write_outputs(result, out_dir, *, overwrite: bool = False, json_file=None, r
     try:
         with OutputSet(out, overwrite=overwrite) as outs:
             outs.check_finals(names.values())
-            tmp = {k: outs.path(n) for k, n in names.items()}
-            write_interval_csv(result, tmp["intervals"])
-            if "parquet" in tmp:
-                write_interval_parquet(result, tmp["parquet"])
-            write_gas_day_csv(result, tmp["gas_days"])
-            write_edits_csv(result, tmp["edits"])
+            cols = interval_columns(result)  # once for both files; each file's bytes freed when written
+            outs.write(names["intervals"], interval_csv_bytes(result, cols))
+            if "parquet" in names:
+                outs.write(names["parquet"], interval_parquet_of(result, cols))
+            del cols
+            outs.write(names["gas_days"], gas_day_csv_bytes(result))
+            outs.write(names["edits"], edits_csv_bytes(result))
             if write_workbook is not None:
-                write_workbook(result, tmp["workbook"], interval_csv=names["intervals"],
+                write_workbook(result, outs.path(names["workbook"]), interval_csv=names["intervals"],
                                interval_parquet=names.get("parquet"), edits_csv=names["edits"])
-            write_text(tmp["manifest"], manifest_text)
-            write_text(tmp["summary"], summary)
+            outs.write(names["manifest"], manifest_text.encode("utf-8"))
+            outs.write(names["summary"], summary.encode("utf-8"))
             if json_file is not None:
                 write_text(outs.outside(json_file), summary, overwrite=True)
             outs.commit()

@@ -78,6 +78,14 @@ ENERGY_UNITS = {"gross_heating_value_molar": "J/mol", "net_heating_value_molar":
                 "relative_density": "-", "compression_factor": "-"}
 
 
+def _gas_day_records(days) -> list[dict]:
+    """One dict a gas day under the JSON keys, the values as ``iterrows`` gives them (rows of the
+    frame's common-dtype array), without a Series per row."""
+    sub = days[list(_GAS_DAY_KEYS)]
+    keys = [_GAS_DAY_KEYS[c] for c in sub.columns]
+    return [{"gas_day": str(k), **dict(zip(keys, row))} for k, row in zip(sub.index, sub.to_numpy())]
+
+
 def build_summary(result) -> dict:
     """The summary dict of a MonthResult (contract of DESIGN.md)."""
     s = result.settings
@@ -109,8 +117,7 @@ def build_summary(result) -> dict:
                      for i, a in enumerate(result.analyses)],
         "flags": dict(sorted(result.flags.items())),
         "findings": result.findings.to_dict(orient="records"),
-        "gas_days": [{"gas_day": str(k), **{_GAS_DAY_KEYS[c]: v for c, v in r.items()}} for k, r in
-                     result.gas_days[list(_GAS_DAY_KEYS)].iterrows()],
+        "gas_days": _gas_day_records(result.gas_days),
         "edits": int(len(result.edits)),
         "warnings": list(result.warnings),
         "inputs": list(result.inputs),
@@ -133,5 +140,11 @@ def build_summary(result) -> dict:
 
 def summary_json(result_or_summary) -> str:
     """Deterministic JSON text (sorted keys, fixed float repr)."""
-    d = result_or_summary if isinstance(result_or_summary, dict) else build_summary(result_or_summary)
-    return json.dumps(_clean(d), indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"
+    if isinstance(result_or_summary, dict):
+        return dumps_clean(_clean(result_or_summary))
+    return dumps_clean(build_summary(result_or_summary))
+
+
+def dumps_clean(summary: dict) -> str:
+    """The JSON text of a summary dict that is JSON-safe already (as :func:`build_summary` returns it)."""
+    return json.dumps(summary, indent=2, sort_keys=True, ensure_ascii=False, allow_nan=False) + "\n"

@@ -140,6 +140,23 @@ class DisplayUnits:
         us = is_us_base(settings.base_pressure, settings.base_temperature)
         return cls(settings.display_units, US_DISPLAY if us else DEFAULT_DISPLAY)
 
+    @classmethod
+    def for_base(cls, pressure_base, temperature_base, table: dict | None = None) -> "DisplayUnits":
+        """Display units on a base alone (a balance, which has no site file): ``table`` as
+        ``[display_units]``, the rest in US units for a US base (as :meth:`for_settings`)."""
+        us = is_us_base(pressure_base, temperature_base)
+        return cls(table, US_DISPLAY if us else DEFAULT_DISPLAY)
+
+    def exact(self, kind: str, value) -> str:
+        """'101.325 kPa abs', '0 °C', '14.73 psia': a stated value (a base condition) in the display
+        unit to six significant digits, no trailing zeros [value in SI]."""
+        v = self.scalar(kind, value)
+        return "-" if v is None else f"{v:.6g} {self.label(kind)}"
+
+    def base_text(self, pressure_base, temperature_base) -> str:
+        """'101.325 kPa abs, 0 °C': base conditions as every output writes them [Pa, K]."""
+        return f"{self.exact('pressure', pressure_base)}, {self.exact('temperature', temperature_base)}"
+
     def label(self, kind: str) -> str:
         """Header label of a kind's unit, e.g. 'kPa abs', '°C', 'm3'."""
         name = self.names[kind]

@@ -58,12 +58,20 @@ def register(method: ZMethod) -> ZMethod:
     return method
 
 
-def _load_builtins():
+_IMPORTED: set[str] = set()
+
+
+def _load_builtins(until: str | None = None):
+    """Import the built-in method modules in their order and register their methods; with
+    ``until``, stop at the module that registers that name (a month through AGA8 DETAIL does not
+    import GERG-2008 and its coefficient tables, about 20 ms of every start)."""
     global _LOADED
-    if _LOADED:
+    if _LOADED or (until is not None and until in _REGISTRY):
         return
-    _LOADED = True
     for mod in _BUILTIN_MODULES:
+        if mod in _IMPORTED:
+            continue
+        _IMPORTED.add(mod)
         try:
             m = importlib.import_module(f"meterfix.z.{mod}")
         except ModuleNotFoundError as exc:  # a method family not shipped in this build
@@ -72,6 +80,9 @@ def _load_builtins():
             continue
         for method in getattr(m, "METHODS", []):
             register(method)
+        if until is not None and until in _REGISTRY:
+            return
+    _LOADED = True
 
 
 def method_names() -> list[str]:
@@ -82,11 +93,11 @@ def method_names() -> list[str]:
 
 def get_method(name: str) -> ZMethod:
     """Look a method up by name; an unknown name lists the valid ones."""
-    _load_builtins()
     key = str(name).strip().lower().replace("_", "-")
     aliases = {"detail": "aga8-detail", "aga8": "aga8-detail", "gerg": "gerg-2008", "gerg2008": "gerg-2008",
                "gross1": "aga8-gross1", "gross2": "aga8-gross2", "lk": "lee-kesler", "hy": "hall-yarborough"}
     key = aliases.get(key, key)
+    _load_builtins(until=key)  # an unknown name loads every module: the hint names them all
     if key not in _REGISTRY:
         raise SettingsError(f"unknown Z method '{name}'", hint="valid methods: " + ", ".join(_REGISTRY))
     return _REGISTRY[key]
