@@ -138,11 +138,7 @@ def _density_state(method_name, p, t, gas):
 
 
 def _component_heating_values(settings):
-    try:
-        from .. import energy as E
-    except ImportError:
-        return None
-    f = getattr(E, "component_heating_values", None)
-    if f is not None:
-        return np.asarray(f(settings.combustion_temperature), float)
-    return np.asarray(getattr(E, "GROSS_MOLAR_25C"), float)
+    """Each component's gross molar heating value at the combustion temperature [J/mol] (ISO 6976)."""
+    from ..energy import component_heating_values
+
+    return np.asarray(component_heating_values(settings.combustion_temperature), float)
