@@ -120,7 +120,7 @@ def load_site_file(path) -> dict:
         raise SettingsError(f"site file is not valid TOML: {exc}", file=p,
                             hint="see templates/site.toml for the layout") from None
     out: dict = {}
-    tables = {s.table for s in SETTINGS if s.table and s.kind != "mapping"}
+    tables = sorted({s.table for s in SETTINGS if s.table and s.kind != "mapping"})  # a stable message
     top = settings_of("")
     for key, value in data.items():
         if isinstance(value, dict) and key in ("site", "settings"):
