@@ -14,7 +14,7 @@ def test_gas_constant_exact_2019_si():
 
 
 def test_gas_constant_us_customary():
-    # REFERENCES.md §5 (published conversions): 10.731 577 psia ft3/(lbmol R), 1545.347 ft lbf/(lbmol R),
+    # published conversions (NIST SP 811 factors, 2019 SI R): 10.731 577 psia ft3/(lbmol R), 1545.347 ft lbf/(lbmol R),
     # 1.985 875 Btu_IT/(lbmol R)
     assert C.R_PSIA_FT3_PER_LBMOL_R == pytest.approx(10.731577, abs=5e-7)
     assert C.R_FT_LBF_PER_LBMOL_R == pytest.approx(1545.347, abs=5e-4)

@@ -27,7 +27,7 @@ P_GRID = np.array([0.1, 0.5, 1.0, 2.0, 3.0, 4.0, 6.0, 8.0, 10.0]) * 1e6
 
 # --- published constants ---------------------------------------------------------------------
 @pytest.mark.parametrize("tr,pr,z0,z1", [
-    # REFERENCES.md §4: evaluated from Lee & Kesler, AIChE J. 21 (1975) 510, Table 1 constants,
+    # evaluated from Lee & Kesler, AIChE J. 21 (1975) 510, Table 1 constants,
     # agreeing with the printed 4-decimal Z0/Z1 tables where remembered; tolerance 2e-3
     (1.20, 0.659, 0.8649, 0.0373),
     (1.50, 1.0, 0.9103, 0.0864),
@@ -52,7 +52,7 @@ def test_lee_kesler_reference_fluid_omega():
 
 
 def test_pitzer_abbott_n_butane_against_chemicals():
-    # REFERENCES.md §4 / library: chemicals.virial.BVirial_Abbott, n-butane at 510 K, 25 bar
+    # library: chemicals.virial.BVirial_Abbott, n-butane at 510 K, 25 bar
     # (Tc 425.1 K, Pc 37.96 bar, omega 0.200) gives Z = 0.8789
     from chemicals.virial import BVirial_Abbott
     from scipy.constants import R
@@ -257,7 +257,7 @@ def test_registry_entries():
 @given(t=st.floats(200.0, 500.0), gas=st.sampled_from(["methane", "nitrogen", "ethane", "hydrogen", "helium",
                                                          "gulf_coast", "high_co2_n2"]))
 def test_z_tends_to_one_at_low_pressure(t, gas):
-    # common practice (textbook fact, REFERENCES.md §3): Z -> 1 as p -> 0 at fixed T
+    # common practice (textbook fact): Z -> 1 as p -> 0 at fixed T
     x = five_gases().get(gas, {gas: 1.0})
     c = Composition.from_mapping(x)
     for fn in (z_lee_kesler, z_pitzer_virial):

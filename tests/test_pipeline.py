@@ -64,7 +64,7 @@ def test_ideal_method_gives_the_ideal_result():
 
 
 def test_fpv_squared_versus_fpv():
-    # REFERENCES.md §3 (common practice): applying Fpv = sqrt(Zb/Zf) to a linear meter instead of
+    # common practice (AGA Report No. 7): applying Fpv = sqrt(Zb/Zf) to a linear meter instead of
     # Fpv² = Zb/Zf halves the real-gas correction (to first order).
     zb, zf = 0.9977, 0.9150
     v_sq = K.volume_at_base(1.0, 40e5, 283.15, 101325.0, 288.15, zf, zb)
@@ -93,7 +93,7 @@ def test_gas_days_across_both_dst_changes():
 
 
 def test_us_gas_day_starts_at_nine_central():
-    # US gas day 09:00 Central clock time (REFERENCES.md §5, common practice)
+    # US gas day 09:00 Central clock time (common practice)
     idx = pd.date_range("2026-07-01 00:00", periods=48, freq="h", tz="America/Chicago").tz_convert("UTC")
     f = pd.DataFrame({"pressure_line": 5e5, "temperature_line": 288.15, "volume_line": 1.0, "duration": 3600.0},
                      index=idx + pd.Timedelta(hours=1))

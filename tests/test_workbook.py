@@ -131,7 +131,7 @@ def test_overview_totals_caution_method_inputs(book):
     # the caution of the summary, prominent near the top
     assert ws["A3"].value == "CAUTION" and ws["A4"].value == CAUTION
     assert "A4:D7" in {str(m) for m in ws.merged_cells.ranges}
-    # method and edition, base conditions (normal-0c preset: 101.325 kPa, 0 degC; REFERENCES.md §5)
+    # method and edition, base conditions (normal-0c preset: 101.325 kPa, 0 degC; common practice)
     assert val("Z method") == RESULT.method["name"] and val("Edition") == RESULT.method["edition"]
     assert val("Base pressure") == pytest.approx(101.325) and unit("Base pressure") == "kPa abs"
     assert val("Base temperature") == pytest.approx(0.0, abs=1e-12)
