@@ -22,7 +22,7 @@ COOLPROP_NAMES = {
 
 def five_gases():
     """The five AGA8 reference gases (AGA Report No. 8 / ISO 20765 tables, via usnistgov/AGA8
-    TESTDATA/Tables.xls; copies of ../shared/reference): {name: {component: fraction}}."""
+    TESTDATA/Tables.xls, copied into tests/data): {name: {component: fraction}}."""
     comp = pd.read_csv(DATA / "aga8_five_gases_composition.csv", index_col=0)
     return {g: {k: v / 100.0 for k, v in comp[g].items() if v > 0} for g in comp.columns}
 
@@ -104,7 +104,7 @@ def _natural_gases():
 natural_gases = _natural_gases()
 
 
-#: REFERENCES.md §1: the 21-component gas of the AGA8 reference code's DETAIL and GERG-2008 tests
+#: AGA8 reference code, NIST usnistgov/AGA8 test files: the 21-component gas of the AGA8 reference code's DETAIL and GERG-2008 tests
 #: (AGA8CODE/C/Detail_test_01.cpp, GERG2008_test_01.cpp), mole fractions in canonical order
 REFERENCE_CODE_GAS = [0.77824, 0.02, 0.06, 0.08, 0.03, 0.0015, 0.003, 0.0005, 0.00165, 0.00215, 0.00088,
                       0.00024, 0.00015, 0.00009, 0.004, 0.005, 0.002, 0.0001, 0.0025, 0.007, 0.001]

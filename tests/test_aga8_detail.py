@@ -3,9 +3,9 @@
 Sources named beside each check:
 * AGA Report No. 8 Part 1 (2017) public reference code (NIST, usnistgov/AGA8,
   AGA8CODE/C/Detail_test_01.cpp / Detail.cpp test block): the 21-component test point
-  (REFERENCES.md §1);
+  (AGA8 reference code, NIST usnistgov/AGA8 test files);
 * the five AGA8 reference gases' Z table (usnistgov/AGA8 TESTDATA/Tables.xls, copies of
-  ../shared/reference in tests/data; REFERENCES.md §2);
+  copied into tests/data; AGA8 reference spreadsheet TESTDATA/Tables.xls);
 * CoolProp's HEOS mixture model (GERG-2008 mixing over reference pure-fluid equations);
 * tests/scalar_aga8_detail.py, a plain scalar version written term by term from the equations.
 """
@@ -35,7 +35,7 @@ DATA = Path(__file__).parent / "data"
 # --- the standard's reference point -----------------------------------------------------------
 
 def test_reference_code_point():
-    # AGA8 Part 1 reference code, DETAIL test (REFERENCES.md §1): T = 400 K, p = 50 000 kPa.
+    # AGA8 Part 1 reference code, DETAIL test (AGA8 reference code, NIST usnistgov/AGA8 test files): T = 400 K, p = 50 000 kPa.
     # The reference test accepts 1e-8 absolute; we require 1e-9 relative.
     res = z_aga8_detail(50.0e6, 400.0, reference_code_gas())
     assert res.reason == ""
@@ -181,7 +181,7 @@ def test_coefficient_table_checksum():
 def test_table_shapes_and_a_few_figures():
     assert len(C.A) == len(C.B) == len(C.K) == len(C.U) == len(C.G_FLAG) == 58
     assert all(len(t) == 21 for t in (C.ENERGY, C.SIZE, C.ORIENTATION, C.QUADRUPOLE, C.IDEAL_GAS))
-    # REFERENCES.md §1: DETAIL's gas constant and molar masses (published)
+    # AGA8 reference code, NIST usnistgov/AGA8 test files: DETAIL's gas constant and molar masses (published)
     assert C.R_DETAIL == 8.31451
     assert C.MOLAR_MASS_G_PER_MOL[:5] == (16.043, 28.0135, 44.01, 30.07, 44.097)
     # the 18 second-virial terms have b = 1 and no exponential; the last term b = 9, k = 2 (from memory)

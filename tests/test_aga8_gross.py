@@ -3,10 +3,10 @@
 Sources named beside each check:
 * AGA Report No. 8 Part 1 (2017) public reference code (NIST, usnistgov/AGA8,
   AGA8CODE/C/Gross_test_01.cpp / Gross.cpp test block): the 21-component gas at 300 K, 10 MPa,
-  metering reference 0 degC / 101.325 kPa, combustion 25 degC (REFERENCES.md §1);
-* the five AGA8 reference gases' Z table (usnistgov/AGA8 TESTDATA/Tables.xls, REFERENCES.md §2),
+  metering reference 0 degC / 101.325 kPa, combustion 25 degC (AGA8 reference code, NIST usnistgov/AGA8 test files);
+* the five AGA8 reference gases' Z table (usnistgov/AGA8 TESTDATA/Tables.xls, AGA8 reference spreadsheet TESTDATA/Tables.xls),
   rows "Gross (comp.)", "Gross Method 1", "Gross Method 2", with the relative densities and heating
-  values of the REFERENCES.md §2 table as inputs of methods 1 and 2.
+  values of the AGA8 reference spreadsheet TESTDATA/Tables.xls table as inputs of methods 1 and 2.
 """
 
 from __future__ import annotations
@@ -27,11 +27,11 @@ from meterfix.z.tables import aga8_gross_coefficients as G
 
 DATA = Path(__file__).parent / "data"
 
-# REFERENCES.md §1: the reference code's test gas (mole fractions, canonical order)
+# AGA8 reference code, NIST usnistgov/AGA8 test files: the reference code's test gas (mole fractions, canonical order)
 REF_GAS = [0.77824, 0.02, 0.06, 0.08, 0.03, 0.0015, 0.003, 0.0005, 0.00165, 0.00215, 0.00088,
            0.00024, 0.00015, 0.00009, 0.004, 0.005, 0.002, 0.0001, 0.0025, 0.007, 0.001]
 
-# REFERENCES.md §2: relative density and volumetric gross heating value [MJ/m3] of the five gases
+# AGA8 reference spreadsheet TESTDATA/Tables.xls: relative density and volumetric gross heating value [MJ/m3] of the five gases
 # (metering reference 0 degC, 101.325 kPa; combustion reference 15 degC, see test_five_gases_inputs)
 FIVE_INPUTS = {"gulf_coast": (0.581202, 40.7259), "amarillo": (0.608804, 40.6797), "ekofisk": (0.649717, 43.5627),
                "high_n2": (0.645006, 35.6381), "high_co2_n2": (0.686144, 36.6798)}
@@ -53,7 +53,7 @@ def _table(model):
 # --- the standard's reference point -----------------------------------------------------------
 
 def test_reference_code_point_from_composition():
-    # Gross_test_01 (REFERENCES.md §1): GROSS from composition at 300 K, 10 000 kPa; characterisation
+    # Gross_test_01 (AGA8 reference code, NIST usnistgov/AGA8 test files): GROSS from composition at 300 K, 10 000 kPa; characterisation
     # at Td = 273.15 K, Pd = 101.325 kPa, Th = 298.15 K. Reference test tolerance 1e-8 absolute;
     # we require 1e-9 relative.
     comp = Composition.from_array(np.array(REF_GAS))
@@ -71,7 +71,7 @@ def test_reference_code_point_from_composition():
 
 
 def test_reference_code_point_methods_1_and_2():
-    # Gross_test_01 (REFERENCES.md §1): method 2 with that relative density, N2 0.02, CO2 0.06;
+    # Gross_test_01 (AGA8 reference code, NIST usnistgov/AGA8 test files): method 2 with that relative density, N2 0.02, CO2 0.06;
     # method 1 with that relative density and heating value, CO2 0.06; density at 300 K, 10 MPa.
     m2 = z_aga8_gross2(10.0e6, 300.0, GrossCharacterization(0.7112387718599272, x_n2=0.02, x_co2=0.06))
     assert float(m2.molar_density) / 1000 == pytest.approx(5.197833636353455, rel=1e-9)
@@ -135,7 +135,7 @@ def test_coefficient_table_checksum():
 
 
 def test_a_few_figures_cited_independently():
-    # REFERENCES.md §1: R and the 25 degC heating values of the reference code (published)
+    # AGA8 reference code, NIST usnistgov/AGA8 test files: R and the 25 degC heating values of the reference code (published)
     assert G.R_GROSS == 8.31451
     assert G.GROSS_MOLAR_HV_25C_KJ[:5] == (890.63, 0.0, 0.0, 1560.69, 2219.17)
     # molar mass of air 28.9625 g/mol: the AGA8 figure (from memory)

@@ -24,7 +24,7 @@ from meterfix.z.correlations import (DAK_CONSTANTS, METHODS, natural_gas_pseudo_
 
 # --- published check values ----------------------------------------------------------------------
 @pytest.mark.parametrize("tpr,ppr,z_dak_ref,z_hy_ref", [
-    # REFERENCES.md §4, evaluated from the published constants of Dranchuk & Abou-Kassem,
+    # the papers' constants, evaluated from the published constants of Dranchuk & Abou-Kassem,
     # J. Can. Pet. Tech. 14 (1975) 34 and Hall & Yarborough, Oil Gas J. 71 (1973) 82; tolerance 2e-3
     (1.5, 2.0, 0.8215, 0.8208),
     (2.0, 3.0, 0.9376, 0.9396),
@@ -135,7 +135,7 @@ def test_five_aga8_gases_kay(fn, bound):
         assert np.max(np.abs(res.z / table[gas].to_numpy() - 1)) * 100 < bound, gas
 
 
-# relative density, CO2 and N2 of the five gases: REFERENCES.md §2 (GROSS method inputs)
+# relative density, CO2 and N2 of the five gases: AGA8 reference spreadsheet TESTDATA/Tables.xls (GROSS method inputs)
 _GROSS = {"gulf_coast": (0.581202, 0.005956, 0.002595), "amarillo": (0.608804, 0.004676, 0.031284),
           "ekofisk": (0.649717, 0.014954, 0.010068), "high_n2": (0.645006, 0.00985, 0.13465),
           "high_co2_n2": (0.686144, 0.07585, 0.05702)}
@@ -218,7 +218,7 @@ def test_registry_entries():
 @settings(max_examples=30, deadline=None)
 @given(t=st.floats(230.0, 500.0), gas=st.sampled_from(list(_GROSS)), sutton=st.booleans())
 def test_z_tends_to_one_at_low_pressure(t, gas, sutton):
-    # common practice (textbook fact, REFERENCES.md §3): Z -> 1 as p -> 0 at fixed T
+    # common practice (textbook fact, common practice): Z -> 1 as p -> 0 at fixed T
     c = Composition.from_mapping(five_gases()[gas])
     for fn in (z_dak, z_hall_yarborough):
         z = fn(np.array([1.0, 100.0]), t, c, pseudo_critical_source="sutton" if sutton else "kay").z

@@ -1,4 +1,4 @@
-"""Heating value against the AGA8 reference code's published figures (REFERENCES.md §1)."""
+"""Heating value against the AGA8 reference code's published figures (AGA8 reference code, NIST usnistgov/AGA8 test files)."""
 
 import pytest
 
@@ -20,7 +20,7 @@ def test_mixture_molar_gross_heating_value():
 
 
 def test_hand_arithmetic_for_a_simple_gas():
-    # hand arithmetic from the component values of REFERENCES.md §1: 0.9*890.63 + 0.1*1560.69
+    # hand arithmetic from the component values of AGA8 reference code, NIST usnistgov/AGA8 test files: 0.9*890.63 + 0.1*1560.69
     g = Composition.from_mapping({"methane": 0.9, "ethane": 0.1})
     assert gross_molar_heating_value(g.fractions) == pytest.approx((0.9 * 890.63 + 0.1 * 1560.69) * 1e3)
 

@@ -2,9 +2,9 @@
 
 Sources named beside each check:
 * AGA Report No. 8 Part 2 (2017) public reference code (NIST, usnistgov/AGA8,
-  AGA8CODE/C/GERG2008_test_01.cpp): the 21-component test point (REFERENCES.md §1);
+  AGA8CODE/C/GERG2008_test_01.cpp): the 21-component test point (AGA8 reference code, NIST usnistgov/AGA8 test files);
 * the five AGA8 reference gases' Z table (usnistgov/AGA8 TESTDATA/Tables.xls, copies of
-  ../shared/reference in tests/data; REFERENCES.md §2);
+  copied into tests/data; AGA8 reference spreadsheet TESTDATA/Tables.xls);
 * CoolProp's HEOS mixture model (GERG-2008 reducing and departure functions over reference
   pure-fluid equations);
 * tests/scalar_gerg2008.py, a plain scalar version written term by term from the equations.
@@ -37,7 +37,7 @@ DATA = Path(__file__).parent / "data"
 # --- the standard's reference point -----------------------------------------------------------
 
 def test_reference_code_point():
-    # AGA8 Part 2 reference code, GERG2008_test_01.cpp (REFERENCES.md §1): T = 400 K, p = 50 MPa.
+    # AGA8 Part 2 reference code, GERG2008_test_01.cpp (AGA8 reference code, NIST usnistgov/AGA8 test files): T = 400 K, p = 50 MPa.
     # The reference test accepts 1e-8 absolute; we require 1e-9 relative.
     res = z_gerg2008(50.0e6, 400.0, reference_code_gas())
     assert res.reason == ""
@@ -214,7 +214,7 @@ def test_table_shapes():
 
 
 def test_a_few_figures_cited_independently():
-    # REFERENCES.md §1: GERG-2008's gas constant and molar masses (published)
+    # AGA8 reference code, NIST usnistgov/AGA8 test files: GERG-2008's gas constant and molar masses (published)
     assert C.R_GERG == 8.314472
     assert C.MOLAR_MASS_G_PER_MOL[:5] == (16.04246, 28.0134, 44.0095, 30.06904, 44.09562)
     # critical temperatures shared with the reference pure-fluid equations (library: CoolProp)

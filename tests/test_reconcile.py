@@ -14,7 +14,7 @@ from meterfix.writers.summary import _clean
 from meterfix.z import evaluate_z
 from synthetic_month import COOLPROP_FLUID, GAS, METHOD, month_frame, month_settings, run
 
-# REFERENCES.md §5: base conditions and their ideal molar volumes (published/derived from R, 2019 SI)
+# NIST SP 811 factors, 2019 SI R: base conditions and their ideal molar volumes (published/derived from R, 2019 SI)
 P_US, T_US, VM_US = 101_559.775, 288.705556, 23.63565e-3  # 14.73 psia, 60 degF [Pa, K, m3/mol]
 P_ISO, T_ISO, VM_ISO = 101_325.0, 288.15, 23.64483e-3  # 101.325 kPa, 15 degC
 
@@ -60,7 +60,7 @@ def _check_waterfall(att):
 
 
 def test_base_conversion_by_hand_ideal():
-    # ideal gas: V_to / V_from = Vm_to / Vm_from (REFERENCES.md §5 molar volumes, 7 digits)
+    # ideal gas: V_to / V_from = Vm_to / Vm_from (NIST SP 811 factors, 2019 SI R molar volumes, 7 digits)
     v = convert_base_volume(1.0, P_ISO, T_ISO, 1.0, P_US, T_US, 1.0)
     assert v == pytest.approx(VM_US / VM_ISO, rel=5e-7)
     # 101.325 kPa / 0 degC vs 15 degC: the 5.5 % of REFERENCES §5

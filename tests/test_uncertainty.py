@@ -138,7 +138,7 @@ def test_ideal_gas_rectangular_inputs_by_hand():
 
 
 def test_meter_by_flow_range_by_hand():
-    # Class 1.0 defaults (REFERENCES.md §3, from memory): 1 % (k = 2) from Qt to Qmax, 2 % below Qt;
+    # Class 1.0 defaults (common practice, from memory): 1 % (k = 2) from Qt to Qmax, 2 % below Qt;
     # two independent systematic rows: u^2 = (w_rated * 0.5 %)^2 + (w_low * 1 %)^2, w = volume share.
     f = _frame(n=10, spread=False)
     f["volume_line"] = [100.0] * 6 + [20.0] * 4  # m3 per hour; Qt 50 m3/h splits them
