@@ -14,7 +14,7 @@ as scipy.optimize.least_squares (method "trf") is tested on the check's own prob
 bounded random ones (tests/test_corrector_check.py).
 
 References: J. J. Moré (1978), The Levenberg–Marquardt algorithm: implementation and theory,
-Lecture Notes in Mathematics 630; P. J. Huber (1981), Robust Statistics.
+in Numerical Analysis (G. A. Watson, ed.), Springer, vol. 630, pp. 105-116, doi:10.1007/BFb0067700; P. J. Huber (1981), Robust Statistics.
 """
 
 from __future__ import annotations
