@@ -505,32 +505,23 @@ def z_log_derivatives_detail(pressure, temperature, composition) -> dict:
     -------
     dict of ndarray [-]: ``p``, ``t``, ``pp``, ``tt``, ``pt`` (NaN where Z has no result) and ``z``
     """
-    from .derivatives import log_derivatives
+    from .derivatives import log_derivatives_at_solved_density
 
     comp = as_composition(composition)
     mix = mixture(comp.fractions)
-    p = np.asarray(pressure, float).ravel()
-    t = np.asarray(np.broadcast_to(temperature, np.shape(pressure)), float).ravel()
-    res = z_aga8_detail(p, t, comp, speed_of_sound=False)
-    zf = np.asarray(res.z, float).ravel()
-    out = {k: np.full(p.size, np.nan) for k in ("p", "t", "pp", "tt", "pt")}
-    ok = np.flatnonzero(np.isfinite(zf))
     coef = mix.coef_virial_t[:N_COL]
-    for a in range(0, ok.size, CHUNK):
-        i = ok[a:a + CHUNK]
+
+    def state_functions(i, t, molar_density):
         ws = _Workspace(i.size)
-        delta = np.asarray(res.molar_density, float).ravel()[i] * mix.k3 / 1000.0
-        tp = _t_powers(t[i])
-        w = coef @ tp
-        zm1, zd, zdd = _z_functions(ws, w, delta, 3)
+        delta = molar_density * mix.k3 / 1000.0
+        tp = _t_powers(t)
+        zm1, zd, zdd = _z_functions(ws, coef @ tp, delta, 3)
         zt, zdt = _z_functions(ws, coef @ (-U_EXPONENTS[:, None] * tp), delta, 2)
         ztt = _z_functions(ws, coef @ (U_EXPONENTS[:, None] ** 2 * tp), delta, 2)[0]
-        d = log_derivatives(1.0 + zm1, zd, zdd, zt, ztt, zdt)
-        for k in out:
-            out[k][i] = d[k]
-    out = {k: v.reshape(np.shape(pressure)) for k, v in out.items()}
-    out["z"] = np.asarray(res.z, float)
-    return out
+        return 1.0 + zm1, zd, zdd, zt, ztt, zdt
+
+    return log_derivatives_at_solved_density(
+        pressure, temperature, lambda p, t: z_aga8_detail(p, t, comp, speed_of_sound=False), state_functions, CHUNK)
 
 
 def _evaluate(pressure, temperature, gas, speed_of_sound=True, workers=None, **_options):

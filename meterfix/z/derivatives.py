@@ -53,3 +53,35 @@ def log_derivatives(z, z_d, z_dd, z_t, z_tt, z_dt) -> dict:
             "pt": luu * uq * us + lus * uq + lu * uqs,
             "tt": lss + 2.0 * lus * us + luu * us * us + lu * uss,
         }
+
+
+def log_derivatives_at_solved_density(pressure, temperature, solve, state_functions, chunk: int) -> dict:
+    """The derivatives of :func:`log_derivatives` for every point whose density the equation of
+    state settles, block by block.
+
+    Parameters
+    ----------
+    pressure, temperature : ndarray [Pa, K]   absolute pressure and temperature, one shape
+    solve : callable (p, T) -> ZResult        the family's Z solve (its ``molar_density`` [mol/m3])
+    state_functions : callable (index, T, molar density) -> (z, z_d, z_dd, z_t, z_tt, z_dt)
+                                              the family's own derivatives at those points
+    chunk : int                               points per block (the family's workspace size)
+
+    Returns
+    -------
+    dict of ndarray [-]: ``p``, ``t``, ``pp``, ``tt``, ``pt`` (NaN where Z has no result) and ``z``
+    """
+    p = np.asarray(pressure, float).ravel()
+    t = np.asarray(np.broadcast_to(temperature, np.shape(pressure)), float).ravel()
+    res = solve(p, t)
+    rho = np.asarray(res.molar_density, float).ravel()
+    out = {k: np.full(p.size, np.nan) for k in ("p", "t", "pp", "tt", "pt")}
+    ok = np.flatnonzero(np.isfinite(np.asarray(res.z, float).ravel()))
+    for a in range(0, ok.size, chunk):
+        i = ok[a:a + chunk]
+        d = log_derivatives(*state_functions(i, t[i], rho[i]))
+        for k in out:
+            out[k][i] = d[k]
+    out = {k: v.reshape(np.shape(pressure)) for k, v in out.items()}
+    out["z"] = np.asarray(res.z, float)
+    return out

@@ -385,33 +385,25 @@ def z_log_derivatives_gerg(pressure, temperature, composition) -> dict:
     -------
     dict of ndarray [-]: ``p``, ``t``, ``pp``, ``tt``, ``pt`` (NaN where Z has no result) and ``z``
     """
-    from .derivatives import log_derivatives
+    from .derivatives import log_derivatives_at_solved_density
 
     comp = as_composition(composition)
     mix = mixture(comp.fractions)
-    p = np.asarray(pressure, float).ravel()
-    t = np.asarray(np.broadcast_to(temperature, np.shape(pressure)), float).ravel()
-    res = z_gerg2008(p, t, comp, speed_of_sound=False)
-    zf = np.asarray(res.z, float).ravel()
-    out = {k: np.full(p.size, np.nan) for k in ("p", "t", "pp", "tt", "pt")}
-    ok = np.flatnonzero(np.isfinite(zf))
     te = mix.t_exponents
-    for a in range(0, ok.size, CHUNK):
-        i = ok[a:a + CHUNK]
+    coef3 = np.concatenate([mix.coef, -te[:, None] * mix.coef, te[:, None] ** 2 * mix.coef], axis=1)
+    nc = mix.n_col
+
+    def state_functions(i, t, molar_density):
         ws = _Workspace(mix, i.size)
-        delta = np.asarray(res.molar_density, float).ravel()[i] / mix.rho_reducing
-        b3 = _tau_sums(mix, t[i], np.concatenate([mix.coef, -te[:, None] * mix.coef, te[:, None] ** 2 * mix.coef],
-                                                 axis=1))
-        nc = mix.n_col
+        delta = molar_density / mix.rho_reducing
+        b3 = _tau_sums(mix, t, coef3)
         zm1, zd, zdd = (v.copy() for v in _z_functions(mix, ws, np.ascontiguousarray(b3[:, :nc]), delta, 3))
         zt, zdt = (v.copy() for v in _z_functions(mix, ws, np.ascontiguousarray(b3[:, nc:2 * nc]), delta, 2))
         ztt = _z_functions(mix, ws, np.ascontiguousarray(b3[:, 2 * nc:]), delta, 1)[0].copy()
-        d = log_derivatives(1.0 + zm1, zd, zdd, zt, ztt, zdt)
-        for k in out:
-            out[k][i] = d[k]
-    out = {k: v.reshape(np.shape(pressure)) for k, v in out.items()}
-    out["z"] = np.asarray(res.z, float)
-    return out
+        return 1.0 + zm1, zd, zdd, zt, ztt, zdt
+
+    return log_derivatives_at_solved_density(
+        pressure, temperature, lambda p, t: z_gerg2008(p, t, comp, speed_of_sound=False), state_functions, CHUNK)
 
 
 def _evaluate(pressure, temperature, gas, speed_of_sound=True, workers=None, **_options):
