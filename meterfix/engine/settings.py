@@ -395,21 +395,22 @@ def _assign(s, raw, src, file_label):
 
 
 def _apply_presets(s, raw):
-    """A named base sets its pressure and temperature unless they are given themselves."""
-    if s.base is not None:
-        pb, tb, _ = BASE_PRESETS[s.base]
-        if ("", "base_pressure") not in raw:
-            s.base_pressure = parse_quantity(pb, "pressure").value
-        if ("", "base_temperature") not in raw:
-            s.base_temperature = parse_quantity(tb, "temperature").value
-        if ("", "base_pressure") in raw or ("", "base_temperature") in raw:
-            s.base = None  # the conditions given are no longer the preset's
-    if s.invoice_base is not None:
-        pb, tb, _ = BASE_PRESETS[s.invoice_base]
-        if ("", "invoice_base_pressure") not in raw:
-            s.invoice_base_pressure = parse_quantity(pb, "pressure").value
-        if ("", "invoice_base_temperature") not in raw:
-            s.invoice_base_temperature = parse_quantity(tb, "temperature").value
+    """A named base sets its pressure and temperature unless they are given themselves (for the
+    contract's base, giving either means the conditions are no longer the preset's)."""
+    for preset, pressure, temperature, drop in (("base", "base_pressure", "base_temperature", True),
+                                                ("invoice_base", "invoice_base_pressure", "invoice_base_temperature",
+                                                 False)):
+        name = getattr(s, preset)
+        if name is None:
+            continue
+        pb, tb, _ = BASE_PRESETS[name]
+        given = [("", k) in raw for k in (pressure, temperature)]
+        if not given[0]:
+            setattr(s, pressure, parse_quantity(pb, "pressure").value)
+        if not given[1]:
+            setattr(s, temperature, parse_quantity(tb, "temperature").value)
+        if drop and any(given):
+            setattr(s, preset, None)
 
 
 def _check_combinations(s, require_base):

@@ -126,6 +126,13 @@ from ..meters.orifice_iso5167 import TAPS as ORIFICE_TAPS  # noqa: E402  (corner
 from ..readers.join import OVERLAP_CHOICES  # noqa: E402  (which file wins where files overlap)
 STATIC_TAPS = ("upstream", "downstream")
 
+def U(name: str, help: str, **kw) -> Setting:
+    """A key of the [uncertainty] table holding an uncertainty text: its option is the key with
+    dashes and "-uncertainty" (the key alone would clash with the quantity's own setting)."""
+    return Setting(name, "uncertainty", help, table="uncertainty", section=_U,
+                   option=f"--{name.replace('_', '-')}-uncertainty", **kw)
+
+
 _U_SRC = "meterfix.uncertainty.inputs (defaults with their sources in the workbook's Uncertainty sheet)"
 
 #: every setting, in the order of --help, the README and the template
@@ -250,43 +257,27 @@ SETTINGS: tuple[Setting, ...] = (
     S("meter_factor", "number", "volume meters: one meter factor instead of an error curve (not both)", unit="-",
       low=0.5, high=2.0, table="flow_meter", section=_K, example=1.0021),
     # [uncertainty]: texts like "1 %", "2 kPa", "mpe 1 %", "0.3 K k=1", "0.25 % random"
-    S("meter", "uncertainty", "meter, rated flow range (default 1 %)", table="uncertainty", source=_U_SRC,
-      section=_U, option="--meter-uncertainty", example="1 %"),
-    S("meter_below_qt", "uncertainty", "meter, below Qt or above Qmax (default 2 %)", table="uncertainty",
-      section=_U, option="--meter-below-qt-uncertainty", example="2 %"),
-    S("pressure", "uncertainty", "line pressure (default 0.25 %)", table="uncertainty", section=_U,
-      option="--pressure-uncertainty", example="0.25 %"),
-    S("atmospheric", "uncertainty", "atmospheric pressure (default 0.2 kPa barometer, 2 kPa fixed)",
-      table="uncertainty", section=_U, option="--atmospheric-uncertainty", example="0.5 kPa"),
-    S("temperature", "uncertainty", "line temperature (default 0.5 K)", table="uncertainty", section=_U,
-      option="--temperature-uncertainty", example="0.5 K"),
-    S("z", "uncertainty", "Z method at line conditions (default from the method's range)", table="uncertainty",
-      section=_U, option="--z-uncertainty", example="0.1 %"),
-    S("z_outside", "uncertainty", "Z method outside its range", table="uncertainty", section=_U,
-      option="--z-outside-uncertainty", example="0.5 %"),
-    S("base_z", "uncertainty", "Z at base conditions (default 0.05 %)", table="uncertainty", section=_U,
-      option="--base-z-uncertainty", example="0.05 %"),
-    S("composition", "uncertainty", "gas composition, each mole fraction (default 2 %)", table="uncertainty",
-      section=_U, option="--composition-uncertainty", example="2 %"),
-    S("heating_value", "uncertainty", "heating value", table="uncertainty", section=_U,
-      option="--heating-value-uncertainty", example="0.1 %"),
-    S("estimated", "uncertainty", "estimated intervals (default 10 % random)", table="uncertainty", section=_U,
-      option="--estimated-uncertainty", example="10 % random"),
-    S("discharge_coefficient", "uncertainty", "orifice discharge coefficient C (default ISO 5167-2:2003 5.3.3.1 "
-      "by beta and Re_D)", table="uncertainty", section=_U, option="--discharge-coefficient-uncertainty",
+    U("meter", "meter, rated flow range (default 1 %)", source=_U_SRC, example="1 %"),
+    U("meter_below_qt", "meter, below Qt or above Qmax (default 2 %)", example="2 %"),
+    U("pressure", "line pressure (default 0.25 %)", example="0.25 %"),
+    U("atmospheric", "atmospheric pressure (default 0.2 kPa barometer, 2 kPa fixed)", example="0.5 kPa"),
+    U("temperature", "line temperature (default 0.5 K)", example="0.5 K"),
+    U("z", "Z method at line conditions (default from the method's range)", example="0.1 %"),
+    U("z_outside", "Z method outside its range", example="0.5 %"),
+    U("base_z", "Z at base conditions (default 0.05 %)", example="0.05 %"),
+    U("composition", "gas composition, each mole fraction (default 2 %)", example="2 %"),
+    U("heating_value", "heating value", example="0.1 %"),
+    U("estimated", "estimated intervals (default 10 % random)", example="10 % random"),
+    U("discharge_coefficient", "orifice discharge coefficient C (default ISO 5167-2:2003 5.3.3.1 "
+      "by beta and Re_D)",
       example="0.5 %"),
-    S("expansibility", "uncertainty", "orifice expansibility factor (default 3.5 dp/(kappa p1) %, ISO 5167-2:2003 "
-      "5.3.3.2)", table="uncertainty", section=_U, option="--expansibility-uncertainty", example="0.01 %"),
-    S("differential_pressure", "uncertainty", "differential pressure transmitter (default 0.3 %)",
-      table="uncertainty", section=_U, option="--differential-pressure-uncertainty", example="0.3 %"),
-    S("bore_diameter", "uncertainty", "orifice bore d (default 0.05 %)", table="uncertainty", section=_U,
-      option="--bore-diameter-uncertainty", example="0.05 %"),
-    S("pipe_diameter", "uncertainty", "pipe diameter D (default 0.4 %)", table="uncertainty", section=_U,
-      option="--pipe-diameter-uncertainty", example="0.4 %"),
-    S("coriolis_mass", "uncertainty", "Coriolis meter's mass (default 0.5 %)", table="uncertainty", section=_U,
-      option="--coriolis-mass-uncertainty", example="0.5 %"),
-    S("calibration", "uncertainty", "calibration of a meter with an error curve or meter factor (default 0.3 %)",
-      table="uncertainty", section=_U, option="--calibration-uncertainty", example="0.3 %"),
+    U("expansibility", "orifice expansibility factor (default 3.5 dp/(kappa p1) %, ISO 5167-2:2003 "
+      "5.3.3.2)", example="0.01 %"),
+    U("differential_pressure", "differential pressure transmitter (default 0.3 %)", example="0.3 %"),
+    U("bore_diameter", "orifice bore d (default 0.05 %)", example="0.05 %"),
+    U("pipe_diameter", "pipe diameter D (default 0.4 %)", example="0.4 %"),
+    U("coriolis_mass", "Coriolis meter's mass (default 0.5 %)", example="0.5 %"),
+    U("calibration", "calibration of a meter with an error curve or meter factor (default 0.3 %)", example="0.3 %"),
     S("meter_qt", "flow_rate", "transition flow rate Qt of the meter at line conditions", table="uncertainty",
       section=_U, option="--meter-qt", example="65 m3/h"),
     S("meter_qmax", "flow_rate", "maximum flow rate Qmax of the meter at line conditions", table="uncertainty",
